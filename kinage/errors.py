@@ -1,0 +1,86 @@
+"""Exception classes used across kinage.
+
+Every error that a user can cause with an input file is a :class:`InputError`
+(a ``ValueError``) whose message names the place (``[star] parallax_error``,
+``associations.ecsv row 4, column 'distance'``), what was expected and what was
+found.  The command line prints these as one line and exits with status 2.
+"""
+
+__all__ = [
+    "KinageError",
+    "InputError",
+    "ScenarioError",
+    "ModelRangeError",
+    "ConvergenceError",
+    "StageError",
+]
+
+
+class KinageError(Exception):
+    """Base class of all kinage errors."""
+
+
+class InputError(KinageError, ValueError):
+    """A bad value in a scenario, a table or a function argument.
+
+    Parameters
+    ----------
+    where : str
+        The field, e.g. ``"[star] parallax_error"``.
+    problem : str
+        What is wrong and what was expected, e.g.
+        ``"must be positive (got -0.3 mas)"``.
+    """
+
+    def __init__(self, where, problem):
+        self.where = where
+        self.problem = problem
+        super().__init__(f"{where}: {problem}" if where else problem)
+
+
+class ScenarioError(InputError):
+    """One or more problems found while validating an input file.
+
+    Parameters
+    ----------
+    problems : list of InputError
+        Every problem found; the message lists them one per line.
+    source : str, optional
+        The file that was read.
+    """
+
+    def __init__(self, problems, source=None):
+        self.problems = list(problems)
+        self.source = source
+        head = f"{source}: " if source else ""
+        lines = [str(p) for p in self.problems]
+        KinageError.__init__(self, head + ("\n" + " " * len(head)).join(lines))
+        self.where = source or ""
+        self.problem = "; ".join(lines)
+
+
+class ModelRangeError(InputError):
+    """A calibrated relation was called outside its declared validity range."""
+
+
+class ConvergenceError(KinageError, RuntimeError):
+    """An iterative fit did not converge.
+
+    Attributes
+    ----------
+    last_result : object or None
+        The last good solution, kept so the caller can inspect it.
+    """
+
+    def __init__(self, message, last_result=None):
+        super().__init__(message)
+        self.last_result = last_result
+
+
+class StageError(KinageError, RuntimeError):
+    """A pipeline stage failed; names the stage."""
+
+    def __init__(self, stage, cause):
+        self.stage = stage
+        self.cause = cause
+        super().__init__(f"stage '{stage}' failed: {cause}")

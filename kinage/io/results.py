@@ -1,0 +1,160 @@
+"""One way to write results: atomic files and JSON with provenance.
+
+Every file kinage writes goes through :func:`atomic_write`: the content is
+written to a temporary file in the target folder, flushed to disk and then
+renamed over the target, so an interrupted or failed run never leaves a
+half-written result behind.
+"""
+
+import contextlib
+import datetime
+import json
+import math
+import os
+import platform
+import tempfile
+from pathlib import Path
+
+import numpy as np
+
+from .._version import __version__
+
+__all__ = ["atomic_write", "atomic_path", "write_json", "provenance", "to_jsonable", "interval"]
+
+
+@contextlib.contextmanager
+def atomic_path(path):
+    """Context manager yielding a temporary path that replaces ``path`` on success.
+
+    Use for writers that want a file name (matplotlib, astropy tables)::
+
+        with atomic_path("fig.png") as tmp:
+            fig.savefig(tmp, format="png")
+    """
+    path = Path(path)
+    path.parent.mkdir(parents=True, exist_ok=True)
+    fd, tmp = tempfile.mkstemp(prefix=f".{path.name}.", suffix=".tmp", dir=path.parent)
+    os.close(fd)
+    try:
+        yield Path(tmp)
+        with open(tmp, "rb") as fh:
+            os.fsync(fh.fileno())
+        os.replace(tmp, path)
+    except BaseException:
+        with contextlib.suppress(FileNotFoundError):
+            os.unlink(tmp)
+        raise
+
+
+def atomic_write(path, data):
+    """Write ``data`` (str or bytes) to ``path`` atomically."""
+    mode = "w" if isinstance(data, str) else "wb"
+    with atomic_path(path) as tmp:
+        with open(tmp, mode, **({"encoding": "utf-8"} if mode == "w" else {})) as fh:
+            fh.write(data)
+    return Path(path)
+
+
+def to_jsonable(obj):
+    """Convert numpy scalars/arrays, Quantities, Paths, dataclasses to JSON data.
+
+    Non-finite floats become ``None`` (JSON has no NaN).
+    """
+    import astropy.units as u
+    from astropy.time import Time
+
+    if hasattr(obj, "to_dict") and callable(obj.to_dict):
+        return to_jsonable(obj.to_dict())
+    if isinstance(obj, dict):
+        return {str(k): to_jsonable(v) for k, v in obj.items()}
+    if isinstance(obj, (list, tuple)):
+        return [to_jsonable(v) for v in obj]
+    if isinstance(obj, u.Quantity):
+        return to_jsonable(obj.value)
+    if isinstance(obj, Time):
+        return obj.isot if obj.isscalar else list(obj.isot)
+    if isinstance(obj, np.ndarray):
+        return to_jsonable(obj.tolist())
+    if isinstance(obj, (np.bool_, bool)):
+        return bool(obj)
+    if isinstance(obj, (np.integer,)):
+        return int(obj)
+    if isinstance(obj, (float, np.floating)):
+        x = float(obj)
+        return x if math.isfinite(x) else None
+    if isinstance(obj, Path):
+        return str(obj)
+    return obj
+
+
+def interval(samples, weights=None):
+    """Median and 68% / 95% central intervals of 1-D samples.
+
+    Returns
+    -------
+    dict
+        ``median``, ``lo68``, ``hi68``, ``lo95``, ``hi95``, ``n`` (None values
+        when there are no finite samples).
+    """
+    x = np.asarray(samples, float)
+    x = x[np.isfinite(x)]
+    if x.size == 0:
+        return {"median": None, "lo68": None, "hi68": None, "lo95": None, "hi95": None, "n": 0}
+    q = np.percentile(x, [50, 15.865525393145708, 84.13447460685429, 2.2750131948179195, 97.72498680518208])
+    return {"median": float(q[0]), "lo68": float(q[1]), "hi68": float(q[2]),
+            "lo95": float(q[3]), "hi95": float(q[4]), "n": int(x.size)}
+
+
+def provenance(*, scenario=None, seed=None, parameter_sets=(), input_files=(), command=None):
+    """The provenance block recorded in every JSON result.
+
+    Parameters
+    ----------
+    scenario : Scenario, optional
+        Its input files are hashed.
+    seed : int or None
+    parameter_sets : iterable of ParameterSet
+        Recorded with their names and references.
+    input_files : iterable of path
+        Further files to hash.
+    command : str, optional
+        The command line verb.
+    """
+    from .scenario import file_sha256
+
+    files = list(scenario.input_files()) if scenario is not None else []
+    files += [Path(f) for f in input_files]
+    hashes = {}
+    for f in files:
+        if f is not None and Path(f).is_file():
+            hashes[str(f)] = file_sha256(f)
+    seen = {}
+    for p in parameter_sets:
+        if p is not None:
+            seen[(p.kind, p.name)] = p.summary()
+    return {
+        "kinage_version": __version__,
+        "command": command,
+        "seed": seed,
+        "created_utc": datetime.datetime.now(datetime.timezone.utc).isoformat(timespec="seconds"),
+        "python": platform.python_version(),
+        "parameter_sets": list(seen.values()),
+        "input_sha256": hashes,
+    }
+
+
+def write_json(path, payload, provenance_block=None):
+    """Write ``payload`` (plus ``provenance``) as pretty JSON, atomically.
+
+    Parameters
+    ----------
+    path : str or Path
+    payload : dict
+    provenance_block : dict, optional
+        From :func:`provenance`; stored under the key ``provenance``.
+    """
+    data = dict(to_jsonable(payload))
+    if provenance_block is not None:
+        data["provenance"] = to_jsonable(provenance_block)
+    text = json.dumps(data, indent=2, sort_keys=False, allow_nan=False) + "\n"
+    return atomic_write(path, text)

@@ -1,0 +1,145 @@
+"""The keys a scenario file may hold, with their default units and constraints.
+
+This table is the single definition of the scenario format: the reader
+validates against it, the documentation lists it (``kinage keys``), and
+stages read values from the parsed :class:`~kinage.io.scenario.Section`
+objects by these names.
+
+A key with ``error=True`` also accepts a sibling ``<key>_error`` in the same
+unit, which must be positive.
+"""
+
+from dataclasses import dataclass
+
+__all__ = ["Key", "SCHEMA", "TABLES"]
+
+
+@dataclass(frozen=True)
+class Key:
+    """One scenario key.
+
+    Attributes
+    ----------
+    name : str
+    kind : str
+        ``quantity`` (needs ``unit``), ``angle`` (ra / dec, sexagesimal
+        allowed), ``time``, ``times`` (list of epochs), ``int``, ``float``,
+        ``bool``, ``str``, ``path``, ``names`` (list of str), ``floats``
+        (list of numbers), ``pulse_shape``.
+    unit : str
+        Default unit of a quantity (a plain number is taken in it).
+    default : object
+        Value when the key is absent (``None``: absent).
+    error : bool
+        Whether a ``<name>_error`` sibling is allowed.
+    positive, nonnegative : bool
+        Sign constraints, checked after conversion.
+    lower, upper : float or None
+        Inclusive bounds in ``unit`` (for numbers: plain).
+    doc : str
+        One line for the key listing.
+    """
+
+    name: str
+    kind: str
+    unit: str = ""
+    default: object = None
+    error: bool = False
+    positive: bool = False
+    nonnegative: bool = False
+    lower: float | None = None
+    upper: float | None = None
+    doc: str = ""
+
+
+_STAR = [
+    Key("name", "str", default="star", doc="name used in reports and file names"),
+    Key("ra", "angle", "deg", error=True,
+        doc="right ascension (ICRS): degrees, '52.3 deg' or '03:29:12.3' (hours); ra_error is the error of ra*cos(dec) in mas"),
+    Key("dec", "angle", "deg", error=True, lower=-90, upper=90,
+        doc="declination (ICRS): degrees or '+12:34:56'; dec_error in mas"),
+    Key("epoch", "time", doc="reference epoch of position and proper motion (MJD TDB or ISO date); default: campaign middle or J2000"),
+    Key("parallax", "quantity", "mas", error=True, doc="parallax (may be negative when measured; error must be positive)"),
+    Key("distance", "quantity", "pc", error=True, positive=True, doc="distance, when no parallax is given"),
+    Key("pm_ra_cosdec", "quantity", "mas/yr", error=True, doc="proper motion in ra*cos(dec)"),
+    Key("pm_dec", "quantity", "mas/yr", error=True, doc="proper motion in dec"),
+    Key("pm_correlation", "float", default=0.0, lower=-1, upper=1, doc="correlation coefficient of the two proper-motion errors"),
+    Key("radial_velocity", "quantity", "km/s", error=True, doc="measured radial velocity (rare for neutron stars; otherwise drawn from a prior)"),
+    Key("transverse_velocity", "quantity", "km/s", positive=True, doc="expected transverse speed for the forecast; default: median of the velocity prior"),
+    Key("spin_period", "quantity", "s", error=True, positive=True, doc="spin period"),
+    Key("spin_period_derivative", "quantity", "s/s", error=True, doc="spin period derivative (dimensionless, s/s)"),
+    Key("temperature", "quantity", "K", error=True, positive=True, doc="redshifted surface temperature as seen at infinity (K, or eV as kT)"),
+    Key("luminosity", "quantity", "erg/s", error=True, positive=True, doc="redshifted bolometric thermal luminosity"),
+]
+
+_CAMPAIGN = [
+    Key("start", "time", doc="first visit (MJD TDB or ISO date)"),
+    Key("baseline", "quantity", "yr", positive=True, doc="time from the first to the last visit"),
+    Key("visits_per_year", "float", positive=True, doc="visits per year, evenly spaced"),
+    Key("dates", "times", doc="explicit visit dates instead of start/baseline/visits_per_year"),
+    Key("exposure", "quantity", "s", positive=True, doc="exposure per visit ('20 ks' works)"),
+    Key("sun_avoidance", "quantity", "deg", default=45.0, nonnegative=True, upper=180, doc="no visit while the source is closer than this to the Sun"),
+    Key("source_rate", "quantity", "1/s", positive=True, doc="source count rate (counts/s)"),
+    Key("background_rate", "quantity", "1/s", default=0.0, nonnegative=True, doc="background count rate in the source region (counts/s)"),
+    Key("pulsed_fraction", "float", lower=0, upper=1, doc="(max-min)/(max+min) of the source pulse, in (0, 1]"),
+    Key("pulse_shape", "pulse_shape", default="sinusoid",
+        doc="'sinusoid'; a list of harmonic amplitudes relative to the mean [a1, a2, ...]; or a path to a template table (phase, rate)"),
+    Key("toa_error", "quantity", "s", positive=True, doc="per-visit TOA error, instead of computing it from photons"),
+    Key("toas", "path", doc="TOA table to fit (ECSV or CSV with columns mjd, error)"),
+    Key("error_scale", "float", default=1.0, positive=True, doc="white-noise scale factor on TOA errors"),
+    Key("added_error", "quantity", "s", default=0.0, nonnegative=True, doc="white noise added in quadrature to TOA errors"),
+    Key("red_noise_amplitude", "float", default=0.0, nonnegative=True, doc="red (spin) noise amplitude A at f = 1/yr (dimensionless convention)"),
+    Key("red_noise_index", "float", default=4.0, positive=True, doc="spectral index gamma of the red-noise power law"),
+    Key("red_noise_modes", "int", default=30, positive=True, doc="number of Fourier frequencies of the red-noise basis"),
+    Key("spin_terms", "int", default=2, lower=1, upper=3, doc="spin terms fitted: 1 = frequency, 2 = + derivative, 3 = + second derivative (phase offset always)"),
+    Key("target_significance", "float", default=3.0, positive=True, doc="proper-motion significance the baseline search aims for"),
+    Key("max_baseline", "quantity", "yr", default=20.0, positive=True, doc="longest baseline the search considers"),
+    Key("target_pm_error", "quantity", "mas/yr", positive=True, doc="proper-motion error wanted; the forecast reports the TOA error and exposure needed"),
+    Key("prior_pm_ra_cosdec", "quantity", "mas/yr", error=True, doc="external proper-motion measurement to combine with timing"),
+    Key("prior_pm_dec", "quantity", "mas/yr", error=True, doc="external proper-motion measurement to combine with timing"),
+    Key("prior_parallax", "quantity", "mas", error=True, doc="external parallax measurement to combine with timing"),
+    Key("harmonics", "int", default=2, lower=1, upper=20, doc="number of harmonics n of the Z^2_n test"),
+]
+
+_TRACE = [
+    Key("associations", "path", doc="association table (ECSV or CSV)"),
+    Key("samples", "int", default=2000, positive=True, doc="Monte Carlo draws of the star"),
+    Key("association_samples", "int", default=200, positive=True, doc="Monte Carlo draws of each association"),
+    Key("max_age", "quantity", "Myr", default=10.0, positive=True, doc="how far back to integrate"),
+    Key("time_steps", "int", default=2001, lower=10, doc="number of output times on the backward grid"),
+    Key("seed", "int", nonnegative=True, doc="random seed (default: the command-line --seed, else 1)"),
+    Key("potential", "str", default="MWPotential2014", doc="Galactic potential parameter set, or 'none' for straight lines"),
+    Key("solar_parameters", "str", default="astropy-v4.0", doc="solar position and motion parameter set"),
+    Key("velocity_prior", "str", default="hobbs2005", doc="neutron-star space-velocity distribution for the unknown radial velocity"),
+    Key("distance_prior", "str", default="exponential", doc="distance prior used with a parallax"),
+    Key("distance_prior_scale", "quantity", "pc", positive=True, doc="length scale of the distance prior (default: the prior's own)"),
+    Key("encounter_radius_factor", "float", default=1.0, positive=True, doc="an encounter is d_min below this times the association radius"),
+    Key("age_tolerance", "quantity", "Myr", default=0.5, nonnegative=True, doc="an encounter may be this much older than the association's age"),
+    Key("control_runs", "int", default=10, nonnegative=True, doc="randomised control runs (proper-motion direction rotated) for the chance rate"),
+    Key("chunk_size", "int", default=20000, positive=True, doc="draws integrated at once (bounds memory)"),
+]
+
+_AGES = [
+    Key("braking_index", "float", default=3.0, error=True, doc="braking index n (> 1)"),
+    Key("initial_period", "quantity", "s", error=True, positive=True, doc="initial spin period P0 for the braking-index age"),
+    Key("moment_of_inertia", "quantity", "g cm2", default=1e45, positive=True, doc="moment of inertia for the spin-down luminosity"),
+    Key("kinematic_age", "quantity", "yr", error=True, positive=True, doc="kinematic age when no trace is run"),
+    Key("mass", "quantity", "solMass", default=1.4, positive=True, doc="neutron-star mass"),
+    Key("radius", "quantity", "km", default=12.0, positive=True, doc="neutron-star radius"),
+    Key("envelopes", "names", default=("iron", "accreted"), doc="envelope compositions for the cooling age"),
+    Key("masses", "floats", default=(1.2, 1.4, 1.6), doc="masses (solar) spanned by the cooling-age range"),
+    Key("cooling_model", "str", default="minimal", doc="cooling model parameter set"),
+    Key("hall_timescale", "quantity", "yr", positive=True, doc="Hall timescale for the Ohm + Hall decay model"),
+    Key("ohmic_timescale", "quantity", "yr", positive=True, doc="Ohmic timescale for the Ohm + Hall decay model"),
+    Key("samples", "int", default=4000, positive=True, doc="Monte Carlo draws for age uncertainties"),
+    Key("shklovskii", "bool", default=True, doc="correct Pdot for the Shklovskii effect when proper motion and distance are known"),
+]
+
+SCHEMA = {
+    "star": {k.name: k for k in _STAR},
+    "campaign": {k.name: k for k in _CAMPAIGN},
+    "trace": {k.name: k for k in _TRACE},
+    "ages": {k.name: k for k in _AGES},
+}
+TABLES = tuple(SCHEMA)
+TOP_LEVEL_KEYS = ("title", "description")

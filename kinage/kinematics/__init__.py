@@ -1,0 +1,1 @@
+"""Monte Carlo draws of a star's present phase space."""

@@ -1,0 +1,1 @@
+"""Results, figures and reports."""
