@@ -270,7 +270,7 @@ def _parse_section(table, raw, base_dir, problems):
         if key.error:
             values.setdefault(f"{key.name}_error", None)
     for name in list(given):
-        if name.endswith("_error") and name[: -len("_error")] not in given:
+        if name.endswith("_error") and name not in schema and name[: -len("_error")] not in given:
             problems.append(InputError(f"[{table}] {name}", f"given without '{name[:-6]}'"))
     return Section(table, values, given)
 

@@ -1,0 +1,171 @@
+"""The ``kinage`` command line.
+
+Each verb reads a scenario (or a table), runs one stage or all of them, prints a
+short summary and, with ``--json PATH``, writes the numbers with provenance.
+Input mistakes are printed as one-line errors with exit status 2; a failing
+stage exits with status 1 and names the stage.
+"""
+
+import argparse
+import sys
+import textwrap
+from pathlib import Path
+
+from ._version import __version__
+
+__all__ = ["main", "build_parser"]
+
+_EXAMPLES = {
+    "forecast": "kinage forecast star.toml --json forecast.json --out forecast/",
+    "simulate": "kinage simulate star.toml --output toas.ecsv --seed 7",
+    "fit": "kinage fit toas.ecsv --scenario star.toml --json fit.json --out fit/",
+    "trace": "kinage trace star.toml --samples 5000 --json trace.json --out trace/",
+    "ages": "kinage ages star.toml --trace-json trace.json --json ages.json --out ages/",
+    "run": "kinage run star.toml --out results/",
+    "demo": "kinage demo --out kinage-demo/",
+    "batch": "kinage batch stars.ecsv --scenario template.toml --out population/ --workers 2",
+    "keys": "kinage keys trace",
+    "parameter-sets": "kinage parameter-sets velocity_prior",
+}
+
+_HELP = {
+    "forecast": "predict how well a timing campaign measures position, proper motion and parallax",
+    "simulate": "draw a table of pulse arrival times (TOAs) for the campaign, with noise",
+    "fit": "fit a TOA table for position, proper motion and parallax",
+    "trace": "trace the star and candidate birth associations back in time",
+    "ages": "compare kinematic, spin-down and cooling ages",
+    "run": "run every stage the scenario asks for and write a report",
+    "demo": "copy the bundled invented scenario to a folder and run it end to end",
+    "batch": "run many stars from a table with one scenario template",
+    "keys": "list the scenario keys of a table with units and defaults",
+    "parameter-sets": "list the named parameter sets and their references",
+}
+
+
+def _common(p, *, json=True, out=True, seed=True):
+    g = p.add_argument_group("common options")
+    if json:
+        g.add_argument("--json", metavar="PATH", type=Path, help="write the numbers (with provenance) to this JSON file")
+    if out:
+        g.add_argument("--out", metavar="DIR", type=Path, help="folder for tables and figures")
+    if seed:
+        g.add_argument("--seed", type=int, metavar="N", help="random seed (overrides the scenario's)")
+    g.add_argument("--quiet", action="store_true", help="no progress display, only errors")
+    g.add_argument("--debug", action="store_true", help="show the full traceback of an unexpected error")
+
+
+def build_parser():
+    """The argument parser with all verbs."""
+    parser = argparse.ArgumentParser(
+        prog="kinage",
+        description=textwrap.dedent("""\
+            Timing astrometry, birthplace tracing and age comparison for isolated neutron stars.
+            A scenario file (TOML) describes the star and what to do; each verb runs one stage."""),
+        epilog="examples:\n" + "\n".join(f"  {v:<15} {e}" for v, e in _EXAMPLES.items()),
+        formatter_class=argparse.RawDescriptionHelpFormatter,
+    )
+    parser.add_argument("--version", action="version", version=f"kinage {__version__}")
+    sub = parser.add_subparsers(dest="verb", metavar="VERB")
+
+    def verb(name, **kw):
+        return sub.add_parser(name, help=_HELP[name], description=_HELP[name].capitalize() + ".",
+                              epilog=f"example:\n  {_EXAMPLES[name]}",
+                              formatter_class=argparse.RawDescriptionHelpFormatter, **kw)
+
+    p = verb("forecast")
+    p.add_argument("scenario", type=Path, help="scenario file with [star] and [campaign]")
+    _common(p, seed=False)
+
+    p = verb("simulate")
+    p.add_argument("scenario", type=Path, help="scenario file with [star] and [campaign]")
+    p.add_argument("--output", "-o", type=Path, required=True, metavar="TOAS", help="TOA table to write (ECSV)")
+    _common(p, out=False)
+
+    p = verb("fit")
+    p.add_argument("toas", type=Path, help="TOA table (ECSV or CSV with columns mjd, error)")
+    p.add_argument("--scenario", type=Path, required=True, help="scenario with the star's starting values")
+    _common(p, seed=False)
+
+    p = verb("trace")
+    p.add_argument("scenario", type=Path, help="scenario file with [star] and [trace]")
+    p.add_argument("--samples", type=int, metavar="N", help="Monte Carlo draws of the star (overrides [trace] samples)")
+    p.add_argument("--potential", metavar="NAME", help="Galactic potential parameter set, or 'none' for straight lines")
+    _common(p)
+
+    p = verb("ages")
+    p.add_argument("scenario", type=Path, help="scenario file with [star] (spin, temperature) and [ages]")
+    p.add_argument("--trace-json", type=Path, metavar="PATH",
+                   help="kinematic age from a 'kinage trace' JSON result instead of [ages] kinematic_age")
+    _common(p)
+
+    p = verb("run")
+    p.add_argument("scenario", type=Path, help="scenario file")
+    p.add_argument("--samples", type=int, metavar="N", help="Monte Carlo draws of the star for tracing")
+    _common(p)
+
+    p = verb("demo")
+    p.add_argument("--samples", type=int, metavar="N", help="Monte Carlo draws of the star (default: the demo's)")
+    _common(p)
+
+    p = verb("batch")
+    p.add_argument("stars", type=Path, help="table of stars, one row each (ECSV or CSV; columns named like [star] keys)")
+    p.add_argument("--scenario", type=Path, required=True, help="template scenario: campaign, trace and ages settings")
+    p.add_argument("--scheduler", metavar="ADDRESS", help="dask scheduler address (default: local processes)")
+    p.add_argument("--workers", type=int, default=2, metavar="N", help="local worker processes (default 2)")
+    p.add_argument("--force", action="store_true", help="redo stars whose results exist")
+    p.add_argument("--samples", type=int, metavar="N", help="Monte Carlo draws per star (overrides the template)")
+    _common(p)
+
+    p = verb("keys")
+    p.add_argument("table", nargs="?", choices=["star", "campaign", "trace", "ages"], help="one table (default: all)")
+
+    p = verb("parameter-sets")
+    p.add_argument("kind", nargs="?", help="one kind (default: all)")
+    return parser
+
+
+def main(argv=None):
+    """Entry point of the ``kinage`` command; returns the exit status."""
+    parser = build_parser()
+    args = parser.parse_args(argv)
+    if not args.verb:
+        parser.print_help()
+        return 0
+    from .errors import ConvergenceError, InputError, KinageError, StageError
+    from .progress import set_quiet
+
+    set_quiet(getattr(args, "quiet", False) or not sys.stderr.isatty())
+    from . import commands
+
+    try:
+        return getattr(commands, "cmd_" + args.verb.replace("-", "_"))(args) or 0
+    except InputError as exc:
+        for line in _problem_lines(exc):
+            print(f"kinage {args.verb}: error: {line}", file=sys.stderr)
+        return 2
+    except (ConvergenceError, StageError, KinageError) as exc:
+        print(f"kinage {args.verb}: failed: {exc}", file=sys.stderr)
+        return 1
+    except KeyboardInterrupt:
+        print(f"kinage {args.verb}: interrupted; finished files are complete, nothing half-written was kept",
+              file=sys.stderr)
+        return 130
+    except Exception as exc:  # noqa: BLE001
+        if getattr(args, "debug", False):
+            raise
+        print(f"kinage {args.verb}: unexpected error ({type(exc).__name__}: {exc}); "
+              "rerun with --debug for the traceback and please report it", file=sys.stderr)
+        return 1
+
+
+def _problem_lines(exc):
+    """One line per problem, each naming the file (if any) and the field."""
+    problems = getattr(exc, "problems", None)
+    if not problems:
+        return [" ".join(str(exc).split())]
+    head = f"{exc.source}: " if getattr(exc, "source", None) else ""
+    return [head + " ".join(str(p).split()) for p in problems]
+
+
+if __name__ == "__main__":  # pragma: no cover
+    sys.exit(main())

@@ -1,0 +1,220 @@
+"""What each command-line verb does (argument parsing lives in :mod:`kinage.cli`)."""
+
+import json
+import shutil
+import sys
+import time
+from pathlib import Path
+
+from .errors import InputError
+from .io.results import provenance, write_json
+from .io.scenario import load_scenario
+
+__all__ = [
+    "cmd_forecast", "cmd_simulate", "cmd_fit", "cmd_trace", "cmd_ages", "cmd_run", "cmd_demo",
+    "cmd_batch", "cmd_keys", "cmd_parameter_sets", "demo_folder",
+]
+
+
+def _say(args, text):
+    if not getattr(args, "quiet", False):
+        print(text)
+
+
+def _require_table(scenario, table, verb):
+    if getattr(scenario, table) is None:
+        raise InputError(f"[{table}]", f"'kinage {verb}' needs a [{table}] table in the scenario")
+
+
+def _finish(args, result, scenario, verb, seed=None, extra_files=()):
+    """Shared tail of the single-stage verbs: products, JSON, summary."""
+    if getattr(args, "out", None):
+        files = result.write_products(args.out)
+        _say(args, f"wrote {len(files)} files to {args.out}")
+    if getattr(args, "json", None):
+        prov = provenance(scenario=scenario, seed=seed, parameter_sets=getattr(result, "parameter_sets", []),
+                          input_files=extra_files, command=verb)
+        write_json(args.json, result.to_dict(), prov)
+        _say(args, f"wrote {args.json}")
+    _say(args, result.summary())
+    return 0
+
+
+def _progress(args):
+    return not getattr(args, "quiet", False)
+
+
+def cmd_forecast(args):
+    from .timing import forecast
+
+    scenario = load_scenario(args.scenario)
+    _require_table(scenario, "campaign", "forecast")
+    return _finish(args, forecast(scenario, progress=_progress(args)), scenario, "forecast")
+
+
+def cmd_simulate(args):
+    from .pipeline import scenario_seed, stage_seed
+    from .timing import simulate_toas
+
+    scenario = load_scenario(args.scenario)
+    _require_table(scenario, "campaign", "simulate")
+    seed = scenario_seed(scenario, args.seed)
+    result = simulate_toas(scenario, rng=stage_seed(seed, "simulate"))
+    result.write(args.output)
+    _say(args, f"wrote {len(result.table)} TOAs to {args.output}")
+    if args.json:
+        write_json(args.json, result.to_dict(), provenance(scenario=scenario, seed=seed, command="simulate"))
+        _say(args, f"wrote {args.json}")
+    return 0
+
+
+def cmd_fit(args):
+    from .timing import fit_toas, read_toas
+
+    scenario = load_scenario(args.scenario)
+    toas = read_toas(args.toas)
+    result = fit_toas(toas, scenario)
+    return _finish(args, result, scenario, "fit", extra_files=[args.toas])
+
+
+def cmd_trace(args):
+    from .orbits import trace
+    from .pipeline import scenario_seed, solution_for_trace, stage_seed
+
+    scenario = load_scenario(args.scenario)
+    _require_table(scenario, "trace", "trace")
+    if args.samples is not None and args.samples < 1:
+        raise InputError("--samples", f"must be a positive whole number (got {args.samples})")
+    seed = scenario_seed(scenario, args.seed)
+    result = trace(scenario, solution=solution_for_trace(scenario), rng=stage_seed(seed, "trace"),
+                   samples=args.samples, potential=args.potential, progress=_progress(args))
+    return _finish(args, result, scenario, "trace", seed=seed)
+
+
+def cmd_ages(args):
+    import numpy as np
+
+    from .ages import compare_ages
+    from .pipeline import kinematic_age_input, scenario_seed, stage_seed
+
+    scenario = load_scenario(args.scenario)
+    seed = scenario_seed(scenario, args.seed)
+    samples, label = kinematic_age_input(scenario)
+    extra = []
+    if args.trace_json:
+        samples, label = _ages_from_trace_json(args.trace_json)
+        extra.append(args.trace_json)
+    result = compare_ages(scenario, kinematic_age_samples=None if samples is None else np.asarray(samples),
+                          kinematic_age_source=label, rng=stage_seed(seed, "ages"))
+    return _finish(args, result, scenario, "ages", seed=seed, extra_files=extra)
+
+
+def _ages_from_trace_json(path):
+    """Kinematic-age samples from a trace JSON (its favoured association's encounter ages)."""
+    import numpy as np
+
+    try:
+        data = json.loads(Path(path).read_text())
+    except (OSError, ValueError) as exc:
+        raise InputError("--trace-json", f"cannot read a JSON trace result from {path} ({exc})") from None
+    assocs = data.get("associations") or []
+    fav = data.get("favoured")
+    best = next((a for a in assocs if a.get("name") == fav), None)
+    if best is None:
+        raise InputError("--trace-json", f"{path} names no favoured association, so it gives no kinematic age")
+    samples = best.get("age_samples_yr")
+    if samples:
+        return np.asarray(samples, float), f"trace JSON: association {fav}"
+    age = best.get("age_yr") or {}
+    if age.get("median") is None:
+        raise InputError("--trace-json", f"{path}: association {fav} has no age")
+    # rebuild a two-sided normal from the 68% interval when the samples were not stored
+    rng = np.random.default_rng(0)
+    med, lo, hi = age["median"], age["lo68"], age["hi68"]
+    z = rng.normal(size=4000)
+    return np.where(z < 0, med + z * (med - lo), med + z * (hi - med)), f"trace JSON: association {fav}"
+
+
+def cmd_run(args):
+    from .pipeline import run_pipeline
+
+    scenario = load_scenario(args.scenario)
+    out = args.out or Path(args.scenario).with_suffix("").name + "-results"
+    return _run_and_report(args, scenario, Path(out))
+
+
+def _run_and_report(args, scenario, out):
+    from .pipeline import run_pipeline
+
+    t0 = time.perf_counter()
+    run = run_pipeline(scenario, out, seed=args.seed, samples=getattr(args, "samples", None),
+                       progress=_progress(args), log=lambda line: _say(args, line))
+    if getattr(args, "json", None):
+        run.write_json(args.json)
+    _say(args, f"finished in {time.perf_counter() - t0:.1f} s; report: {Path(out) / 'report.html'}")
+    if run.failed:
+        stage, msg = next(iter(run.failed.items()))
+        print(f"kinage: stage '{stage}' failed: {msg}; earlier stages' results are in {out}", file=sys.stderr)
+        return 1
+    return 0
+
+
+def demo_folder():
+    """The bundled demo data folder (``data_demo/`` beside the package)."""
+    here = Path(__file__).resolve().parent
+    for cand in (here.parent / "data_demo", here / "data_demo"):
+        if (cand / "scenario.toml").is_file():
+            return cand
+    raise InputError("demo", "the bundled demo data (data_demo/scenario.toml) was not found; "
+                     "install kinage from its source folder (pip install -e .)")
+
+
+def cmd_demo(args):
+    src = demo_folder()
+    out = Path(args.out or "kinage-demo")
+    out.mkdir(parents=True, exist_ok=True)
+    for f in src.iterdir():
+        if f.is_file() and f.suffix in (".toml", ".ecsv", ".csv", ".md"):
+            shutil.copy2(f, out / f.name)
+    _say(args, f"copied the invented demo scenario to {out}/")
+    scenario = load_scenario(out / "scenario.toml")
+    return _run_and_report(args, scenario, out / "results")
+
+
+def cmd_batch(args):
+    from .batch import run_batch
+
+    return run_batch(args)
+
+
+def cmd_keys(args):
+    from .io.schema import SCHEMA
+
+    for table, keys in SCHEMA.items():
+        if args.table and table != args.table:
+            continue
+        print(f"[{table}]")
+        for k in keys.values():
+            unit = f" [{k.unit}]" if k.unit else ""
+            default = "" if k.default is None else f" (default {k.default})"
+            err = " (+ _error)" if k.error else ""
+            print(f"  {k.name}{unit}{err}{default}: {k.doc}")
+        print()
+    return 0
+
+
+def cmd_parameter_sets(args):
+    from .params import KINDS, available, get
+
+    kinds = [args.kind] if args.kind else list(KINDS)
+    for kind in kinds:
+        if kind not in KINDS:
+            raise InputError("kind", f"expected one of {', '.join(KINDS)} (got {kind!r})")
+        print(f"{kind}:")
+        for name in available(kind):
+            p = get(kind, name)
+            print(f"  {p.name}: {p.description}")
+            for ref in p.references:
+                print(f"      - {ref}")
+        print()
+    return 0

@@ -1,0 +1,226 @@
+"""Run the stages a scenario asks for, passing results from stage to stage.
+
+scenario -> timing (forecast, or fit when a TOA table is given) -> astrometric
+solution -> trace (Monte Carlo draws, orbits, encounters) -> ages -> report.
+
+Results travel between stages as objects; ``results.json`` is rewritten
+(atomically) after every stage, so a failure in a late stage keeps the earlier
+stages' numbers on disk and names the stage that failed.
+"""
+
+import warnings
+from dataclasses import dataclass, field
+from pathlib import Path
+
+import numpy as np
+
+from .astrometry import AstrometricSolution
+from .errors import ConvergenceError, InputError, StageError
+from .io.results import provenance, write_json
+
+__all__ = ["plan_stages", "run_pipeline", "RunResult", "DEFAULT_SEED", "stage_seed", "solution_for_trace",
+           "kinematic_age_input"]
+
+DEFAULT_SEED = 1
+_STAGE_OFFSET = {"simulate": 11, "trace": 0, "ages": 3}
+
+
+def stage_seed(seed, stage):
+    """A per-stage seed derived from the run seed (stages get independent streams)."""
+    if stage == "trace":
+        return int(seed)
+    return int(np.random.SeedSequence([int(seed), _STAGE_OFFSET[stage]]).generate_state(1)[0])
+
+
+def plan_stages(scenario):
+    """The stages the scenario's tables ask for, in order.
+
+    ``[campaign]`` -> ``forecast`` (or ``fit`` when it names a ``toas`` table);
+    ``[trace]`` -> ``trace``; ``[ages]`` -> ``ages``.
+    """
+    stages = []
+    if scenario.campaign is not None:
+        stages.append("fit" if scenario.campaign.get("toas") is not None else "forecast")
+    if scenario.trace is not None:
+        stages.append("trace")
+    if scenario.ages is not None:
+        stages.append("ages")
+    return stages
+
+
+def solution_for_trace(scenario, fit_result=None):
+    """The astrometry tracing uses: the timing fit where it measured a parameter,
+    the values typed into ``[star]`` for the rest."""
+    typed = AstrometricSolution.from_star(scenario.star)
+    if fit_result is None:
+        return typed
+    sol = fit_result.solution
+    vals = sol.values.copy()
+    cov = sol.covariance.copy()
+    for i in range(5):
+        if not (np.isfinite(vals[i]) and np.isfinite(cov[i, i])) and np.isfinite(typed.values[i]):
+            vals[i] = typed.values[i]
+            cov[i, :] = 0.0
+            cov[:, i] = 0.0
+            cov[i, i] = typed.covariance[i, i]
+    return AstrometricSolution(sol.epoch, sol.ra_deg, sol.dec_deg, vals, np.nan_to_num(cov),
+                               source=sol.source + "+scenario")
+
+
+def kinematic_age_input(scenario, trace_result=None):
+    """Kinematic-age samples (yr) and a label for the ages stage.
+
+    The favoured association's encounter times from a trace, else the scenario's
+    ``[ages] kinematic_age``, else the plane-crossing age from the trace, else
+    ``(None, None)``.
+    """
+    if trace_result is not None:
+        samples = np.asarray(trace_result.kinematic_age_samples(), float)
+        if samples.size:
+            best = trace_result.to_dict().get("favoured")
+            return samples, f"trace: encounters with association {best}"
+    if scenario.ages is not None and scenario.ages.get("kinematic_age") is not None:
+        return None, "scenario: [ages] kinematic_age"
+    if trace_result is not None and hasattr(trace_result, "plane_crossing_age_samples"):
+        samples = np.asarray(trace_result.plane_crossing_age_samples(), float)
+        samples = samples[np.isfinite(samples)]
+        if samples.size:
+            return samples, "trace: time since the last Galactic-plane crossing (no association favoured)"
+    return None, None
+
+
+@dataclass
+class RunResult:
+    """What ``run_pipeline`` produced.
+
+    Attributes
+    ----------
+    stages : dict
+        Stage name -> result object (stage-result protocol).
+    failed : dict
+        Stage name -> message for stages that failed.
+    files : list of Path
+        Everything written.
+    """
+
+    scenario: object
+    out_dir: Path
+    seed: int
+    planned: list
+    stages: dict = field(default_factory=dict)
+    failed: dict = field(default_factory=dict)
+    files: list = field(default_factory=list)
+
+    def parameter_sets(self):
+        out = []
+        for r in self.stages.values():
+            out.extend(getattr(r, "parameter_sets", []) or [])
+        return out
+
+    def to_dict(self):
+        d = {
+            "title": self.scenario.title or self.scenario.star.get("name"),
+            "star": self.scenario.star.get("name"),
+            "stages_planned": list(self.planned),
+            "stages_completed": list(self.stages),
+            "failed_stage": next(iter(self.failed), None),
+            "failures": dict(self.failed),
+            "summary": {name: r.summary() for name, r in self.stages.items()},
+        }
+        for name, r in self.stages.items():
+            d[name] = r.to_dict()
+        return d
+
+    def write_json(self, path):
+        prov = provenance(scenario=self.scenario, seed=self.seed, parameter_sets=self.parameter_sets(),
+                          command="run")
+        return write_json(path, self.to_dict(), prov)
+
+
+def run_stage(name, scenario, done, *, seed, samples=None, progress=False):
+    """Run one stage given the results of earlier ones (``done``: name -> result)."""
+    if name == "forecast":
+        from .timing import forecast
+
+        return forecast(scenario, progress=progress)
+    if name == "fit":
+        from .timing import fit_toas
+
+        return fit_toas(scenario.campaign.toas, scenario)
+    if name == "trace":
+        from .orbits import trace
+
+        sol = solution_for_trace(scenario, done.get("fit"))
+        return trace(scenario, solution=sol, rng=stage_seed(seed, "trace"), samples=samples, progress=progress)
+    if name == "ages":
+        from .ages import compare_ages
+
+        samples_k, label = kinematic_age_input(scenario, done.get("trace"))
+        return compare_ages(scenario, kinematic_age_samples=samples_k, kinematic_age_source=label,
+                            rng=stage_seed(seed, "ages"))
+    raise ValueError(f"unknown stage {name!r}")
+
+
+def scenario_seed(scenario, seed=None):
+    """The run seed: the command line's, else ``[trace] seed``, else :data:`DEFAULT_SEED`."""
+    if seed is not None:
+        return int(seed)
+    if scenario.trace is not None and scenario.trace.get("seed") is not None:
+        return int(scenario.trace.seed)
+    return DEFAULT_SEED
+
+
+def run_pipeline(scenario, out_dir, *, seed=None, samples=None, progress=False, report=True, log=None):
+    """Run every stage the scenario asks for and write results, figures and a report.
+
+    Parameters
+    ----------
+    scenario : Scenario
+    out_dir : str or Path
+        Created if needed.
+    seed : int, optional
+        Overrides ``[trace] seed``.
+    samples : int, optional
+        Overrides ``[trace] samples``.
+    progress : bool
+        Show progress bars.
+    report : bool
+        Write ``report.html`` and ``report.md``.
+    log : callable, optional
+        Called with one line of text per stage.
+
+    Returns
+    -------
+    RunResult
+        ``failed`` names a stage that raised; the stages before it are complete
+        and on disk.
+    """
+    log = log or (lambda line: None)
+    out_dir = Path(out_dir)
+    out_dir.mkdir(parents=True, exist_ok=True)
+    seed = scenario_seed(scenario, seed)
+    run = RunResult(scenario, out_dir, seed, plan_stages(scenario))
+    json_path = out_dir / "results.json"
+    for name in run.planned:
+        log(f"stage {name} ...")
+        try:
+            with warnings.catch_warnings():
+                warnings.simplefilter("ignore", category=RuntimeWarning)
+                result = run_stage(name, scenario, run.stages, seed=seed, samples=samples, progress=progress)
+        except (InputError, ConvergenceError, StageError, Exception) as exc:  # noqa: BLE001
+            run.failed[name] = f"{type(exc).__name__}: {exc}"
+            log(f"stage {name} failed: {exc}")
+            run.files.append(run.write_json(json_path))
+            break
+        run.stages[name] = result
+        stage_dir = out_dir / name
+        run.files.extend(result.write_products(stage_dir))
+        run.files.append(run.write_json(json_path))
+        log(f"stage {name} done: {result.summary()}")
+    if not run.planned:
+        run.files.append(run.write_json(json_path))
+    if report:
+        from .report.document import write_reports
+
+        run.files.extend(write_reports(run, out_dir))
+    return run
