@@ -189,7 +189,7 @@ def ohm_hall_timescale(t_yr, tau_c_yr, *, ohmic_timescale_yr=None, hall_timescal
         hi = np.broadcast_to(np.log(t) + np.log(1e8), shape).astype(float)
         f_lo = apparent(lo) - tc  # short timescale: strong decay, large tau_c
         f_hi = apparent(hi) - tc
-        ok = np.isfinite(f_lo) & np.isfinite(f_hi) & (f_lo > 0) & (f_hi < 0)
+        ok = ~np.isnan(f_lo) & np.isfinite(f_hi) & (f_lo > 0) & (f_hi < 0)
         for _ in range(iterations):
             mid = 0.5 * (lo + hi)
             f_mid = apparent(mid) - tc

@@ -99,3 +99,4 @@ _builtin(ParameterSet(
     references=("Bailer-Jones 2015, PASP 127, 994 (uniform space density, r^2 up to r_lim)",),
     description="uniform space density, r^2 up to r_max = 5 kpc",
 ))
+from . import cooling  # noqa: E402,F401

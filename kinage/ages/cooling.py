@@ -1,0 +1,330 @@
+"""Isothermal-core cooling of a neutron star: cooling curves T_inf(t), L_inf(t).
+
+After ~100 yr the core of a neutron star is isothermal (Yakovlev & Pethick
+2004, ARA&A 42, 169, sec. 4), and its redshifted internal temperature T
+obeys one ordinary differential equation:
+
+    C(T) dT/dt = -L_nu(T) - L_gamma(T) + H(t),
+
+with heat capacity C = C0 s_C T9, neutrino luminosity
+L_nu = L_MU s_L T9^8 (modified Urca) + L_DU f(M) T9^6 (direct Urca, when the
+model has it and the mass is above its threshold), photon luminosity
+L_gamma = 4 pi sigma R^2 Ts^4 (1 - rg/R) through an envelope relation
+Ts(Tb, g) (:mod:`.envelope`) with Tb = T / sqrt(1 - rg/R), and optional
+heating H from field decay.  All luminosities are redshifted (as seen at
+infinity), T9 = T / 1e9 K.  Coefficients come from a ``cooling_model``
+parameter set (:mod:`kinage.params.cooling`, where their sources are cited);
+s_C = (M/M_ref)(rho/rho_ref)^(-2/3) and s_L = (M/M_ref)(rho/rho_ref)^(-1/3)
+scale them to other masses and radii (mean density rho ~ M/R^3).
+
+The equation is solved in log-time, y = ln T against x = ln t, with
+:func:`scipy.integrate.solve_ivp` (LSODA, stiff-capable), starting at the
+model's ``t_start_yr`` from the temperature an arbitrarily hot star reaches
+by then under neutrino cooling alone (photon losses are negligible then).
+Observed quantities: T_inf = Ts sqrt(1 - rg/R), L_inf = 4 pi sigma R^2 Ts^4 (1 - rg/R).
+"""
+
+from dataclasses import dataclass, field
+from functools import lru_cache
+
+import numpy as np
+from scipy.integrate import quad, solve_ivp
+from scipy.optimize import brentq
+
+from ..errors import InputError, ModelRangeError
+from ..params import ParameterSet, get
+from .envelope import ENVELOPES, TB_MAX_K, TB_MIN_K, TS_MIN_K, star_structure
+from .spindown import SECONDS_PER_YEAR
+
+__all__ = ["CoolingModel", "CoolingCurve", "cooling_curve", "field_decay_heating", "default_times"]
+
+_SIGMA_SB = 5.670374419e-5  # erg cm^-2 s^-1 K^-4
+
+
+def default_times(model=None, n=301):
+    """Log-spaced grid from the model's start to end time, in yr."""
+    m = CoolingModel.resolve(model)
+    return np.geomspace(m.t_start_yr, m.t_end_yr, n)
+
+
+@dataclass(frozen=True)
+class CoolingModel:
+    """Cooling-model coefficients read from a ``cooling_model`` parameter set.
+
+    Attributes
+    ----------
+    name : str
+    heat_capacity_erg_K, modified_urca_erg_s, direct_urca_erg_s : float
+        Coefficients for the reference star (see :mod:`kinage.params.cooling`).
+    direct_urca_threshold_msun, direct_urca_width_msun : float
+    reference_mass_msun, reference_radius_km : float
+    t_start_yr, t_end_yr : float
+    parameter_set : ParameterSet
+    """
+
+    name: str
+    heat_capacity_erg_K: float
+    modified_urca_erg_s: float
+    direct_urca_erg_s: float
+    direct_urca_threshold_msun: float
+    direct_urca_width_msun: float
+    reference_mass_msun: float
+    reference_radius_km: float
+    t_start_yr: float
+    t_end_yr: float
+    parameter_set: ParameterSet = field(repr=False, compare=False, default=None)
+
+    @classmethod
+    def resolve(cls, model, where="[ages] cooling_model"):
+        """A CoolingModel from a name, a ParameterSet or a CoolingModel (None: 'minimal')."""
+        if isinstance(model, CoolingModel):
+            return model
+        if model is None:
+            model = "minimal"
+        pset = model if isinstance(model, ParameterSet) else get("cooling_model", model, where)
+        if pset.kind != "cooling_model":
+            raise InputError(where, f"expected a cooling_model parameter set (got kind {pset.kind!r})")
+        names = [f for f in cls.__dataclass_fields__ if f not in ("name", "parameter_set")]
+        missing = [k for k in names if k not in pset.values]
+        if missing:
+            raise InputError(where, f"cooling model '{pset.name}' lacks values: {', '.join(missing)}")
+        return cls(name=pset.name, parameter_set=pset, **{k: float(pset.values[k]) for k in names})
+
+    def key(self):
+        """Hashable identity of the coefficients (for caching)."""
+        return tuple(getattr(self, f) for f in self.__dataclass_fields__ if f != "parameter_set")
+
+    def coefficients(self, mass_msun, radius_km):
+        """(C0 [erg/K], L_MU [erg/s], L_DU [erg/s]) scaled to a star of given mass and radius."""
+        mr = mass_msun / self.reference_mass_msun
+        rho = mr * (self.reference_radius_km / radius_km) ** 3
+        c0 = self.heat_capacity_erg_K * mr * rho ** (-2.0 / 3.0)
+        lmu = self.modified_urca_erg_s * mr * rho ** (-1.0 / 3.0)
+        frac = 0.0
+        if self.direct_urca_erg_s > 0:
+            frac = float(np.clip((mass_msun - self.direct_urca_threshold_msun) / self.direct_urca_width_msun, 0, 1))
+        return c0, lmu, self.direct_urca_erg_s * frac
+
+
+def field_decay_heating(b0_gauss, decay_timescale_yr, radius_km=12.0, efficiency=1.0):
+    """Heating rate from exponential field decay, as a function of time.
+
+    The field energy E_B = (B^2 / 8 pi)(4 pi R^3 / 3) = B^2 R^3 / 6 (a uniform
+    internal field: an order-of-magnitude estimate, common practice, no
+    source) decays as exp(-2 t / tau_d) and a fraction ``efficiency`` heats
+    the core: H = efficiency B0^2 R^3 / (3 tau_d) exp(-2 t / tau_d).
+
+    Parameters
+    ----------
+    b0_gauss : float, G
+        Initial field.
+    decay_timescale_yr : float, yr
+    radius_km : float, km
+    efficiency : float
+        Fraction of the released energy that heats the core, in [0, 1].
+
+    Returns
+    -------
+    callable
+        H(t_yr) in erg/s.
+    """
+    if not 0 <= efficiency <= 1:
+        raise InputError("heating efficiency", f"must be in [0, 1] (got {efficiency})")
+    if not decay_timescale_yr > 0:
+        raise InputError("heating decay_timescale_yr", f"must be positive (got {decay_timescale_yr})")
+    r_cm = radius_km * 1e5
+    tau_s = decay_timescale_yr * SECONDS_PER_YEAR
+    amp = efficiency * b0_gauss**2 * r_cm**3 / (3.0 * tau_s)
+
+    def heating(t_yr):
+        return amp * np.exp(-2.0 * np.asarray(t_yr, float) / decay_timescale_yr)
+
+    heating.description = f"field decay B0 = {b0_gauss:.3g} G, tau_d = {decay_timescale_yr:.3g} yr, efficiency {efficiency}"
+    return heating
+
+
+@dataclass
+class CoolingCurve:
+    """A cooling curve.
+
+    Attributes
+    ----------
+    t_yr : ndarray, yr
+    T_inf_K : ndarray, K
+        Redshifted effective temperature (``nan`` where the envelope relation
+        is outside its validity range).
+    L_inf_erg_s : ndarray, erg/s
+        Redshifted photon luminosity (``nan`` where invalid).
+    T_core_K : ndarray, K
+        Redshifted isothermal internal temperature.
+    L_nu_erg_s : ndarray, erg/s
+        Neutrino luminosity.
+    valid : ndarray of bool
+    mass_msun, radius_km : float
+    envelope, model : str
+    """
+
+    t_yr: np.ndarray
+    T_inf_K: np.ndarray
+    L_inf_erg_s: np.ndarray
+    T_core_K: np.ndarray
+    L_nu_erg_s: np.ndarray
+    valid: np.ndarray
+    mass_msun: float
+    radius_km: float
+    envelope: str
+    model: str
+
+    @property
+    def label(self):
+        """Short label, e.g. ``'iron, 1.4 Msun'``."""
+        return f"{self.envelope}, {self.mass_msun:g} Msun"
+
+    def _invert(self, y, target):
+        ok = self.valid & np.isfinite(y)
+        if ok.sum() < 2:
+            return np.full(np.shape(target), np.nan)
+        ly = np.log(y[ok])
+        lt = np.log(self.t_yr[ok])
+        ly = np.minimum.accumulate(ly)  # enforce a non-increasing curve for interpolation
+        order = np.argsort(ly, kind="stable")
+        lyo, lto = ly[order], lt[order]
+        keep = np.concatenate(([True], np.diff(lyo) > 0))
+        lyo, lto = lyo[keep], lto[keep]
+        tgt = np.log(np.asarray(target, float))
+        out = np.exp(np.interp(tgt, lyo, lto, left=np.nan, right=np.nan))
+        return out
+
+    def age_at_temperature(self, T_inf_K):
+        """Age(s) in yr at which the curve has the given redshifted temperature(s); nan outside."""
+        return self._invert(self.T_inf_K, T_inf_K)
+
+    def age_at_luminosity(self, L_inf_erg_s):
+        """Age(s) in yr at which the curve has the given redshifted luminosity(ies); nan outside."""
+        return self._invert(self.L_inf_erg_s, L_inf_erg_s)
+
+    def temperature_range(self):
+        """(lowest, highest) valid T_inf in K."""
+        v = self.T_inf_K[self.valid]
+        return (float(np.nanmin(v)), float(np.nanmax(v))) if v.size else (np.nan, np.nan)
+
+
+def _initial_temperature(c0, lmu, ldu, t_s):
+    """Redshifted core temperature (K) reached at t_s by an arbitrarily hot star, neutrino losses only."""
+
+    def elapsed(log_t9):  # time to cool from infinity down to T9 = exp(log_t9): int C/L dT
+        f = lambda u: c0 * 1e9 * np.exp(2 * u) / (lmu * np.exp(8 * u) + ldu * np.exp(6 * u))  # noqa: E731
+        return quad(f, log_t9, log_t9 + 12.0, limit=200)[0]
+
+    if ldu == 0:
+        return 1e9 * (6.0 * lmu * t_s / (c0 * 1e9)) ** (-1.0 / 6.0)
+    return 1e9 * np.exp(brentq(lambda u: elapsed(u) - t_s, -8.0, 5.0, xtol=1e-12))
+
+
+def cooling_curve(mass, radius, envelope="iron", times_yr=None, model="minimal", heating=None, *, check=True):
+    """Cooling curve of an isothermal-core neutron star.
+
+    Parameters
+    ----------
+    mass : float (solar masses) or Quantity [mass]
+    radius : float (km) or Quantity [length]
+    envelope : {'iron', 'accreted', 'gpe83'}
+        Envelope relation (:mod:`.envelope`).
+    times_yr : array-like (yr) or Quantity [time], optional
+        Output times within the model's span (default: 301 log-spaced
+        points from 100 yr to 1e7 yr).
+    model : str or ParameterSet or CoolingModel
+        Cooling-model parameter set (default 'minimal').
+    heating : callable or None
+        Redshifted heating rate H(t_yr) in erg/s (e.g. :func:`field_decay_heating`).
+    check : bool
+        Raise for times outside the model span.
+
+    Returns
+    -------
+    CoolingCurve
+
+    Examples
+    --------
+    >>> c = cooling_curve(1.4, 12.0, "iron", [1e4, 1e5])
+    >>> bool(5.8 < np.log10(c.T_inf_K[0]) < 6.2)
+    True
+    """
+    import astropy.units as u
+
+    if isinstance(mass, u.Quantity):
+        mass = mass.to_value(u.solMass)
+    if isinstance(radius, u.Quantity):
+        radius = radius.to_value(u.km)
+    if isinstance(times_yr, u.Quantity):
+        times_yr = times_yr.to_value(u.yr)
+    m = CoolingModel.resolve(model)
+    env = str(envelope).lower()
+    if env not in ENVELOPES:
+        raise InputError("[ages] envelopes", f"unknown envelope {envelope!r}; choose one of: {', '.join(ENVELOPES)}")
+    times = default_times(m) if times_yr is None else np.atleast_1d(np.asarray(times_yr, float))
+    if check and (np.any(times < m.t_start_yr * (1 - 1e-9)) or np.any(times > m.t_end_yr * (1 + 1e-9))):
+        raise ModelRangeError("times_yr", f"cooling model '{m.name}' covers {m.t_start_yr:g} to {m.t_end_yr:g} yr "
+                              f"(isothermal core) (got {np.min(times):.3g} to {np.max(times):.3g} yr)")
+    if np.any(np.diff(times) <= 0):
+        raise InputError("times_yr", "must be strictly increasing")
+    if heating is None:
+        return _cached_curve(float(mass), float(radius), env, m, tuple(times.tolist()))
+    return _solve(float(mass), float(radius), env, m, times, heating)
+
+
+def _cached_curve(mass, radius, env, m, times):
+    curve = _cached(mass, radius, env, m.key(), times, m)
+    return CoolingCurve(**{k: (v.copy() if isinstance(v, np.ndarray) else v) for k, v in curve.__dict__.items()})
+
+
+@lru_cache(maxsize=256)
+def _cached(mass, radius, env, key, times, m):
+    return _solve(mass, radius, env, m, np.asarray(times), None)
+
+
+def _solve(mass, radius, env, m, times, heating):
+    st = star_structure(mass, radius)
+    c0, lmu, ldu = m.coefficients(mass, radius)
+    relation = ENVELOPES[env]
+    red = st.redshift_factor
+    area = 4.0 * np.pi * (radius * 1e5) ** 2 * red**2 * _SIGMA_SB
+
+    def photon(temp):
+        ts = relation(temp / red, st.g14)
+        return area * ts**4, ts
+
+    def rhs(x, y):
+        t_yr = np.exp(x)
+        temp = np.exp(y[0])
+        t9 = temp / 1e9
+        lnu = lmu * t9**8 + ldu * t9**6
+        lg = photon(temp)[0]
+        h = float(heating(t_yr)) if heating is not None else 0.0
+        dtdt = (-lnu - lg + h) / (c0 * t9)  # K/s
+        return [t_yr * SECONDS_PER_YEAR * dtdt / temp]
+
+    t0 = m.t_start_yr
+    temp0 = _initial_temperature(c0, lmu, ldu, t0 * SECONDS_PER_YEAR)
+    x_eval = np.log(times)
+    span = (np.log(t0), max(x_eval[-1], np.log(t0)))
+    sol = solve_ivp(rhs, span, [np.log(temp0)], method="LSODA", t_eval=x_eval, rtol=1e-8, atol=1e-10)
+    if not sol.success:  # pragma: no cover - LSODA on this smooth 1-D problem does not fail in practice
+        raise RuntimeError(f"cooling integration failed: {sol.message}")
+    temp = np.exp(sol.y[0])
+    lg, ts = photon(temp)
+    tb = temp / red
+    valid = (ts >= TS_MIN_K) & (tb >= TB_MIN_K) & (tb <= TB_MAX_K)
+    t9 = temp / 1e9
+    return CoolingCurve(
+        t_yr=np.asarray(times, float),
+        T_inf_K=np.where(valid, ts * red, np.nan),
+        L_inf_erg_s=np.where(valid, lg, np.nan),
+        T_core_K=temp,
+        L_nu_erg_s=lmu * t9**8 + ldu * t9**6,
+        valid=valid,
+        mass_msun=mass,
+        radius_km=radius,
+        envelope=env,
+        model=m.name,
+    )

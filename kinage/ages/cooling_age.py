@@ -1,0 +1,180 @@
+"""Cooling age: invert cooling curves for a measured temperature or luminosity.
+
+Curves are computed once per (envelope, mass) on a fixed log-time grid and
+cached (:func:`.cooling.cooling_curve`); Monte Carlo draws of the measured
+redshifted temperature (or luminosity) are then inverted by interpolation in
+log T - log t, never by re-integrating.  The result reports the age for each
+envelope and mass, the pooled interval (equal weight per combination) and the
+range spanned by the combinations.
+"""
+
+from dataclasses import dataclass, field
+
+import numpy as np
+
+from ..errors import InputError, ModelRangeError
+from ..io.results import interval
+from .cooling import CoolingModel, cooling_curve
+
+__all__ = ["CoolingAgeResult", "cooling_age"]
+
+
+@dataclass
+class CoolingAgeResult:
+    """Cooling age of one star over a set of envelopes and masses.
+
+    Attributes
+    ----------
+    quantity : {'temperature', 'luminosity'}
+    observed, observed_error : float
+        K (redshifted temperature) or erg/s (redshifted luminosity).
+    pooled : dict
+        :func:`kinage.io.results.interval` of the ages of all combinations (yr).
+    per_model : list of dict
+        ``envelope``, ``mass_msun``, ``median``, ``lo68``, ``hi68``,
+        ``fraction_in_range``, ``too_hot``, ``too_cold``.
+    range_yr : dict
+        ``lo68``/``hi68``: the lowest lo68 and highest hi68 over the
+        combinations; ``median_min``/``median_max``: range of their medians.
+    curves : list of CoolingCurve
+    model : str
+    warnings : list of str
+    """
+
+    quantity: str
+    observed: float
+    observed_error: float | None
+    pooled: dict
+    per_model: list
+    range_yr: dict
+    curves: list = field(repr=False)
+    model: str = "minimal"
+    warnings: list = field(default_factory=list)
+    samples: np.ndarray = field(default=None, repr=False)
+
+    def to_dict(self):
+        """JSON-ready record."""
+        return {
+            "quantity": self.quantity,
+            "observed": self.observed,
+            "observed_error": self.observed_error,
+            "model": self.model,
+            "cooling_age_yr": {k: self.pooled[k] for k in ("median", "lo68", "hi68", "lo95", "hi95")},
+            "per_model": list(self.per_model),
+            "range_yr": dict(self.range_yr),
+            "warnings": list(self.warnings),
+        }
+
+
+def cooling_age(temperature_K=None, temperature_error_K=None, *, luminosity_erg_s=None, luminosity_error_erg_s=None,
+                masses=(1.2, 1.4, 1.6), radius_km=12.0, envelopes=("iron", "accreted"), model="minimal",
+                samples=4000, rng=None, heating=None, where=None):
+    """Cooling age for a measured redshifted temperature (or luminosity).
+
+    Parameters
+    ----------
+    temperature_K : float or Quantity, K (or eV as kT), optional
+        Redshifted effective temperature seen at infinity.
+    temperature_error_K : float or Quantity, K, optional
+        1-sigma error (Gaussian draws, truncated at zero); ``None``: exact.
+    luminosity_erg_s, luminosity_error_erg_s : float, erg/s, optional
+        Redshifted bolometric luminosity instead of a temperature.
+    masses : sequence of float, solar masses
+    radius_km : float, km
+        One radius for all masses.
+    envelopes : sequence of str
+        Envelope relations (:mod:`.envelope`).
+    model : str or ParameterSet
+        Cooling-model parameter set.
+    samples : int
+        Monte Carlo draws per combination.
+    rng : numpy.random.Generator or int or None
+    heating : callable or None
+        Heating H(t_yr) in erg/s passed to every curve.
+    where : str, optional
+        Field named in error messages (default ``[star] temperature`` or
+        ``[star] luminosity``).
+
+    Returns
+    -------
+    CoolingAgeResult
+
+    Raises
+    ------
+    ModelRangeError
+        The measured value lies outside what every curve covers within the
+        model's validity (hotter than any star after 100 yr or colder than the
+        envelope relations allow).
+    """
+    import astropy.units as u
+
+    if isinstance(temperature_K, u.Quantity):
+        temperature_K = temperature_K.to_value(u.K, equivalencies=u.temperature_energy())
+    if isinstance(temperature_error_K, u.Quantity):
+        temperature_error_K = temperature_error_K.to_value(u.K, equivalencies=u.temperature_energy())
+    if temperature_K is not None:
+        quantity, value, err = "temperature", temperature_K, temperature_error_K
+    elif luminosity_erg_s is not None:
+        quantity, value, err = "luminosity", luminosity_erg_s, luminosity_error_erg_s
+    else:
+        raise InputError(where or "[star] temperature", "a temperature or a luminosity is needed for a cooling age")
+    where = where or f"[star] {quantity}"
+    value = float(value)
+    if not value > 0:
+        raise InputError(where, f"must be positive (got {value})")
+    if err is not None and not float(err) > 0:
+        raise InputError(f"{where}_error", f"must be positive (got {err})")
+    masses = tuple(float(x) for x in masses)
+    if not masses or not envelopes:
+        raise InputError("[ages] masses", "need at least one mass and one envelope")
+    m = CoolingModel.resolve(model)
+    rng = np.random.default_rng(rng)
+    curves = [cooling_curve(mass, radius_km, env, model=m, heating=heating) for env in envelopes for mass in masses]
+
+    if err is None:
+        draws = np.full(samples, value)
+    else:
+        draws = rng.normal(value, float(err), samples)
+        draws = draws[draws > 0]
+
+    nominal_ok = False
+    per_model, pooled, warnings = [], [], []
+    for c in curves:
+        y = c.T_inf_K if quantity == "temperature" else c.L_inf_erg_s
+        ages = c.age_at_temperature(draws) if quantity == "temperature" else c.age_at_luminosity(draws)
+        nominal = c.age_at_temperature(value) if quantity == "temperature" else c.age_at_luminosity(value)
+        nominal_ok |= bool(np.isfinite(nominal))
+        ymax = np.nanmax(y[c.valid]) if c.valid.any() else np.nan
+        iv = interval(ages)
+        ok = np.isfinite(ages)
+        rec = {"envelope": c.envelope, "mass_msun": c.mass_msun,
+               "median": iv["median"], "lo68": iv["lo68"], "hi68": iv["hi68"],
+               "nominal_yr": float(nominal) if np.isfinite(nominal) else None,
+               "fraction_in_range": float(ok.mean()) if ok.size else 0.0,
+               "too_hot": float(np.mean(draws > ymax)) if draws.size else 0.0,
+               "too_cold": float(np.mean(~ok & (draws <= ymax))) if draws.size else 0.0}
+        per_model.append(rec)
+        pooled.append(ages[ok])
+        if ok.size and 0 < ok.mean() < 0.99:
+            warnings.append(f"{c.label}: {100 * (1 - ok.mean()):.0f}% of the {quantity} draws fall outside this "
+                            f"curve's valid range ({m.t_start_yr:g}-{m.t_end_yr:g} yr) and are left out")
+        elif ok.size and not ok.any():
+            warnings.append(f"{c.label}: the measured {quantity} is outside this curve's valid range")
+
+    if not nominal_ok:
+        lo = min(np.nanmin((c.T_inf_K if quantity == "temperature" else c.L_inf_erg_s)[c.valid]) for c in curves)
+        hi = max(np.nanmax((c.T_inf_K if quantity == "temperature" else c.L_inf_erg_s)[c.valid]) for c in curves)
+        unit = "K" if quantity == "temperature" else "erg/s"
+        raise ModelRangeError(where, f"{value:.4g} {unit} is outside the range of cooling model '{m.name}' "
+                              f"({lo:.3g}-{hi:.3g} {unit} between {m.t_start_yr:g} and {m.t_end_yr:g} yr for "
+                              f"envelopes {', '.join(envelopes)} and masses {', '.join(f'{x:g}' for x in masses)} "
+                              f"solMass)")
+    all_ages = np.concatenate(pooled) if pooled else np.array([])
+    meds = [r["median"] for r in per_model if r["median"] is not None]
+    los = [r["lo68"] for r in per_model if r["lo68"] is not None]
+    his = [r["hi68"] for r in per_model if r["hi68"] is not None]
+    rng_yr = {"lo68": min(los) if los else None, "hi68": max(his) if his else None,
+              "median_min": min(meds) if meds else None, "median_max": max(meds) if meds else None}
+    return CoolingAgeResult(quantity=quantity, observed=value, observed_error=None if err is None else float(err),
+                            pooled=interval(all_ages), per_model=per_model, range_yr=rng_yr, curves=curves,
+                            model=m.name, warnings=warnings, samples=all_ages)
