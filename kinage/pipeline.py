@@ -35,12 +35,19 @@ def stage_seed(seed, stage):
 def plan_stages(scenario):
     """The stages the scenario's tables ask for, in order.
 
-    ``[campaign]`` -> ``forecast`` (or ``fit`` when it names a ``toas`` table);
-    ``[trace]`` -> ``trace``; ``[ages]`` -> ``ages``.
+    ``[campaign]`` with a plan (``start``/``baseline``/``visits_per_year`` or
+    ``dates``) -> ``forecast``; ``[campaign]`` naming a ``toas`` table ->
+    ``fit`` (both when both are given: the fit's errors can then be read
+    against the forecast's); ``[trace]`` -> ``trace``; ``[ages]`` -> ``ages``.
     """
     stages = []
-    if scenario.campaign is not None:
-        stages.append("fit" if scenario.campaign.get("toas") is not None else "forecast")
+    c = scenario.campaign
+    if c is not None:
+        has_plan = c.get("dates") is not None or all(c.get(k) is not None for k in ("start", "baseline", "visits_per_year"))
+        if has_plan or c.get("toas") is None:
+            stages.append("forecast")
+        if c.get("toas") is not None:
+            stages.append("fit")
     if scenario.trace is not None:
         stages.append("trace")
     if scenario.ages is not None:
@@ -49,22 +56,23 @@ def plan_stages(scenario):
 
 
 def solution_for_trace(scenario, fit_result=None):
-    """The astrometry tracing uses: the timing fit where it measured a parameter,
-    the values typed into ``[star]`` for the rest."""
+    """The astrometry tracing uses.
+
+    Without a timing fit: the values typed into ``[star]``.  With one: the
+    inverse-variance combination of the timing solution and the ``[star]``
+    values that carry errors (treated as independent measurements, e.g. from
+    imaging); a parameter measured by only one of them is taken from it.
+    The fit itself uses ``[star]`` values only as starting values.
+    """
     typed = AstrometricSolution.from_star(scenario.star)
     if fit_result is None:
         return typed
     sol = fit_result.solution
-    vals = sol.values.copy()
-    cov = sol.covariance.copy()
-    for i in range(5):
-        if not (np.isfinite(vals[i]) and np.isfinite(cov[i, i])) and np.isfinite(typed.values[i]):
-            vals[i] = typed.values[i]
-            cov[i, :] = 0.0
-            cov[:, i] = 0.0
-            cov[i, i] = typed.covariance[i, i]
-    return AstrometricSolution(sol.epoch, sol.ra_deg, sol.dec_deg, vals, np.nan_to_num(cov),
-                               source=sol.source + "+scenario")
+    usable = np.isfinite(np.diag(typed.covariance)) & (np.diag(typed.covariance) > 0)
+    vals = np.where(usable, typed.values, np.nan)
+    cov = np.where(np.outer(usable, usable), typed.covariance, np.nan)
+    typed = AstrometricSolution(sol.epoch, sol.ra_deg, sol.dec_deg, vals, cov, source="scenario")
+    return sol.combine(typed, source=f"{sol.source}+scenario")
 
 
 def kinematic_age_input(scenario, trace_result=None):
@@ -170,7 +178,8 @@ def scenario_seed(scenario, seed=None):
     return DEFAULT_SEED
 
 
-def run_pipeline(scenario, out_dir, *, seed=None, samples=None, progress=False, report=True, log=None):
+def run_pipeline(scenario, out_dir, *, seed=None, samples=None, progress=False, report=True, products=True,
+                 log=None):
     """Run every stage the scenario asks for and write results, figures and a report.
 
     Parameters
@@ -186,6 +195,8 @@ def run_pipeline(scenario, out_dir, *, seed=None, samples=None, progress=False, 
         Show progress bars.
     report : bool
         Write ``report.html`` and ``report.md``.
+    products : bool
+        Write each stage's tables and figures (``results.json`` is always written).
     log : callable, optional
         Called with one line of text per stage.
 
@@ -213,8 +224,8 @@ def run_pipeline(scenario, out_dir, *, seed=None, samples=None, progress=False, 
             run.files.append(run.write_json(json_path))
             break
         run.stages[name] = result
-        stage_dir = out_dir / name
-        run.files.extend(result.write_products(stage_dir))
+        if products:
+            run.files.extend(result.write_products(out_dir / name))
         run.files.append(run.write_json(json_path))
         log(f"stage {name} done: {result.summary()}")
     if not run.planned:

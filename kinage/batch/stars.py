@@ -1,0 +1,137 @@
+"""Read a table of stars for a batch run and turn each row into a scenario.
+
+One row per star.  Columns are named like the ``[star]`` keys of a scenario
+(``name``, ``ra``, ``dec``, ``parallax``, ``parallax_error``,
+``pm_ra_cosdec``, ``pm_dec``, ``spin_period``, ``spin_period_derivative``,
+``temperature``, ...).  ECSV columns carry their units; CSV columns are in the
+default units of the scenario keys (``kinage keys star``).  Empty cells (masked
+values) mean "not given".  The template scenario supplies the ``[campaign]``,
+``[trace]`` and ``[ages]`` tables and any ``[star]`` value the row leaves out.
+"""
+
+import hashlib
+import json
+import math
+import re
+import tomllib
+from pathlib import Path
+
+import numpy as np
+
+from ..errors import InputError
+from ..io.schema import SCHEMA
+from ..io.scenario import file_sha256, scenario_from_dict
+
+__all__ = ["read_star_rows", "load_template", "star_scenario", "star_input_hash", "safe_name", "star_seed"]
+
+_STAR_COLUMNS = set(SCHEMA["star"]) | {f"{k}_error" for k, v in SCHEMA["star"].items() if v.error}
+
+
+def safe_name(name):
+    """A file-system-safe folder name for a star."""
+    s = re.sub(r"[^A-Za-z0-9._+-]+", "_", str(name)).strip("._")
+    return s or "star"
+
+
+def read_star_rows(path):
+    """Read the star table into a list of ``{key: value}`` dicts (raw scenario values).
+
+    Quantities with units become strings such as ``"3.2 mas"`` so the scenario
+    reader converts and validates them like any scenario value.
+
+    Raises
+    ------
+    InputError
+        Unreadable table, no ``name`` column, unknown columns, duplicate names.
+    """
+    from astropy.table import Table
+
+    path = Path(path)
+    if not path.is_file():
+        raise InputError("stars table", f"file not found: {path}")
+    try:
+        tab = Table.read(path, format="ascii.ecsv" if path.suffix.lower() == ".ecsv" else "ascii.csv")
+    except Exception as exc:  # noqa: BLE001 - any reader failure is an input problem
+        raise InputError(f"stars table {path.name}", f"cannot read it as ECSV/CSV ({exc})") from None
+    if "name" not in tab.colnames:
+        raise InputError(f"stars table {path.name}", "needs a 'name' column")
+    unknown = [c for c in tab.colnames if c not in _STAR_COLUMNS]
+    if unknown:
+        raise InputError(f"stars table {path.name}",
+                         f"unknown columns {unknown}; columns are named like [star] keys (see 'kinage keys star')")
+    rows, seen = [], {}
+    for i, rec in enumerate(tab):
+        row = {}
+        for col in tab.colnames:
+            val = rec[col]
+            if np.ma.is_masked(val):
+                continue
+            unit = tab[col].unit
+            if isinstance(val, (np.floating, float)) and not math.isfinite(float(val)):
+                continue
+            if isinstance(val, np.generic):
+                val = val.item()
+            if unit is not None and isinstance(val, (int, float)):
+                val = f"{val!r} {unit.to_string()}"
+            row[col] = val
+        name = str(row.get("name", "")).strip()
+        if not name:
+            raise InputError(f"stars table {path.name} row {i + 1}, column 'name'", "empty name")
+        if name in seen:
+            raise InputError(f"stars table {path.name} row {i + 1}, column 'name'",
+                             f"duplicate name {name!r} (also row {seen[name] + 1})")
+        seen[name] = i
+        row["name"] = name
+        rows.append(row)
+    return rows
+
+
+def load_template(path):
+    """Read a template scenario as raw TOML data; returns ``(raw, folder)``."""
+    path = Path(path)
+    if not path.is_file():
+        raise InputError("--scenario", f"template file not found: {path}")
+    try:
+        raw = tomllib.loads(path.read_text(encoding="utf-8"))
+    except (tomllib.TOMLDecodeError, UnicodeDecodeError) as exc:
+        raise InputError(f"template {path.name}", f"not valid TOML ({exc})") from None
+    return raw, path.parent.resolve()
+
+
+def star_scenario(row, template_raw, base_dir):
+    """Validated scenario for one star: the template with ``[star]`` updated from the row."""
+    raw = {k: (dict(v) if isinstance(v, dict) else v) for k, v in template_raw.items()}
+    star = dict(raw.get("star", {}))
+    star.update(row)
+    raw["star"] = star
+    raw["title"] = f"{row['name']} (batch)"
+    return scenario_from_dict(raw, base_dir=base_dir, source=f"star {row['name']!r}")
+
+
+def star_seed(batch_seed, name):
+    """Seed of one star: from the batch seed and the star's name only.
+
+    Independent of row order, scheduling and worker count.
+    """
+    digest = hashlib.sha256(str(name).encode("utf-8")).digest()
+    words = [int.from_bytes(digest[i:i + 4], "little") for i in range(0, 16, 4)]
+    return int(np.random.SeedSequence([int(batch_seed), *words]).generate_state(1)[0])
+
+
+def star_input_hash(row, template_raw, base_dir, seed, samples):
+    """SHA-256 over everything a star's result depends on.
+
+    The row, the template, the files the template names (by content), the
+    seed, the sample override and the kinage version.
+    """
+    from .._version import __version__
+
+    files = {}
+    for table in template_raw.values():
+        if isinstance(table, dict):
+            for v in table.values():
+                if isinstance(v, str) and (Path(base_dir) / v).is_file():
+                    files[v] = file_sha256(Path(base_dir) / v)
+    blob = json.dumps({"row": row, "template": template_raw, "files": files, "seed": seed, "samples": samples,
+                       "version": __version__}, sort_keys=True, default=str)
+    return hashlib.sha256(blob.encode("utf-8")).hexdigest()
