@@ -45,19 +45,19 @@ def _progress(args):
 
 
 def cmd_forecast(args):
-    from .timing import forecast
-
     scenario = load_scenario(args.scenario)
     _require_table(scenario, "campaign", "forecast")
+    from .timing import forecast
+
     return _finish(args, forecast(scenario, progress=_progress(args)), scenario, "forecast")
 
 
 def cmd_simulate(args):
+    scenario = load_scenario(args.scenario)
+    _require_table(scenario, "campaign", "simulate")
     from .pipeline import scenario_seed, stage_seed
     from .timing import simulate_toas
 
-    scenario = load_scenario(args.scenario)
-    _require_table(scenario, "campaign", "simulate")
     seed = scenario_seed(scenario, args.seed)
     result = simulate_toas(scenario, rng=stage_seed(seed, "simulate"))
     result.write(args.output)
@@ -69,20 +69,20 @@ def cmd_simulate(args):
 
 
 def cmd_fit(args):
+    scenario = load_scenario(args.scenario)
     from .timing import fit_toas, read_toas
 
-    scenario = load_scenario(args.scenario)
     toas = read_toas(args.toas)
     result = fit_toas(toas, scenario)
     return _finish(args, result, scenario, "fit", extra_files=[args.toas])
 
 
 def cmd_trace(args):
+    scenario = load_scenario(args.scenario)
+    _require_table(scenario, "trace", "trace")
     from .orbits import trace
     from .pipeline import scenario_seed, solution_for_trace, stage_seed
 
-    scenario = load_scenario(args.scenario)
-    _require_table(scenario, "trace", "trace")
     if args.samples is not None and args.samples < 1:
         raise InputError("--samples", f"must be a positive whole number (got {args.samples})")
     seed = scenario_seed(scenario, args.seed)
@@ -92,12 +92,12 @@ def cmd_trace(args):
 
 
 def cmd_ages(args):
+    scenario = load_scenario(args.scenario)
     import numpy as np
 
     from .ages import compare_ages
     from .pipeline import kinematic_age_input, scenario_seed, stage_seed
 
-    scenario = load_scenario(args.scenario)
     seed = scenario_seed(scenario, args.seed)
     samples, label = kinematic_age_input(scenario)
     extra = []
@@ -136,8 +136,6 @@ def _ages_from_trace_json(path):
 
 
 def cmd_run(args):
-    from .pipeline import run_pipeline
-
     scenario = load_scenario(args.scenario)
     out = args.out or Path(args.scenario).with_suffix("").name + "-results"
     return _run_and_report(args, scenario, Path(out))

@@ -95,6 +95,57 @@ def main():
     text = SCENARIO.format(**obs)
     (OUT / "scenario.toml").write_text(text)
     print(text)
+    make_population(rows)
+
+
+def make_population(assoc_rows, n_stars=22):
+    """An invented population for ``kinage batch``: half born in the demo associations, half field stars."""
+    from kinage.kinematics.velocity_prior import velocity_prior
+
+    rng = np.random.default_rng(7)
+    prior = velocity_prior("hobbs2005")
+    out = []
+    for i in range(n_stars):
+        if i % 2 == 0:
+            a = assoc_rows[rng.integers(len(assoc_rows))]
+            c = SkyCoord(ra=a["ra"] * u.deg, dec=a["dec"] * u.deg, distance=a["distance"] * u.pc,
+                         pm_ra_cosdec=a["pm_ra_cosdec"] * u.mas / u.yr, pm_dec=a["pm_dec"] * u.mas / u.yr,
+                         radial_velocity=a["radial_velocity"] * u.km / u.s).galactic
+            xyz = c.cartesian.xyz.to_value(u.pc)
+            uvw = c.velocity.d_xyz.to_value(u.km / u.s)
+            age = rng.uniform(0.2, 1.5)
+            v = uvw + prior.sample_velocity(1, rng)[0] * 0.6
+            # born at the group's centre `age` Myr ago, then straight lines for both
+            now = xyz - uvw * age * KMS_PC_PER_MYR + v * age * KMS_PC_PER_MYR
+        else:
+            d = rng.uniform(150, 800)
+            l, b = rng.uniform(0, 2 * np.pi), np.arcsin(rng.uniform(-0.5, 0.5))
+            now = d * np.array([np.cos(b) * np.cos(l), np.cos(b) * np.sin(l), np.sin(b)])
+            v = np.array([-11.1, -12.24, -7.25]) + prior.sample_velocity(1, rng)[0] * 0.6
+            age = rng.uniform(0.3, 3.0)
+        st = galactic(now, v)
+        plx = 1000 / st.distance.to_value(u.pc)
+        P = rng.uniform(3, 12)
+        tau_c = age * rng.uniform(1.5, 6) * 1e6 * 3.15576e7  # characteristic age above the true age (s)
+        out.append({
+            "name": f"Pop-{i + 1:02d}", "ra": st.ra.deg, "dec": st.dec.deg,
+            "parallax": plx + rng.normal(0, 0.2), "parallax_error": 0.2,
+            "pm_ra_cosdec": st.pm_ra_cosdec.to_value(u.mas / u.yr) + rng.normal(0, 1.0), "pm_ra_cosdec_error": 1.0,
+            "pm_dec": st.pm_dec.to_value(u.mas / u.yr) + rng.normal(0, 1.0), "pm_dec_error": 1.0,
+            "spin_period": P, "spin_period_derivative": P / (2 * tau_c),
+            "temperature": rng.uniform(50, 110), "temperature_error": 5.0,
+        })
+    tab = Table(out)
+    for k, un in {"ra": u.deg, "dec": u.deg, "parallax": u.mas, "parallax_error": u.mas,
+                  "pm_ra_cosdec": u.mas / u.yr, "pm_ra_cosdec_error": u.mas / u.yr, "pm_dec": u.mas / u.yr,
+                  "pm_dec_error": u.mas / u.yr, "spin_period": u.s, "temperature": u.eV,
+                  "temperature_error": u.eV}.items():
+        tab[k].unit = un
+        tab[k].info.format = ".5f" if k in ("ra", "dec") else ".4g"
+    tab["spin_period_derivative"].info.format = ".4g"
+    tab.meta["description"] = "Invented neutron-star population for the kinage batch demo (not real objects)."
+    tab.write(OUT / "population.ecsv", overwrite=True)
+    (OUT / "population_template.toml").write_text(POPULATION_TEMPLATE)
 
 
 SCENARIO = """\
@@ -150,6 +201,28 @@ moment_of_inertia = "1e45 g cm2"
 mass = "1.4 solMass"
 radius = "12 km"
 envelopes = ["iron", "accreted"]
+"""
+
+POPULATION_TEMPLATE = """\
+# Template for: kinage batch population.ecsv --scenario population_template.toml --out population/
+# Each row of population.ecsv (invented stars) fills [star]; tracing and ages settings come from here.
+title = "invented demo population"
+
+[star]
+name = "template"
+
+[trace]
+associations = "associations.ecsv"
+samples = 400
+association_samples = 50
+control_runs = 3
+max_age = "3 Myr"
+time_steps = 601
+seed = 42
+
+[ages]
+braking_index = 3
+samples = 1000
 """
 
 if __name__ == "__main__":
