@@ -1,0 +1,192 @@
+"""Read and validate a table of candidate birth associations.
+
+Columns (ECSV with units in the header, or CSV in the default units below):
+
+=========================  ======  ==========================================
+column                     unit    meaning
+=========================  ======  ==========================================
+name                       --      unique name
+ra, dec                    deg     ICRS centre
+distance                   pc      distance of the centre
+pm_ra_cosdec, pm_dec       mas/yr  mean proper motion
+radial_velocity            km/s    mean heliocentric radial velocity
+radius                     pc      size used for the encounter criterion
+age                        Myr     age of the association
+<col>_error                as col  1-sigma errors of distance, pm_ra_cosdec,
+                                   pm_dec, radial_velocity (required) and of
+                                   ra, dec (optional, deg), age (optional)
+=========================  ======  ==========================================
+
+Every problem names the file, the row (1-based, data rows) and the column.
+"""
+
+from dataclasses import dataclass
+from pathlib import Path
+
+import astropy.units as u
+import numpy as np
+
+from ..errors import InputError
+
+__all__ = ["COLUMNS", "REQUIRED", "OPTIONAL", "Association", "AssociationTable", "read_associations",
+           "associations_from_table"]
+
+#: default unit of every numeric column
+COLUMNS = {
+    "ra": "deg", "dec": "deg", "distance": "pc", "pm_ra_cosdec": "mas/yr", "pm_dec": "mas/yr",
+    "radial_velocity": "km/s", "radius": "pc", "age": "Myr",
+    "distance_error": "pc", "pm_ra_cosdec_error": "mas/yr", "pm_dec_error": "mas/yr",
+    "radial_velocity_error": "km/s", "ra_error": "deg", "dec_error": "deg", "age_error": "Myr",
+}
+REQUIRED = ("name", "ra", "dec", "distance", "pm_ra_cosdec", "pm_dec", "radial_velocity", "distance_error",
+            "pm_ra_cosdec_error", "pm_dec_error", "radial_velocity_error", "radius", "age")
+OPTIONAL = ("ra_error", "dec_error", "age_error")
+_POSITIVE = ("distance", "radius", "age")
+
+
+@dataclass(frozen=True)
+class Association:
+    """One candidate birth association (plain floats in the default units of :data:`COLUMNS`)."""
+
+    name: str
+    ra: float
+    dec: float
+    distance: float
+    pm_ra_cosdec: float
+    pm_dec: float
+    radial_velocity: float
+    distance_error: float
+    pm_ra_cosdec_error: float
+    pm_dec_error: float
+    radial_velocity_error: float
+    radius: float
+    age: float
+    ra_error: float = 0.0
+    dec_error: float = 0.0
+    age_error: float = 0.0
+
+
+@dataclass(frozen=True)
+class AssociationTable:
+    """The validated associations, in table order.
+
+    Attributes
+    ----------
+    associations : tuple of Association
+    source : str
+        File name (or 'table').
+    """
+
+    associations: tuple
+    source: str = "table"
+
+    def __len__(self):
+        return len(self.associations)
+
+    def __iter__(self):
+        return iter(self.associations)
+
+    def __getitem__(self, i):
+        return self.associations[i]
+
+    @property
+    def names(self):
+        return [a.name for a in self.associations]
+
+    def column(self, name):
+        """Values of one numeric column, ndarray in its default unit."""
+        return np.array([getattr(a, name) for a in self.associations], float)
+
+
+def read_associations(path):
+    """Read an association table (ECSV or CSV).
+
+    Parameters
+    ----------
+    path : str or Path
+
+    Returns
+    -------
+    AssociationTable
+
+    Raises
+    ------
+    InputError
+        Naming the file, row and column of the first problem found.
+    """
+    from astropy.table import Table
+
+    path = Path(path)
+    if not path.is_file():
+        raise InputError("[trace] associations", f"file not found: {path}")
+    fmt = "ascii.ecsv" if path.suffix.lower() == ".ecsv" else "ascii.csv"
+    try:
+        table = Table.read(path, format=fmt)
+    except Exception as exc:  # noqa: BLE001 - any parse error becomes an input error
+        raise InputError(str(path.name), f"could not read as {fmt.split('.')[1].upper()} ({exc})") from None
+    return associations_from_table(table, source=path.name)
+
+
+def _cell(table, col, i):
+    v = table[col][i]
+    if np.ma.is_masked(v):
+        return np.nan
+    return v
+
+
+def associations_from_table(table, source="table"):
+    """Validate an astropy Table (or anything ``Table(...)`` accepts) as associations."""
+    from astropy.table import Table
+
+    table = Table(table) if not isinstance(table, Table) else table
+    missing = [c for c in REQUIRED if c not in table.colnames]
+    if missing:
+        raise InputError(source, "missing column(s) " + ", ".join(f"'{c}'" for c in missing)
+                         + "; required: " + ", ".join(REQUIRED))
+    if len(table) == 0:
+        raise InputError(source, "the association table has no rows")
+    factors = {}
+    for col, unit in COLUMNS.items():
+        if col not in table.colnames:
+            continue
+        cu = table[col].unit
+        try:
+            factors[col] = 1.0 if cu is None else float((1.0 * cu).to_value(unit))
+        except u.UnitConversionError:
+            raise InputError(f"{source} column '{col}'", f"unit must convert to {unit} (got {cu})") from None
+    rows, seen = [], {}
+    for i in range(len(table)):
+        where = f"{source} row {i + 1}"
+        name = _cell(table, "name", i)
+        name = "" if name is None or (isinstance(name, float) and np.isnan(name)) else str(name).strip()
+        if not name:
+            raise InputError(f"{where}, column 'name'", "every association needs a name (got an empty value)")
+        if name in seen:
+            raise InputError(f"{where}, column 'name'", f"duplicate name '{name}' (also in row {seen[name] + 1})")
+        seen[name] = i
+        vals = {}
+        for col in COLUMNS:
+            if col not in table.colnames:
+                vals[col] = 0.0
+                continue
+            raw = _cell(table, col, i)
+            try:
+                x = float(raw) * factors[col]
+            except (TypeError, ValueError):
+                raise InputError(f"{where}, column '{col}'", f"association '{name}': expected a number in "
+                                 f"{COLUMNS[col]} (got {raw!r})") from None
+            if not np.isfinite(x):
+                raise InputError(f"{where}, column '{col}'", f"association '{name}': missing or non-finite value "
+                                 f"(got {raw}); expected a number in {COLUMNS[col]}")
+            if col in _POSITIVE and x <= 0:
+                raise InputError(f"{where}, column '{col}'", f"association '{name}': must be positive "
+                                 f"(got {x:g} {COLUMNS[col]})")
+            if col.endswith("_error") and x < 0:
+                raise InputError(f"{where}, column '{col}'", f"association '{name}': must be >= 0 "
+                                 f"(got {x:g} {COLUMNS[col]})")
+            vals[col] = x
+        if not -90.0 <= vals["dec"] <= 90.0:
+            raise InputError(f"{where}, column 'dec'", f"association '{name}': must be in [-90, 90] deg "
+                             f"(got {vals['dec']:g})")
+        rows.append(Association(name=name, **vals))
+    return AssociationTable(tuple(rows), source)
