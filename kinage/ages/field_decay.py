@@ -30,6 +30,7 @@ __all__ = [
     "ohm_hall_field",
     "ohm_hall_characteristic_age",
     "ohm_hall_timescale",
+    "ohm_hall_true_age",
 ]
 
 
@@ -196,6 +197,38 @@ def ohm_hall_timescale(t_yr, tau_c_yr, *, ohmic_timescale_yr=None, hall_timescal
             go_up = f_mid > 0
             lo = np.where(go_up, mid, lo)
             hi = np.where(go_up, hi, mid)
+            if np.all(hi - lo < 1e-10):
+                break
+        out = np.where(ok, np.exp(0.5 * (lo + hi)), np.nan)
+    return out if out.shape else float(out)
+
+
+def ohm_hall_true_age(tau_c_yr, ohmic_timescale_yr, hall_timescale_yr, iterations=200):
+    """True age at which Ohm + Hall decay makes a star show characteristic age tau_c.
+
+    The apparent characteristic age grows monotonically with true age, so the
+    root is found by vectorised bisection in log time between 1e-6 tau_c and tau_c.
+
+    Parameters
+    ----------
+    tau_c_yr : float or ndarray, yr
+    ohmic_timescale_yr, hall_timescale_yr : float or ndarray, yr
+
+    Returns
+    -------
+    float or ndarray, yr
+    """
+    tc = np.asarray(tau_c_yr, float)
+    shape = np.broadcast(tc, ohmic_timescale_yr, hall_timescale_yr).shape
+    with np.errstate(all="ignore"):
+        lo = np.broadcast_to(np.log(tc) + np.log(1e-6), shape).astype(float)
+        hi = np.broadcast_to(np.log(tc), shape).astype(float)
+        ok = np.isfinite(lo) & (tc > 0)
+        for _ in range(iterations):
+            mid = 0.5 * (lo + hi)
+            too_old = ohm_hall_characteristic_age(np.exp(mid), ohmic_timescale_yr, hall_timescale_yr) > tc
+            hi = np.where(too_old, mid, hi)
+            lo = np.where(too_old, lo, mid)
             if np.all(hi - lo < 1e-10):
                 break
         out = np.where(ok, np.exp(0.5 * (lo + hi)), np.nan)

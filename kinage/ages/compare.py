@@ -1,0 +1,429 @@
+"""Front door of the ages stage: every clock of one star side by side.
+
+:func:`compare_ages` reads ``[star]`` and ``[ages]`` from a scenario (plus a
+kinematic age from a trace, if given), computes the spin-down ages, the
+field-decay timescales that reconcile the kinematic and characteristic ages,
+the cooling age, and a plain-language verdict for each pair of ages.  All
+uncertainties come from one joint Monte Carlo over the inputs.
+"""
+
+from dataclasses import dataclass, field
+from pathlib import Path
+
+import numpy as np
+
+from ..io.results import interval
+from .cooling_age import cooling_age
+from .draws import draw_kinematic_age, draw_spin, read_settings
+from .envelope import star_structure
+from .field_decay import (exponential_decay_timescale, ohm_hall_characteristic_age, ohm_hall_timescale,
+                          ohm_hall_true_age)
+from .spindown import (braking_index_age, characteristic_age, dipole_field, implied_initial_period,
+                       max_braking_index_age, spin_down_luminosity)
+from .verdicts import format_age, pair_verdict
+
+__all__ = ["AgesResult", "compare_ages"]
+
+_EMPTY = {"median": None, "lo68": None, "hi68": None}
+
+
+def _num(x):
+    x = float(x)
+    return x if np.isfinite(x) else None
+
+
+def _short(iv):
+    return {k: iv.get(k) for k in ("median", "lo68", "hi68")} if iv else dict(_EMPTY)
+
+
+@dataclass
+class AgesResult:
+    """All ages of one star, their uncertainties and verdicts (see :meth:`to_dict`)."""
+
+    star: str
+    values: dict
+    uncertainties: dict
+    kinematic: dict
+    shklovskii: dict
+    field_decay: dict
+    cooling: object
+    cooling_at_mass: object
+    verdicts: list
+    warnings: list
+    inputs: dict
+    parameter_sets: list = field(default_factory=list)
+    assumptions: list = field(default_factory=list)
+    seed: int | None = None
+    samples: int = 0
+
+    # -- protocol -----------------------------------------------------------
+    def to_dict(self):
+        """JSON-ready dict with the keys named by the ages issue plus extras."""
+        cool = self.cooling.to_dict() if self.cooling is not None else None
+        out = dict(self.values)
+        out["cooling_age_yr"] = _short(self.cooling.pooled) if self.cooling is not None else dict(_EMPTY)
+        out["kinematic_age_yr"] = _short(self.kinematic.get("interval"))
+        out["kinematic_age_source"] = self.kinematic.get("source")
+        out["kinematic_age_draws"] = self.kinematic.get("method")
+        out["uncertainties"] = self.uncertainties
+        out["shklovskii"] = self.shklovskii
+        out["field_decay"] = self.field_decay
+        out["cooling"] = cool
+        if cool is not None:
+            out["cooling_age_range_yr"] = cool["range_yr"]
+            out["cooling_age_per_model"] = cool["per_model"]
+        if self.cooling_at_mass is not None:
+            out["cooling_age_at_mass_yr"] = [{k: r[k] for k in ("envelope", "mass_msun", "median", "lo68", "hi68")}
+                                             for r in self.cooling_at_mass.per_model]
+        out["verdicts"] = [{"pair": v["pair"], "text": v["text"], "consistent": v["consistent"],
+                            "ratio": v["ratio"], **({"favoured_models": v["favoured_models"]}
+                                                    if "favoured_models" in v else {})}
+                           for v in self.verdicts]
+        out["warnings"] = list(self.warnings)
+        out["inputs"] = self.inputs
+        out["assumptions"] = list(self.assumptions)
+        out["parameter_sets"] = [p.summary() for p in self.parameter_sets]
+        out["seed"] = self.seed
+        out["samples"] = self.samples
+        return out
+
+    def summary(self):
+        """1-3 plain-language sentences: do the clocks agree?"""
+        parts = []
+        kin = self.kinematic.get("interval")
+        tc = self.values.get("characteristic_age_yr")
+        if kin and kin.get("median") is not None:
+            parts.append(f"Kinematic age {format_age(kin['median'])}")
+        if tc is not None:
+            parts.append(f"characteristic age {format_age(tc)}")
+        if self.cooling is not None and self.cooling.pooled.get("median") is not None:
+            r = self.cooling.range_yr
+            parts.append(f"cooling age {format_age(self.cooling.pooled['median'])} "
+                         f"(range {format_age(r['lo68'])}-{format_age(r['hi68'])} over envelopes and masses)")
+        head = ("; ".join(parts) + ".") if parts else "No ages could be computed."
+        if head[0].islower():
+            head = head[0].upper() + head[1:]
+        key = [v for v in self.verdicts if v["consistent"] is not None][:2]
+        return " ".join([head] + [v.get("short", v["text"]) for v in key])
+
+    def ladder_rows(self):
+        """(label, interval) rows of the age-ladder figure."""
+        u = self.uncertainties
+        n = self.values.get("braking_index")
+        rows = [("kinematic", self.kinematic.get("interval")),
+                ("characteristic P/2Pdot", u.get("characteristic_age_yr")),
+                (f"max. spin-down (n={n:.3g})", u.get("max_spin_down_age_yr"))]
+        if self.values.get("initial_period_s") is not None:
+            rows.append(("spin-down (n, P0)", u.get("spin_down_age_yr")))
+        if self.cooling is not None:
+            rows.append(("cooling (all models)", self.cooling.pooled))
+            for r in self.cooling.per_model:
+                rows.append((f"cooling {r['envelope']} {r['mass_msun']:g} Msun", r))
+        return rows
+
+    def write_products(self, out_dir):
+        """Write the ages table (ECSV), cooling curves (ECSV) and two PNG figures; returns the paths."""
+        from astropy.table import Table
+
+        from ..io.results import atomic_path
+        from .plots import plot_age_ladder, plot_cooling_curves
+
+        out = Path(out_dir)
+        out.mkdir(parents=True, exist_ok=True)
+        paths = []
+        rows = self.ladder_rows()
+        t = Table(rows=[(lab, *(np.nan if (iv is None or iv.get(k) is None) else iv[k]
+                                for k in ("median", "lo68", "hi68"))) for lab, iv in rows],
+                  names=("age", "median", "lo68", "hi68"), dtype=(str, float, float, float))
+        for c in ("median", "lo68", "hi68"):
+            t[c].unit = "yr"
+        t.meta["star"] = self.star
+        with atomic_path(out / "ages_table.ecsv") as tmp:
+            t.write(tmp, format="ascii.ecsv", overwrite=True)
+        paths.append(out / "ages_table.ecsv")
+        paths.append(Path(plot_age_ladder(rows, out / "ages_ladder.png", title=f"Ages of {self.star}")))
+        if self.cooling is not None:
+            curves = self.cooling.curves
+            ct = Table({"t": curves[0].t_yr})
+            ct["t"].unit = "yr"
+            for c in curves:
+                name = f"T_inf_{c.envelope}_{c.mass_msun:g}"
+                ct[name] = c.T_inf_K
+                ct[name].unit = "K"
+            ct.meta["model"] = self.cooling.model
+            with atomic_path(out / "ages_cooling_curves.ecsv") as tmp:
+                ct.write(tmp, format="ascii.ecsv", overwrite=True)
+            paths.append(out / "ages_cooling_curves.ecsv")
+            temp = (self.cooling.observed, self.cooling.observed_error) if self.cooling.quantity == "temperature" \
+                else None
+            paths.append(Path(plot_cooling_curves(curves, out / "ages_cooling_curves.png", temperature=temp,
+                                                  kinematic=self.kinematic.get("interval"),
+                                                  title=f"Cooling curves ({self.cooling.model}) and {self.star}")))
+        return paths
+
+
+def compare_ages(scenario, *, kinematic_age_samples=None, kinematic_age_source=None, rng=None, heating=None):
+    """Spin-down, field-decay, cooling and kinematic ages of one star, compared.
+
+    Parameters
+    ----------
+    scenario : Scenario
+        Uses ``[star]`` (spin_period, spin_period_derivative, temperature or
+        luminosity, proper motion and parallax/distance for the Shklovskii
+        term) and ``[ages]`` (defaults when absent).
+    kinematic_age_samples : ndarray, yr, optional
+        Monte Carlo kinematic ages from the trace stage; otherwise
+        ``[ages] kinematic_age`` +- error, drawn lognormally; otherwise none.
+    kinematic_age_source : str, optional
+        Short description for the report.
+    rng : numpy.random.Generator or int or None
+        None: ``[trace] seed`` if given, else 1.
+    heating : callable or None
+        Heating H(t_yr) in erg/s for the cooling curves (e.g.
+        :func:`kinage.ages.cooling.field_decay_heating`).
+
+    Returns
+    -------
+    AgesResult
+
+    Raises
+    ------
+    InputError
+        n <= 1, P0 >= P, R not above the Buchdahl limit for a mass used.
+    ModelRangeError
+        The star's temperature (or luminosity) lies outside the cooling model.
+    """
+    from ..params import get as get_pset
+
+    seed = None
+    if rng is None:
+        tr = scenario.trace
+        seed = int(tr.seed) if tr is not None and tr.get("seed") is not None else 1
+        rng = seed
+    elif isinstance(rng, (int, np.integer)):
+        seed = int(rng)
+    rng = np.random.default_rng(rng)
+
+    s = read_settings(scenario)
+    star = scenario.star
+    n = s.samples
+    warnings = []
+    star_structure(s.mass_msun, s.radius_km)
+    for m in s.masses:
+        star_structure(m, s.radius_km, where_mass="[ages] masses")
+
+    # kinematic age ---------------------------------------------------------
+    kin_d, kin_method = draw_kinematic_age(kinematic_age_samples, s, n, rng)
+    if kinematic_age_samples is not None:
+        kin_iv = interval(np.asarray(kinematic_age_samples, float)[np.asarray(kinematic_age_samples, float) > 0])
+        source = kinematic_age_source or "trace"
+        if s.kinematic_age_yr is not None:
+            warnings.append("[ages] kinematic_age ignored: kinematic-age samples from the trace were given")
+    elif kin_d is not None:
+        kin_iv = interval(kin_d)
+        source = kinematic_age_source or "scenario: [ages] kinematic_age"
+    else:
+        kin_iv, source = None, None
+    kin_med = kin_iv["median"] if kin_iv else None
+
+    # spin-down ---------------------------------------------------------------
+    values = {"braking_index": s.braking_index, "initial_period_s": s.initial_period_s,
+              "moment_of_inertia_g_cm2": s.moment_of_inertia}
+    unc, shk, decay = {}, {"applied": False}, {}
+    have_spin = star.get("spin_period") is not None and star.get("spin_period_derivative") is not None
+    spin = draw_spin(star, s, n, rng) if have_spin else None
+    spinning_up = bool(spin is not None and not spin.pdot > 0)
+    for k in ("characteristic_age_yr", "dipole_field_gauss", "spin_down_luminosity_erg_s", "spin_down_age_yr",
+              "max_spin_down_age_yr", "implied_initial_period_s", "decay_timescale_yr"):
+        values[k] = None
+    values["spinning_up"] = spinning_up
+    values["implied_initial_period_note"] = None
+    values["decay_timescale_note"] = None
+    if spin is None:
+        warnings.append("no spin_period and spin_period_derivative in [star]: spin-down ages skipped")
+    else:
+        shk = dict(spin.shklovskii)
+        shk.update(pdot_observed=spin.pdot_observed, pdot_intrinsic=spin.pdot)
+        values["period_s"] = spin.period
+        values["pdot_intrinsic"] = spin.pdot
+        if shk.get("applied") and spin.pdot_observed > 0 and spin.pdot_shk > 0.1 * spin.pdot_observed:
+            warnings.append(f"the Shklovskii term is {100 * spin.pdot_shk / spin.pdot_observed:.0f}% of the observed "
+                            "Pdot: the spin-down ages depend on the distance")
+    if spinning_up:
+        warnings.append(f"the star is spinning up (Pdot = {spin.pdot:.3g} s/s"
+                        + (f" after subtracting the Shklovskii term {spin.pdot_shk:.3g}" if shk.get("applied") else "")
+                        + "): spin-down ages, field and spin-down luminosity skipped")
+        values["implied_initial_period_note"] = "star is spinning up"
+        values["decay_timescale_note"] = "star is spinning up"
+    elif spin is not None:
+        d = spin.draws
+        p, pd, nb = spin.period, spin.pdot, s.braking_index
+        values["characteristic_age_yr"] = _num(characteristic_age(p, pd))
+        values["dipole_field_gauss"] = _num(dipole_field(p, pd))
+        values["spin_down_luminosity_erg_s"] = _num(spin_down_luminosity(p, pd, s.moment_of_inertia))
+        values["max_spin_down_age_yr"] = _num(max_braking_index_age(p, pd, nb))
+        if s.initial_period_s is not None:
+            values["spin_down_age_yr"] = _num(braking_index_age(p, pd, nb, s.initial_period_s))
+        tc_d = characteristic_age(d["period"], d["pdot"])
+        unc["characteristic_age_yr"] = interval(tc_d)
+        unc["dipole_field_gauss"] = interval(dipole_field(d["period"], d["pdot"]))
+        unc["spin_down_luminosity_erg_s"] = interval(spin_down_luminosity(d["period"], d["pdot"],
+                                                                          s.moment_of_inertia))
+        unc["max_spin_down_age_yr"] = interval(max_braking_index_age(d["period"], d["pdot"], d["braking_index"]))
+        if d["initial_period"] is not None:
+            unc["spin_down_age_yr"] = interval(braking_index_age(d["period"], d["pdot"], d["braking_index"],
+                                                                 d["initial_period"]))
+        unc["fraction_spinning_up"] = float(np.mean(~(d["pdot"] > 0)))
+        if shk.get("applied"):
+            unc["pdot_shklovskii"] = interval(d["pdot_shk"])
+        if kin_d is not None:
+            _implied(values, unc, decay, spin, s, kin_med, kin_d, tc_d, warnings)
+
+    # cooling ------------------------------------------------------------------
+    cool, cool_m = _cooling(star, s, rng, heating)
+    if cool is not None:
+        warnings.extend(cool.warnings)
+    pset = get_pset("cooling_model", s.cooling_model, "[ages] cooling_model")
+
+    # verdicts -----------------------------------------------------------------
+    verdicts = _verdicts(values, unc, kin_iv, cool, s)
+    inputs = {"star": star.to_dict(), "ages": scenario.ages.to_dict() if scenario.ages is not None else {}}
+    return AgesResult(
+        star=str(star.get("name", "star")), values=values, uncertainties=unc,
+        kinematic={"interval": kin_iv, "source": source, "method": kin_method},
+        shklovskii=shk, field_decay=decay, cooling=cool, cooling_at_mass=cool_m, verdicts=verdicts,
+        warnings=warnings, inputs=inputs, parameter_sets=[pset], assumptions=_assumptions(s, shk, kin_method),
+        seed=seed, samples=n)
+
+
+def _implied(values, unc, decay, spin, s, kin_med, kin_d, tc_d, warnings):
+    """Initial period and decay timescales implied by the kinematic age."""
+    d = spin.draws
+    p, pd, nb = spin.period, spin.pdot, s.braking_index
+    tc = values["characteristic_age_yr"]
+    p0 = _num(implied_initial_period(p, pd, kin_med, nb))
+    values["implied_initial_period_s"] = p0
+    if p0 is None:
+        values["implied_initial_period_note"] = (
+            f"no solution: the kinematic age {format_age(kin_med)} exceeds the maximum spin-down age "
+            f"2 tau_c/(n-1) = {format_age(values['max_spin_down_age_yr'])} for n = {nb:g}")
+    p0_d = implied_initial_period(d["period"], d["pdot"], kin_d, d["braking_index"])
+    unc["implied_initial_period_s"] = interval(p0_d)
+    unc["implied_initial_period_fraction_with_solution"] = float(np.mean(np.isfinite(p0_d)))
+    values["braking_index_for_kinematic_age"] = _num(1.0 + 2.0 * tc / kin_med)
+
+    tau_d = _num(exponential_decay_timescale(kin_med, tc))
+    values["decay_timescale_yr"] = tau_d
+    if tau_d is None:
+        values["decay_timescale_note"] = (f"no solution: the kinematic age {format_age(kin_med)} is not shorter than "
+                                          f"the characteristic age {format_age(tc)} (decay only makes a star look older)")
+    td_d = exponential_decay_timescale(kin_d, tc_d)
+    unc["decay_timescale_yr"] = interval(td_d)
+    decay["exponential"] = {
+        "decay_timescale_yr": tau_d, "interval": interval(td_d),
+        "fraction_with_solution": float(np.mean(np.isfinite(td_d))),
+        "initial_field_gauss": _num(values["dipole_field_gauss"] * np.exp(kin_med / tau_d)) if tau_d else None,
+        "note": values["decay_timescale_note"],
+    }
+    to, th = s.ohmic_timescale_yr, s.hall_timescale_yr
+    oh = {"ohmic_timescale_yr": to, "hall_timescale_yr": th}
+    if to is not None and th is not None:
+        oh["characteristic_age_at_kinematic_age_yr"] = interval(ohm_hall_characteristic_age(kin_d, to, th))
+        oh["true_age_for_measured_tau_c_yr"] = interval(ohm_hall_true_age(tc_d, to, th))
+        oh["note"] = "both timescales given: forward prediction"
+    elif to is not None or th is not None:
+        solved = ohm_hall_timescale(kin_d, tc_d, ohmic_timescale_yr=to, hall_timescale_yr=th)
+        key = "hall_timescale_yr" if th is None else "ohmic_timescale_yr"
+        oh[f"solved_{key}"] = interval(solved)
+        oh["fraction_with_solution"] = float(np.mean(np.isfinite(solved)))
+        oh["note"] = f"{key.replace('_yr', '').replace('_', ' ')} solved for with the other fixed"
+    else:
+        oh["note"] = "not computed: give [ages] ohmic_timescale and/or hall_timescale"
+    decay["ohm_hall"] = oh
+
+
+def _cooling(star, s, rng, heating):
+    temp, lum = star.value("temperature", "K"), star.value("luminosity", "erg/s")
+    if temp is None and lum is None:
+        return None, None
+    kw = dict(temperature_K=temp, temperature_error_K=star.value("temperature_error", "K") if temp else None,
+              luminosity_erg_s=None if temp else lum,
+              luminosity_error_erg_s=None if temp else star.value("luminosity_error", "erg/s"),
+              radius_km=s.radius_km, envelopes=s.envelopes, model=s.cooling_model, samples=s.samples,
+              heating=heating)
+    cool = cooling_age(masses=s.masses, rng=rng, **kw)
+    try:
+        cool_m = cooling_age(masses=(s.mass_msun,), rng=rng, **kw)
+    except ValueError:
+        cool_m = None
+    return cool, cool_m
+
+
+def _verdicts(values, unc, kin, cool, s):
+    tc_iv = unc.get("characteristic_age_yr")
+    out = []
+    p0 = values.get("implied_initial_period_s")
+    tau_d = values.get("decay_timescale_yr")
+    young = []
+    if tau_d:
+        young.append(f"exponential field decay with tau_d ~ {format_age(tau_d)}")
+    if p0:
+        young.append(f"or an initial period P0 ~ {p0:.3g} s for n = {s.braking_index:g}")
+    n_req = values.get("braking_index_for_kinematic_age")
+    old = ("no field-decay solution: field growth, a braking index below "
+           f"{n_req:.2g} (n = 1 + 2 tau_c / t)" if n_req else "no field-decay solution") + ", or a kinematic age too long"
+    miss = "star is spinning up" if values.get("spinning_up") else None
+    out.append(pair_verdict("kinematic-characteristic", "kinematic age", kin, "characteristic age", tc_iv,
+                            if_younger=" ".join(young), if_older=old, missing=miss))
+    if s.initial_period_s is not None:
+        out.append(pair_verdict("kinematic-spin_down", "kinematic age", kin,
+                                f"spin-down age for n = {s.braking_index:g}, P0 = {s.initial_period_s:g} s",
+                                unc.get("spin_down_age_yr"),
+                                if_younger="a longer P0 or a lower braking index than assumed",
+                                if_older="no spin-down history with this n and P0 reaches the kinematic age",
+                                missing=miss))
+    cool_iv = cool.pooled if cool is not None else None
+    cmiss = None if cool is not None else "no temperature or luminosity in [star]"
+    v = pair_verdict("kinematic-cooling", "kinematic age", kin, "cooling age", cool_iv,
+                     if_younger="the star is colder than the cooling curves predict at that age (faster cooling, "
+                                "e.g. direct Urca in a heavier star, or an iron envelope)",
+                     if_older="the star is hotter than the cooling curves predict at that age (extra heating, "
+                              "e.g. field decay, or a light-element envelope)", missing=cmiss)
+    if cool is not None and kin is not None and kin.get("median") is not None:
+        from .verdicts import compare_intervals
+
+        fits = [f"{r['envelope']} {r['mass_msun']:g} Msun" for r in cool.per_model
+                if r["median"] is not None and compare_intervals(kin, r)["consistent"]]
+        v["favoured_models"] = fits
+        v["short"] = v["text"]
+        v["text"] += (f" Envelopes and masses consistent with the kinematic age: {', '.join(fits)}." if fits
+                      else " No envelope and mass considered matches the kinematic age.")
+    out.append(v)
+    out.append(pair_verdict("characteristic-cooling", "characteristic age", tc_iv, "cooling age", cool_iv,
+                            if_younger="the star is colder than expected at its characteristic age",
+                            if_older="the star is hotter than expected at its characteristic age, as field decay "
+                                     "(spin-down age too long) or heating would give",
+                            missing=miss or cmiss))
+    return out
+
+
+def _assumptions(s, shk, kin_method):
+    a = [
+        "Characteristic age P/(2 Pdot) assumes braking index 3 and P0 << P (Lorimer & Kramer 2005, eq. 3.14)",
+        "Dipole field 3.2e19 sqrt(P Pdot) G: vacuum dipole, orthogonal rotator, R = 10 km, I = 1e45 g cm^2 "
+        "(Lorimer & Kramer 2005, eq. 3.15)",
+        f"Spin-down luminosity 4 pi^2 I Pdot / P^3 with I = {s.moment_of_inertia:.3g} g cm^2 (Lorimer & Kramer 2005)",
+        "Field decay with P0 << P: tau_c = int B^2 dt / B^2; exponential (closed form) and Ohm + Hall "
+        "(Aguilera, Pons & Miralles 2008, ApJ 673, L167)",
+        f"Isothermal-core cooling from 100 yr, model '{s.cooling_model}': C ~ 1e39 T9 erg/K, "
+        "L_MU ~ 1e40 T9^8 erg/s, no superfluidity (Yakovlev & Pethick 2004, ARA&A 42, 169)",
+        "Envelopes: Potekhin, Chabrier & Yakovlev 1997 (iron, accreted), Gudmundsson, Pethick & Epstein 1983",
+        f"One radius R = {s.radius_km:g} km for every mass; redshift sqrt(1 - 2GM/Rc^2)",
+        "Gaussian, independent input errors propagated by Monte Carlo",
+    ]
+    if shk.get("applied"):
+        a.append("Shklovskii term P v_t^2/(c d) subtracted with d = "
+                 f"{shk.get('distance_source')}; Galactic acceleration terms neglected (Shklovskii 1970)")
+    if kin_method:
+        a.append(f"Kinematic age: {kin_method}")
+    return a

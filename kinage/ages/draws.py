@@ -1,0 +1,216 @@
+"""Read the ages inputs from a scenario and draw them for the Monte Carlo.
+
+Measured quantities with an ``_error`` are drawn as independent Gaussians
+(spin period truncated at zero); the distance comes from the parallax as 1 /
+parallax (draws with parallax <= 0 are dropped from the Shklovskii term), or
+from ``[star] distance``.  A kinematic age given in the scenario is drawn
+lognormally (median = value, sigma of ln age = error / value); samples from a
+trace are resampled with replacement.
+"""
+
+from dataclasses import dataclass, field
+
+import astropy.units as u
+import numpy as np
+
+from ..errors import InputError
+from ..io.schema import SCHEMA
+from .spindown import shklovskii_pdot, transverse_velocity
+
+__all__ = ["AgesSettings", "SpinDraws", "read_settings", "draw_spin", "draw_kinematic_age"]
+
+
+@dataclass(frozen=True)
+class AgesSettings:
+    """The ``[ages]`` values (schema defaults when the table is absent), plain floats."""
+
+    braking_index: float
+    braking_index_error: float | None
+    initial_period_s: float | None
+    initial_period_error_s: float | None
+    moment_of_inertia: float
+    kinematic_age_yr: float | None
+    kinematic_age_error_yr: float | None
+    mass_msun: float
+    radius_km: float
+    envelopes: tuple
+    masses: tuple
+    cooling_model: str
+    hall_timescale_yr: float | None
+    ohmic_timescale_yr: float | None
+    samples: int
+    shklovskii: bool
+
+
+def _ages_value(section, key, unit=None):
+    if section is not None:
+        return section.value(key, unit)
+    k = SCHEMA["ages"].get(key)
+    return None if k is None else k.default
+
+
+def read_settings(scenario):
+    """:class:`AgesSettings` from ``scenario.ages`` (or the schema defaults)."""
+    a = scenario.ages
+    s = AgesSettings(
+        braking_index=float(_ages_value(a, "braking_index")),
+        braking_index_error=_ages_value(a, "braking_index_error"),
+        initial_period_s=_ages_value(a, "initial_period", "s"),
+        initial_period_error_s=_ages_value(a, "initial_period_error", "s"),
+        moment_of_inertia=float(_ages_value(a, "moment_of_inertia", "g cm2")),
+        kinematic_age_yr=_ages_value(a, "kinematic_age", "yr"),
+        kinematic_age_error_yr=_ages_value(a, "kinematic_age_error", "yr"),
+        mass_msun=float(_ages_value(a, "mass", "solMass")),
+        radius_km=float(_ages_value(a, "radius", "km")),
+        envelopes=tuple(_ages_value(a, "envelopes")),
+        masses=tuple(float(x) for x in _ages_value(a, "masses")),
+        cooling_model=str(_ages_value(a, "cooling_model")),
+        hall_timescale_yr=_ages_value(a, "hall_timescale", "yr"),
+        ohmic_timescale_yr=_ages_value(a, "ohmic_timescale", "yr"),
+        samples=int(_ages_value(a, "samples")),
+        shklovskii=bool(_ages_value(a, "shklovskii")),
+    )
+    if not s.braking_index > 1:
+        raise InputError("[ages] braking_index", f"must be greater than 1 (got {s.braking_index:g}); "
+                         "n <= 1 gives no finite spin-down age")
+    if any(not x > 0 for x in s.masses):
+        raise InputError("[ages] masses", f"must all be positive (got {list(s.masses)})")
+    return s
+
+
+@dataclass
+class SpinDraws:
+    """Nominal values and Monte Carlo draws of the spin inputs (plain floats/arrays).
+
+    ``pdot`` is the intrinsic period derivative (observed minus Shklovskii term
+    when applied); ``pdot_shk`` is that term (zeros when not applied).
+    """
+
+    period: float
+    pdot_observed: float
+    pdot_shk: float
+    pdot: float
+    braking_index: float
+    initial_period: float | None
+    draws: dict = field(default_factory=dict)
+    shklovskii: dict = field(default_factory=dict)
+
+
+def _gauss(rng, value, error, n):
+    if error is None or not error > 0:
+        return np.full(n, float(value))
+    return rng.normal(float(value), float(error), n)
+
+
+def draw_spin(star, settings, n, rng):
+    """Draw P, Pdot (Shklovskii-corrected), n and P0.
+
+    Parameters
+    ----------
+    star : Section
+        ``[star]``; must give spin_period and spin_period_derivative.
+    settings : AgesSettings
+    n : int
+        Number of draws.
+    rng : numpy.random.Generator
+
+    Returns
+    -------
+    SpinDraws
+
+    Raises
+    ------
+    InputError
+        P0 >= P.
+    """
+    p = star.value("spin_period", "s")
+    pe = star.value("spin_period_error", "s")
+    pdot = star.value("spin_period_derivative", u.dimensionless_unscaled)
+    pdote = star.value("spin_period_derivative_error", u.dimensionless_unscaled)
+    p_d = np.abs(_gauss(rng, p, pe, n))
+    pdot_d = _gauss(rng, pdot, pdote, n)
+    n_d = _gauss(rng, settings.braking_index, settings.braking_index_error, n)
+    p0 = settings.initial_period_s
+    p0_d = None
+    if p0 is not None:
+        if p0 >= p:
+            raise InputError("[ages] initial_period", f"must be shorter than the spin period P = {p:.6g} s "
+                             f"(got P0 = {p0:.6g} s)")
+        p0_d = np.abs(_gauss(rng, p0, settings.initial_period_error_s, n))
+    shk = _shklovskii(star, settings, p, p_d, n, rng)
+    shk_d = shk.pop("draws")
+    return SpinDraws(
+        period=p, pdot_observed=pdot, pdot_shk=shk["pdot_shk_nominal"], pdot=pdot - shk["pdot_shk_nominal"],
+        braking_index=settings.braking_index, initial_period=p0,
+        draws={"period": p_d, "pdot_observed": pdot_d, "pdot_shk": shk_d, "pdot": pdot_d - shk_d,
+               "braking_index": n_d, "initial_period": p0_d},
+        shklovskii=shk,
+    )
+
+
+def _shklovskii(star, settings, p, p_d, n, rng):
+    zeros = np.zeros(n)
+    out = {"applied": False, "pdot_shk_nominal": 0.0, "draws": zeros}
+    pmra, pmdec = star.value("pm_ra_cosdec", "mas/yr"), star.value("pm_dec", "mas/yr")
+    if not settings.shklovskii:
+        out["note"] = "switched off ([ages] shklovskii = false)"
+        return out
+    if pmra is None or pmdec is None:
+        out["note"] = "not applied: no proper motion given"
+        return out
+    plx, dist = star.value("parallax", "mas"), star.value("distance", "kpc")
+    if plx is not None and plx > 0:
+        d_nom = 1.0 / plx
+        plx_d = _gauss(rng, plx, star.value("parallax_error", "mas"), n)
+        d_d = np.where(plx_d > 0, 1.0 / np.where(plx_d > 0, plx_d, 1.0), np.nan)
+        dsrc = "1 / parallax"
+    elif dist is not None:
+        d_nom = dist
+        d_d = np.abs(_gauss(rng, dist, star.value("distance_error", "kpc"), n))
+        dsrc = "[star] distance"
+    else:
+        out["note"] = "not applied: no positive parallax or distance given"
+        return out
+    ra_d = _gauss(rng, pmra, star.value("pm_ra_cosdec_error", "mas/yr"), n)
+    de_d = _gauss(rng, pmdec, star.value("pm_dec_error", "mas/yr"), n)
+    mu_nom = float(np.hypot(pmra, pmdec))
+    mu_d = np.hypot(ra_d, de_d)
+    shk_nom = float(shklovskii_pdot(p, mu_nom, d_nom))
+    shk_d = np.nan_to_num(shklovskii_pdot(p_d, mu_d, d_d), nan=shk_nom)
+    out.update(applied=True, pdot_shk_nominal=shk_nom, draws=shk_d,
+               distance_kpc=float(d_nom), distance_source=dsrc, proper_motion_masyr=mu_nom,
+               transverse_velocity_kms=float(transverse_velocity(mu_nom, d_nom)))
+    return out
+
+
+def draw_kinematic_age(samples, settings, n, rng):
+    """Kinematic-age draws (yr) and a description of how they were made.
+
+    Parameters
+    ----------
+    samples : array-like or None, yr
+        From a trace; resampled with replacement to ``n`` draws.
+    settings : AgesSettings
+    n : int
+    rng : numpy.random.Generator
+
+    Returns
+    -------
+    draws : ndarray or None
+    method : str or None
+    """
+    if samples is not None:
+        s = np.asarray(samples, float).ravel()
+        s = s[np.isfinite(s) & (s > 0)]
+        if s.size == 0:
+            raise InputError("kinematic_age_samples", "no finite positive kinematic ages among the samples")
+        return rng.choice(s, size=n, replace=True), f"{s.size} Monte Carlo samples resampled with replacement"
+    t = settings.kinematic_age_yr
+    if t is None:
+        return None, None
+    err = settings.kinematic_age_error_yr
+    if err is None:
+        return np.full(n, float(t)), "[ages] kinematic_age without error"
+    sig = float(err) / float(t)
+    return float(t) * np.exp(rng.normal(0.0, sig, n)), (
+        f"[ages] kinematic_age drawn lognormally: median {t:.4g} yr, sigma(ln t) = error / value = {sig:.3g}")
