@@ -1,0 +1,48 @@
+"""Plane-crossing age: time since the star last crossed the Galactic mid-plane.
+
+For each orbit the last sign change of the Galactocentric height z (the
+mid-plane of the Galactocentric frame, the Sun at z_sun above it) is found on
+the backward grid and located by linear interpolation between the two grid
+points (Noutsos et al. 2013, MNRAS 430, 2281 use the same age for pulsars born
+near the plane; Cordes & Chernoff 1998, ApJ 505, 315 give a birth scale height
+of ~0.13 kpc, so the age is meaningful only for stars now well away from the
+plane).  Orbits that do not cross within the grid give NaN.
+"""
+
+import numpy as np
+
+__all__ = ["plane_crossing_age"]
+
+
+def _heights(bundle):
+    if hasattr(bundle, "array"):
+        return bundle.array[:, :, 3] * bundle.ro
+    return bundle.z()
+
+
+def plane_crossing_age(bundle):
+    """Time (Myr before present) of the last mid-plane crossing of each orbit.
+
+    Parameters
+    ----------
+    bundle : orbit bundle (see :mod:`.integrate`)
+
+    Returns
+    -------
+    ndarray, shape (n,), Myr (NaN when there is no crossing within the grid)
+    """
+    z = _heights(bundle)
+    t = bundle.times
+    s0 = np.sign(z[:, :1])
+    crossed = np.sign(z) != s0
+    k = np.argmax(crossed, axis=1)
+    has = crossed[np.arange(len(k)), k] & (k > 0)
+    out = np.full(len(k), np.nan)
+    rows = np.flatnonzero(has)
+    if rows.size:
+        kk = k[rows]
+        z0, z1 = z[rows, kk - 1], z[rows, kk]
+        t0, t1 = t[kk - 1], t[kk]
+        tc = t0 + (t1 - t0) * z0 / (z0 - z1)
+        out[rows] = -tc
+    return out
