@@ -23,7 +23,7 @@ reproduces the 1983 relation to ~6 % at its worked point, which the tests check.
 
 Declared validity (raises :class:`~kinage.errors.ModelRangeError` outside):
 Ts >= 5e4 K (the 1997 calculations cover Teff > 5e4 K, paper abstract) and
-1e6 K <= Tb <= 1e10 K (common practice, no source).
+1e5 K <= Tb <= 1e10 K (common practice, no source).
 """
 
 import numpy as np
@@ -44,7 +44,7 @@ __all__ = [
 ]
 
 TS_MIN_K = 5.0e4
-TB_MIN_K = 1.0e6
+TB_MIN_K = 1.0e5
 TB_MAX_K = 1.0e10
 
 _G_CGS = 6.67430e-8

@@ -158,7 +158,8 @@ def implied_initial_period(period_s, pdot, age_yr, braking_index=3.0):
     t = np.asarray(age_yr, float) * SECONDS_PER_YEAR
     base = 1.0 - nm1 * t * _pos(pdot) / p
     with np.errstate(invalid="ignore"):
-        return np.where(base > 0, p * np.abs(base) ** (1.0 / nm1), np.nan)
+        # base = 0 is the maximum age (P0 = 0); allow round-off just below it
+        return np.where(base > -1e-12, p * np.maximum(base, 0.0) ** (1.0 / nm1), np.nan)
 
 
 def transverse_velocity(pm_total_masyr, distance_kpc):

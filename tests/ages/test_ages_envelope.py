@@ -1,0 +1,85 @@
+"""Envelope relations and stellar structure against published relations and astropy constants."""
+
+import math
+
+import astropy.constants as const
+import astropy.units as u
+import numpy as np
+import pytest
+
+from kinage.ages.envelope import gpe83, pcy97_accreted, pcy97_iron, star_structure, surface_temperature
+from kinage.errors import InputError, ModelRangeError
+
+
+def test_gpe83_worked_point():
+    # Gudmundsson, Pethick & Epstein 1983 (ApJ 272, 286): Tb = 1e8 K, g14 = 1 -> Ts = 0.87e6 K
+    assert gpe83(1e8, 1.0) == pytest.approx(0.87e6, rel=1e-12)
+    assert surface_temperature(1e8, 1.0, "gpe83") == pytest.approx(0.87e6, rel=1e-12)
+
+
+def _pcy97_iron_reference(tb, g14):
+    # Potekhin, Chabrier & Yakovlev 1997 (A&A 323, 415), iron envelope (coefficients from memory):
+    # Ts6^4 = g14 [(7 zeta)^2.25 + (zeta/3)^1.25], zeta = Tb9 - 1e-3 g14^(1/4) sqrt(7 Tb9)
+    tb9 = tb / 1e9
+    zeta = tb9 - 1e-3 * g14**0.25 * math.sqrt(7 * tb9)
+    return 1e6 * (g14 * ((7 * zeta) ** 2.25 + (zeta / 3) ** 1.25)) ** 0.25
+
+
+def _pcy97_accreted_reference(tb, g14):
+    # same paper, fully accreted envelope (coefficients from memory): Ts6^4 = g14 (18.1 Tb9)^2.42
+    return 1e6 * (g14 * (18.1 * tb / 1e9) ** 2.42) ** 0.25
+
+
+@pytest.mark.parametrize("tb, g14", [(1e7, 1.0), (1e8, 1.0), (1e8, 2.4), (5e8, 1.6), (2e9, 1.0)])
+def test_pcy97_fits_at_stated_points(tb, g14):
+    assert pcy97_iron(tb, g14) == pytest.approx(_pcy97_iron_reference(tb, g14), rel=1e-12)
+    assert pcy97_accreted(tb, g14) == pytest.approx(_pcy97_accreted_reference(tb, g14), rel=1e-12)
+
+
+def test_pcy97_iron_close_to_gpe83():
+    # Potekhin et al. 1997 find their iron-envelope relation close to GPE83's (within ~10 %; value from memory)
+    tb = np.geomspace(1e7, 3e9, 30)
+    for g14 in (1.0, 2.0):
+        ratio = pcy97_iron(tb, g14) / gpe83(tb, g14)
+        assert np.all(np.abs(ratio - 1) < 0.10)
+
+
+def test_accreted_envelope_is_hotter_at_fixed_internal_temperature():
+    # Potekhin et al. 1997 abstract: accreted matter decreases the temperature gradient -> higher Ts at given Tb
+    tb = np.geomspace(1e7, 3e9, 30)
+    assert np.all(pcy97_accreted(tb, 1.5) > pcy97_iron(tb, 1.5))
+
+
+def test_gravity_scaling():
+    # Ts proportional to g14^(1/4) at fixed Tb (GPE83 form)
+    assert gpe83(3e8, 2.0) / gpe83(3e8, 1.0) == pytest.approx(2**0.25, rel=1e-12)
+
+
+def test_validity_range_and_unknown_envelope():
+    with pytest.raises(ModelRangeError, match="Tb"):
+        surface_temperature(3e10, 1.0, "iron")
+    with pytest.raises(ModelRangeError, match="Ts >="):
+        surface_temperature(2e5, 1.0, "iron")  # Ts below 5e4 K (Potekhin et al. 1997: Teff > 5e4 K)
+    with pytest.raises(InputError, match="unknown envelope"):
+        surface_temperature(1e8, 1.0, "helium-ish")
+
+
+def test_star_structure_against_astropy_constants():
+    # rg = 2 G M / c^2, g = G M / (R^2 sqrt(1 - rg/R)) (e.g. Yakovlev & Pethick 2004), astropy constants
+    m, r = 1.4 * u.M_sun, 12 * u.km
+    rg = (2 * const.G * m / const.c**2).to(u.km)
+    red = np.sqrt(1 - (rg / r).decompose().value)
+    g14 = (const.G * m / r**2 / red).to_value(u.cm / u.s**2) / 1e14
+    st = star_structure(1.4, 12.0)
+    assert st.rg_km == pytest.approx(rg.value, rel=1e-6)
+    assert st.redshift_factor == pytest.approx(red, rel=1e-6)
+    assert st.g14 == pytest.approx(g14, rel=1e-6)
+
+
+def test_star_structure_rejects_too_compact_stars():
+    # Schwarzschild radius of 1.4 Msun is 4.13 km; Buchdahl (1959) limit 9/4 GM/c^2 = 4.65 km
+    with pytest.raises(InputError, match=r"\[ages\] radius.*Schwarzschild"):
+        star_structure(1.4, 4.0)
+    with pytest.raises(InputError, match=r"\[ages\] radius.*Buchdahl"):
+        star_structure(1.4, 4.5)
+    assert star_structure(1.4, 4.8).redshift_factor > 0
