@@ -20,7 +20,7 @@ from .field_decay import (exponential_decay_timescale, ohm_hall_characteristic_a
                           ohm_hall_true_age)
 from .spindown import (braking_index_age, characteristic_age, dipole_field, implied_initial_period,
                        max_braking_index_age, spin_down_luminosity)
-from .verdicts import format_age, pair_verdict
+from .verdicts import age_verdicts, format_age
 
 __all__ = ["AgesResult", "compare_ages"]
 
@@ -286,7 +286,7 @@ def compare_ages(scenario, *, kinematic_age_samples=None, kinematic_age_source=N
     pset = get_pset("cooling_model", s.cooling_model, "[ages] cooling_model")
 
     # verdicts -----------------------------------------------------------------
-    verdicts = _verdicts(values, unc, kin_iv, cool, s)
+    verdicts = age_verdicts(values, unc, kin_iv, cool, s)
     inputs = {"star": star.to_dict(), "ages": scenario.ages.to_dict() if scenario.ages is not None else {}}
     return AgesResult(
         star=str(star.get("name", "star")), values=values, uncertainties=unc,
@@ -315,8 +315,9 @@ def _implied(values, unc, decay, spin, s, kin_med, kin_d, tc_d, warnings):
     tau_d = _num(exponential_decay_timescale(kin_med, tc))
     values["decay_timescale_yr"] = tau_d
     if tau_d is None:
-        values["decay_timescale_note"] = (f"no solution: the kinematic age {format_age(kin_med)} is not shorter than "
-                                          f"the characteristic age {format_age(tc)} (decay only makes a star look older)")
+        values["decay_timescale_note"] = (
+            f"no solution: the kinematic age {format_age(kin_med)} is not shorter than the characteristic age "
+            f"{format_age(tc)} (decay only makes a star look older)")
     td_d = exponential_decay_timescale(kin_d, tc_d)
     unc["decay_timescale_yr"] = interval(td_d)
     decay["exponential"] = {
@@ -357,54 +358,6 @@ def _cooling(star, s, rng, heating):
     except ValueError:
         cool_m = None
     return cool, cool_m
-
-
-def _verdicts(values, unc, kin, cool, s):
-    tc_iv = unc.get("characteristic_age_yr")
-    out = []
-    p0 = values.get("implied_initial_period_s")
-    tau_d = values.get("decay_timescale_yr")
-    young = []
-    if tau_d:
-        young.append(f"exponential field decay with tau_d ~ {format_age(tau_d)}")
-    if p0:
-        young.append(f"or an initial period P0 ~ {p0:.3g} s for n = {s.braking_index:g}")
-    n_req = values.get("braking_index_for_kinematic_age")
-    old = ("no field-decay solution: field growth, a braking index below "
-           f"{n_req:.2g} (n = 1 + 2 tau_c / t)" if n_req else "no field-decay solution") + ", or a kinematic age too long"
-    miss = "star is spinning up" if values.get("spinning_up") else None
-    out.append(pair_verdict("kinematic-characteristic", "kinematic age", kin, "characteristic age", tc_iv,
-                            if_younger=" ".join(young), if_older=old, missing=miss))
-    if s.initial_period_s is not None:
-        out.append(pair_verdict("kinematic-spin_down", "kinematic age", kin,
-                                f"spin-down age for n = {s.braking_index:g}, P0 = {s.initial_period_s:g} s",
-                                unc.get("spin_down_age_yr"),
-                                if_younger="a longer P0 or a lower braking index than assumed",
-                                if_older="no spin-down history with this n and P0 reaches the kinematic age",
-                                missing=miss))
-    cool_iv = cool.pooled if cool is not None else None
-    cmiss = None if cool is not None else "no temperature or luminosity in [star]"
-    v = pair_verdict("kinematic-cooling", "kinematic age", kin, "cooling age", cool_iv,
-                     if_younger="the star is colder than the cooling curves predict at that age (faster cooling, "
-                                "e.g. direct Urca in a heavier star, or an iron envelope)",
-                     if_older="the star is hotter than the cooling curves predict at that age (extra heating, "
-                              "e.g. field decay, or a light-element envelope)", missing=cmiss)
-    if cool is not None and kin is not None and kin.get("median") is not None:
-        from .verdicts import compare_intervals
-
-        fits = [f"{r['envelope']} {r['mass_msun']:g} Msun" for r in cool.per_model
-                if r["median"] is not None and compare_intervals(kin, r)["consistent"]]
-        v["favoured_models"] = fits
-        v["short"] = v["text"]
-        v["text"] += (f" Envelopes and masses consistent with the kinematic age: {', '.join(fits)}." if fits
-                      else " No envelope and mass considered matches the kinematic age.")
-    out.append(v)
-    out.append(pair_verdict("characteristic-cooling", "characteristic age", tc_iv, "cooling age", cool_iv,
-                            if_younger="the star is colder than expected at its characteristic age",
-                            if_older="the star is hotter than expected at its characteristic age, as field decay "
-                                     "(spin-down age too long) or heating would give",
-                            missing=miss or cmiss))
-    return out
 
 
 def _assumptions(s, shk, kin_method):

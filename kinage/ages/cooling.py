@@ -139,7 +139,8 @@ def field_decay_heating(b0_gauss, decay_timescale_yr, radius_km=12.0, efficiency
     def heating(t_yr):
         return amp * np.exp(-2.0 * np.asarray(t_yr, float) / decay_timescale_yr)
 
-    heating.description = f"field decay B0 = {b0_gauss:.3g} G, tau_d = {decay_timescale_yr:.3g} yr, efficiency {efficiency}"
+    heating.description = (f"field decay B0 = {b0_gauss:.3g} G, tau_d = {decay_timescale_yr:.3g} yr, "
+                           f"efficiency {efficiency}")
     return heating
 
 

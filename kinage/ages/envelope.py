@@ -170,8 +170,8 @@ def star_structure(mass_msun, radius_km, where_mass="[ages] mass", where_radius=
         raise InputError(where_radius, f"R = {r} km is not above the Schwarzschild radius 2GM/c^2 = {rg_km:.2f} km "
                          f"for M = {m} solMass")
     if r <= 1.125 * rg_km:
-        raise InputError(where_radius, f"R = {r} km is not above the Buchdahl limit 9/4 GM/c^2 = {1.125 * rg_km:.2f} km "
-                         f"for M = {m} solMass (no static star is that compact)")
+        raise InputError(where_radius, f"R = {r} km is not above the Buchdahl limit 9/4 GM/c^2 = "
+                         f"{1.125 * rg_km:.2f} km for M = {m} solMass (no static star is that compact)")
     x = rg_km / r
     red = np.sqrt(1.0 - x)
     g = _G_CGS * m * _MSUN_G / (r * 1e5) ** 2 / red

@@ -9,7 +9,7 @@ by what factor, and what that implies.
 
 import numpy as np
 
-__all__ = ["format_age", "log_sigma", "compare_intervals", "pair_verdict"]
+__all__ = ["format_age", "log_sigma", "compare_intervals", "pair_verdict", "age_verdicts"]
 
 
 def format_age(yr):
@@ -90,3 +90,68 @@ def pair_verdict(pair, name_a, a, name_b, b, *, if_younger="", if_older="", miss
         text = f"The {name_a} ({fa}) is older than the {name_b} ({fb}) by a factor {c['ratio']:.2g}"
         text += f", implying {if_older}." if if_older else "."
     return {"pair": pair, "text": text, **c}
+
+
+def age_verdicts(values, unc, kin, cool, s):
+    """Verdicts for the pairs kinematic-characteristic, kinematic-spin_down (when P0 is given),
+    kinematic-cooling and characteristic-cooling.
+
+    Parameters
+    ----------
+    values : dict
+        Nominal values of the ages stage (``implied_initial_period_s``,
+        ``decay_timescale_yr``, ``braking_index_for_kinematic_age``, ``spinning_up``).
+    unc : dict
+        Monte Carlo intervals (``characteristic_age_yr``, ``spin_down_age_yr``), yr.
+    kin : dict or None
+        Kinematic-age interval, yr.
+    cool : CoolingAgeResult or None
+    s : AgesSettings
+
+    Returns
+    -------
+    list of dict
+    """
+    tc_iv = unc.get("characteristic_age_yr")
+    out = []
+    p0 = values.get("implied_initial_period_s")
+    tau_d = values.get("decay_timescale_yr")
+    young = []
+    if tau_d:
+        young.append(f"exponential field decay with tau_d ~ {format_age(tau_d)}")
+    if p0:
+        young.append(f"or an initial period P0 ~ {p0:.3g} s for n = {s.braking_index:g}")
+    n_req = values.get("braking_index_for_kinematic_age")
+    old = (f"no field-decay solution: field growth, a braking index below {n_req:.2g} (n = 1 + 2 tau_c / t)"
+           if n_req else "no field-decay solution") + ", or a kinematic age too long"
+    miss = "star is spinning up" if values.get("spinning_up") else None
+    out.append(pair_verdict("kinematic-characteristic", "kinematic age", kin, "characteristic age", tc_iv,
+                            if_younger=" ".join(young), if_older=old, missing=miss))
+    if s.initial_period_s is not None:
+        out.append(pair_verdict("kinematic-spin_down", "kinematic age", kin,
+                                f"spin-down age for n = {s.braking_index:g}, P0 = {s.initial_period_s:g} s",
+                                unc.get("spin_down_age_yr"),
+                                if_younger="a longer P0 or a lower braking index than assumed",
+                                if_older="no spin-down history with this n and P0 reaches the kinematic age",
+                                missing=miss))
+    cool_iv = cool.pooled if cool is not None else None
+    cmiss = None if cool is not None else "no temperature or luminosity in [star]"
+    v = pair_verdict("kinematic-cooling", "kinematic age", kin, "cooling age", cool_iv,
+                     if_younger="the star is colder than the cooling curves predict at that age (faster cooling, "
+                                "e.g. direct Urca in a heavier star, or an iron envelope)",
+                     if_older="the star is hotter than the cooling curves predict at that age (extra heating, "
+                              "e.g. field decay, or a light-element envelope)", missing=cmiss)
+    if cool is not None and kin is not None and kin.get("median") is not None:
+        fits = [f"{r['envelope']} {r['mass_msun']:g} Msun" for r in cool.per_model
+                if r["median"] is not None and compare_intervals(kin, r)["consistent"]]
+        v["favoured_models"] = fits
+        v["short"] = v["text"]
+        v["text"] += (f" Envelopes and masses consistent with the kinematic age: {', '.join(fits)}." if fits
+                      else " No envelope and mass considered matches the kinematic age.")
+    out.append(v)
+    out.append(pair_verdict("characteristic-cooling", "characteristic age", tc_iv, "cooling age", cool_iv,
+                            if_younger="the star is colder than expected at its characteristic age",
+                            if_older="the star is hotter than expected at its characteristic age, as field decay "
+                                     "(spin-down age too long) or heating would give",
+                            missing=miss or cmiss))
+    return out

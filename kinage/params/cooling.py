@@ -49,6 +49,7 @@ _builtin(ParameterSet(
 _builtin(ParameterSet(
     "cooling_model", "direct-urca",
     dict(_COMMON, direct_urca_erg_s=1.0e46, direct_urca_threshold_msun=1.5, direct_urca_width_msun=0.1),
-    references=_REFS + ("Lattimer, Pethick, Prakash & Haensel 1991, PRL 66, 2701 (direct Urca above a threshold density)",),
+    references=_REFS + (
+        "Lattimer, Pethick, Prakash & Haensel 1991, PRL 66, 2701 (direct Urca above a threshold density)",),
     description="modified Urca plus direct Urca above 1.5 solar masses (illustrative threshold)",
 ))
