@@ -43,6 +43,8 @@ def plot_age_ladder(rows, path, title=None):
         if finite:
             lo, hi = min(finite), max(finite)
             ax.set_xlim(lo / 3.0, hi * 3.0)
+        else:
+            ax.text(0.5, 0.5, "no ages available", transform=ax.transAxes, ha="center", va="center")
         ax.set_ylim(-0.7, len(rows) - 0.3)
         ax.set_xlabel("age (yr)")
         ax.grid(True, axis="x", which="both", alpha=0.25)
