@@ -1,0 +1,138 @@
+"""The tracing front door: synthetic recovery, reproducibility, failures, products."""
+
+import json
+import warnings
+
+import astropy.coordinates as coord
+import astropy.units as u
+import numpy as np
+import pytest
+
+from kinage import scenario_from_dict
+from kinage.errors import InputError
+from kinage.io.results import to_jsonable
+from kinage.kinematics import StarDraws
+from kinage.orbits import trace
+from kinage.orbits.frames import solar_frame
+from kinage.orbits.integrate import integrate_orbits, time_grid
+from kinage.params import get
+
+HEADER = ("name,ra,dec,distance,distance_error,pm_ra_cosdec,pm_ra_cosdec_error,pm_dec,pm_dec_error,"
+          "radial_velocity,radial_velocity_error,radius,age")
+
+
+def _synthetic(tmp_path, seed, age_myr=1.5):
+    """A star born at the centre of 'Lyra Nova-1' age_myr ago with a 350 km/s kick, flown forward with galpy.
+
+    Returns the scenario dict (observed astrometry with errors) and the true age.
+    """
+    rng = np.random.default_rng(seed)
+    f = solar_frame("astropy-v4.0")
+    pset = get("potential", "MWPotential2014")
+    a = dict(ra=100.0, dec=5.0, distance=450.0, pmra=-1.5, pmdec=-0.5, rv=18.0)
+    apos, avel = f.to_galactocentric(a["ra"], a["dec"], a["distance"], a["pmra"], a["pmdec"], a["rv"])
+    t = time_grid(age_myr, 201)
+    back = integrate_orbits(apos, avel, t, pset)
+    bpos, bvel = back.state(np.array([0]), np.array([len(t) - 1]))
+    kick = rng.normal(size=3)
+    kick *= 350.0 / np.linalg.norm(kick)
+    fwd = integrate_orbits(bpos, bvel + kick, -t, pset)
+    spos, svel = fwd.state(np.array([0]), np.array([len(t) - 1]))
+    gc = coord.Galactocentric(galcen_distance=f.r0_kpc * u.kpc, z_sun=f.z0_kpc * u.kpc,
+                              galcen_v_sun=f.v_sun_kms * u.km / u.s, roll=0 * u.deg)
+    c = coord.SkyCoord(x=spos[0, 0] * u.kpc, y=spos[0, 1] * u.kpc, z=spos[0, 2] * u.kpc,
+                       v_x=svel[0, 0] * u.km / u.s, v_y=svel[0, 1] * u.km / u.s, v_z=svel[0, 2] * u.km / u.s,
+                       frame=gc).transform_to(coord.ICRS())
+    plx, plx_err, pm_err = 1000 / c.distance.to_value(u.pc), 0.05, 0.2  # VLBI-like errors
+    star = {"name": "Testar J0001", "ra": float(c.ra.deg), "dec": float(c.dec.deg),
+            "parallax": plx + plx_err * rng.normal(), "parallax_error": plx_err,
+            "pm_ra_cosdec": float(c.pm_ra_cosdec.to_value(u.mas / u.yr)) + pm_err * rng.normal(),
+            "pm_ra_cosdec_error": pm_err,
+            "pm_dec": float(c.pm_dec.to_value(u.mas / u.yr)) + pm_err * rng.normal(), "pm_dec_error": pm_err}
+    rows = [f"Lyra Nova-1,{a['ra']},{a['dec']},{a['distance']},10,{a['pmra']},0.2,{a['pmdec']},0.2,{a['rv']},2,15,5",
+            # decoy: 250 pc away on the other side of the sky
+            "Cetra Decoy-2,280.0,-5.0,400,10,1.0,0.2,-2.0,0.2,-10,2,15,5"]
+    path = tmp_path / "assoc.csv"
+    path.write_text("\n".join([HEADER] + rows) + "\n")
+    trace_tab = {"associations": str(path), "samples": 2000, "association_samples": 100, "max_age": 4.0,
+                 "time_steps": 401, "seed": seed, "control_runs": 4}
+    return {"star": star, "trace": trace_tab}, age_myr
+
+
+@pytest.mark.slow
+def test_synthetic_recovery(tmp_path):
+    hits = 0
+    trials = 5
+    for seed in range(trials):
+        raw, age = _synthetic(tmp_path, seed)
+        res = trace(scenario_from_dict(raw))
+        d = res.to_dict()
+        names = [s["name"] for s in d["associations"]]
+        assert names[0] == "Lyra Nova-1"
+        assert d["favoured"] == "Lyra Nova-1"
+        decoy = d["associations"][1]
+        assert not decoy["favoured"] and decoy["encounter_fraction"] < 0.01
+        iv = d["associations"][0]["age_yr"]
+        hits += iv["lo68"] <= age * 1e6 <= iv["hi68"]
+        ages = res.kinematic_age_samples()
+        assert ages.size == d["associations"][0]["n_encounters"]
+    assert hits >= 3  # the 68% interval covers the true age in most trials
+
+
+def _small(tmp_path, **trace_kw):
+    raw, _ = _synthetic(tmp_path, 7)
+    raw["trace"].update(samples=120, association_samples=30, control_runs=2, time_steps=201, **trace_kw)
+    return scenario_from_dict(raw)
+
+
+def test_same_seed_same_numbers_and_chunking_does_not_matter(tmp_path):
+    s1 = _small(tmp_path)
+    s2 = _small(tmp_path, chunk_size=37)
+    a = json.dumps(to_jsonable(trace(s1).to_dict()["associations"]))
+    b = json.dumps(to_jsonable(trace(s2).to_dict()["associations"]))
+    assert a == b
+
+
+def test_overrides_keys_and_products(tmp_path):
+    s = _small(tmp_path)
+    res = trace(s, samples=50, potential="none", rng=5)
+    d = res.to_dict()
+    for key in ("n_samples", "seed", "associations", "plane_crossing_age_yr", "favoured", "verdict",
+                "failed_draws", "potential", "solar_parameters", "velocity_prior", "distance_prior"):
+        assert key in d
+    assert d["n_samples"] == 50 and d["seed"] == 5 and d["potential"] == "none"
+    for s_ in d["associations"]:
+        for key in ("name", "encounter_fraction", "chance_fraction", "age_yr", "dmin_pc", "ratio",
+                    "required_radial_velocity_kms", "common_origin", "n_encounters"):
+            assert key in s_
+        assert set(("median", "lo68", "hi68")) <= set(s_["age_yr"]) and set(("median", "lo68", "hi68")) <= set(s_["dmin_pc"])
+    json.dumps(to_jsonable(d), allow_nan=False)
+    assert isinstance(res.summary(), str) and res.assumptions and res.parameter_sets
+    paths = res.write_products(tmp_path / "out")
+    names = {p.name for p in paths}
+    assert {"trace_encounters.ecsv", "trace_sky.png", "trace_dmin_tau.png", "trace_tau_hist.png",
+            "trace_birth_xyz.png"} <= names
+    assert all(p.stat().st_size > 0 for p in paths)
+
+
+def test_failed_orbit_recorded_with_index_and_warning(tmp_path, monkeypatch):
+    original = StarDraws.galactocentric
+
+    def broken(self, frame):
+        pos, vel = original(self, frame)
+        pos[3] = np.nan
+        return pos, vel
+
+    monkeypatch.setattr(StarDraws, "galactocentric", broken)
+    with pytest.warns(RuntimeWarning, match="could not be integrated"):
+        res = trace(_small(tmp_path), samples=40)
+    d = res.to_dict()
+    assert {"index": 3, "kind": "star"}.items() <= d["failed_draws"][0].items()
+    assert d["associations"][0]["n_valid"] == 39
+
+
+@pytest.mark.parametrize("override, match", [({"potential": "Nowhere2020"}, "choose one of"),
+                                             ({"samples": 0}, "samples")])
+def test_bad_trace_input(tmp_path, override, match):
+    with pytest.raises(InputError, match=match):
+        trace(_small(tmp_path), **override)
