@@ -114,30 +114,30 @@ class PulseProfile:
     def n_harmonics(self):
         return self.cos_amps.size
 
-    def _basis(self, phi):
-        k = np.arange(1, self.n_harmonics + 1)
-        arg = 2 * np.pi * np.multiply.outer(np.asarray(phi, float), k)
-        return k, np.cos(arg), np.sin(arg)
+    def evaluate(self, phi):
+        """(phi, f, f', f'') at phases ``phi`` (cycles); derivatives per cycle."""
+        phi = np.asarray(phi, float)
+        f = np.ones_like(phi)
+        d = np.zeros_like(phi)
+        d2 = np.zeros_like(phi)
+        for k, (al, be) in enumerate(zip(self.cos_amps, self.sin_amps), start=1):
+            if al == 0 and be == 0:
+                continue
+            w = 2 * np.pi * k
+            c = np.cos(w * phi)
+            s = np.sin(w * phi)
+            f += al * c + be * s
+            d += w * (be * c - al * s)
+            d2 -= w * w * (al * c + be * s)
+        return phi, f, d, d2
 
     def rate(self, phi):
         """f(phi), relative rate (mean 1); ``phi`` in cycles."""
-        _, c, s = self._basis(phi)
-        return 1.0 + c @ self.cos_amps + s @ self.sin_amps
+        return self.evaluate(phi)[1]
 
     def derivative(self, phi):
         """df/dphi, per cycle."""
-        k, c, s = self._basis(phi)
-        w = 2 * np.pi * k
-        return (-s * w) @ self.cos_amps + (c * w) @ self.sin_amps
-
-    def evaluate(self, phi):
-        """(phi, f, f', f'') at phases ``phi`` (cycles) from one basis evaluation."""
-        k, c, s = self._basis(phi)
-        w = 2 * np.pi * k
-        f = 1.0 + c @ self.cos_amps + s @ self.sin_amps
-        d = (-s * w) @ self.cos_amps + (c * w) @ self.sin_amps
-        d2 = (-c * w**2) @ self.cos_amps + (-s * w**2) @ self.sin_amps
-        return phi, f, d, d2
+        return self.evaluate(phi)[2]
 
     def pulsed_fraction(self):
         """(max-min)/(max+min) of the profile."""
@@ -282,11 +282,15 @@ def expected_z2(profile, source_rate, background_rate, exposure, harmonics=2):
 
 def detection_sigma(z2, harmonics=2):
     """Gaussian-equivalent significance of a Z^2_n value (chi^2 with 2n dof under no pulsation)."""
-    from scipy.special import ndtri_exp
-    from scipy.stats import chi2
+    from scipy.special import gammaln, logsumexp, ndtri_exp, xlogy
 
-    logp = chi2.logsf(np.asarray(z2, float), 2 * int(harmonics))
-    return np.maximum(-ndtri_exp(logp), 0.0)
+    # chi^2 with 2n dof: P(>z) = exp(-z/2) sum_{j<n} (z/2)^j / j!, summed in logs
+    # so that very significant pulsations do not underflow to p = 0
+    half = np.maximum(np.asarray(z2, float), 0.0)[..., None] / 2
+    j = np.arange(int(harmonics))
+    with np.errstate(divide="ignore"):
+        logp = logsumexp(xlogy(j, half) - gammaln(j + 1), axis=-1) - half[..., 0]
+    return np.maximum(-ndtri_exp(np.minimum(logp, 0.0)), 0.0)
 
 
 def simulate_photon_phases(profile, n_photons, rng=None, phase=0.0, size=None):
@@ -304,16 +308,21 @@ def simulate_photon_phases(profile, n_photons, rng=None, phase=0.0, size=None):
     """
     rng = np.random.default_rng(rng)
     shape = (n_photons,) if size is None else (size, n_photons)
-    fmax = profile.rate(np.linspace(0, 1, _GRID, endpoint=False)).max() * 1.001
-    out = np.empty(int(np.prod(shape)))
+    total = int(np.prod(shape))
+    grid = profile.rate(np.linspace(0, 1, _GRID, endpoint=False))
+    fmin, fmax = max(grid.min(), 0.0), grid.max() * 1.0005
+    # f = fmin + (f - fmin): a uniform part of weight fmin and a pulsed part of
+    # weight 1 - fmin drawn by rejection (cheap when the pulsation is weak)
+    out = rng.random(total)
+    pulsed = np.flatnonzero(rng.random(total) >= fmin)
     filled = 0
-    while filled < out.size:
-        need = out.size - filled
-        m = int(need * fmax * 1.1) + 16
+    while filled < pulsed.size:
+        need = pulsed.size - filled
+        m = int(need * (fmax - fmin) / max(1 - fmin, 1e-12) * 1.1) + 16
         x = rng.random(m)
-        keep = x[rng.random(m) * fmax < profile.rate(x)]
+        keep = x[rng.random(m) * (fmax - fmin) < profile.rate(x) - fmin]
         take = min(keep.size, need)
-        out[filled:filled + take] = keep[:take]
+        out[pulsed[filled:filled + take]] = keep[:take]
         filled += take
     return np.mod(out.reshape(shape) + phase, 1.0)
 
@@ -332,14 +341,16 @@ def fit_phase_ml(phases, profile, n_iter=8):
     """
     x = np.atleast_2d(np.asarray(phases, float))
     k0 = int(np.argmax(np.hypot(profile.cos_amps, profile.sin_amps)))
-    ang = np.arctan2(np.sin(2 * np.pi * (k0 + 1) * x).sum(-1), np.cos(2 * np.pi * (k0 + 1) * x).sum(-1))
     ref = np.arctan2(profile.sin_amps[k0], profile.cos_amps[k0])
-    phi0 = (ang - ref) / (2 * np.pi * (k0 + 1))
-    for _ in range(n_iter):
-        _, f, d, d2 = profile.evaluate(x - phi0[:, None])
-        grad = -(d / f).sum(-1)  # d/dphi0 of log L
-        hess = ((d2 * f - d * d) / f**2).sum(-1)  # d2/dphi0^2 of log L
-        step = -grad / np.where(hess < 0, hess, -np.abs(hess) - 1e-300)
-        phi0 = phi0 + np.clip(step, -0.05, 0.05)
+    w0 = 2 * np.pi * (k0 + 1)
+    phi0 = np.empty(x.shape[0])
+    for i, row in enumerate(x):  # one trial at a time keeps the arrays in cache
+        p0 = (np.arctan2(np.sin(w0 * row).sum(), np.cos(w0 * row).sum()) - ref) / w0
+        for _ in range(n_iter):
+            _, f, d, d2 = profile.evaluate(row - p0)
+            grad = -np.sum(d / f)  # d/dphi0 of log L
+            hess = np.sum((d2 * f - d * d) / f**2)  # d2/dphi0^2 of log L
+            p0 += float(np.clip(-grad / hess if hess < 0 else 0.0, -0.05, 0.05))
+        phi0[i] = p0
     out = np.mod(phi0 + 0.5, 1.0) - 0.5
     return out if np.ndim(phases) > 1 else out[0]

@@ -1,0 +1,260 @@
+"""Fit TOAs: generalised least squares with iterated linearisation.
+
+Starting from the scenario's values (position offsets 0, its proper motion
+and parallax or 0, spin from ``[star]``), each iteration evaluates the full
+model's residuals R and design matrix M and takes the GLS step
+-(M^T C^-1 M)^-1 M^T C^-1 R (:mod:`kinage.timing.gls`) with the scenario's
+white + red noise covariance.  Pulses are numbered once, from the starting
+model after aligning its phase zero with the TOAs (phase connection is
+assumed).  The fit has converged when every step is below 1e-3 of its
+parameter's standard error; otherwise it raises
+:class:`~kinage.errors.ConvergenceError` carrying the last result.
+
+An external prior (``prior_pm_ra_cosdec`` etc. in ``[campaign]``) is combined
+with the timing solution (:mod:`kinage.timing.priors`); the result then has
+source 'timing+prior' and keeps the timing-only solution alongside.
+"""
+
+from dataclasses import dataclass, field
+from pathlib import Path
+
+import astropy.units as u
+import numpy as np
+from astropy.table import Table
+from astropy.time import Time
+
+from ..astrometry import AstrometricSolution
+from ..errors import ConvergenceError, InputError
+from ..io.results import atomic_path
+from . import inputs
+from .forecast import noise_from_campaign
+from .forecast_result import TIMING_ASSUMPTIONS
+from .gls import gls_step
+from .model import TimeGrid, TimingModel
+from .priors import prior_solution
+from .toas import read_toas, validate_toas
+
+__all__ = ["fit_toas", "FitResult"]
+
+
+@dataclass
+class FitResult:
+    """A timing fit.
+
+    Attributes
+    ----------
+    solution : AstrometricSolution
+        Source 'timing', or 'timing+prior' when an external prior is combined.
+    timing_solution : AstrometricSolution
+        The timing-only solution.
+    parameters : dict
+        All fitted values (astrometric in mas, mas/yr; spin f0 Hz, f1 Hz/s).
+    parameter_errors : dict
+    chi2 : float
+    n_toas, n_parameters : int
+    converged : bool
+    iterations : int
+    mjd, residuals_s, errors_s, signature_s : ndarray
+        TOA epochs (MJD TDB, float for plotting), post-fit residuals, effective
+        errors and the fitted astrometric delay at each TOA (s).
+    """
+
+    solution: AstrometricSolution
+    timing_solution: AstrometricSolution
+    parameters: dict
+    parameter_errors: dict
+    chi2: float
+    n_toas: int
+    n_parameters: int
+    converged: bool
+    iterations: int
+    mjd: np.ndarray
+    residuals_s: np.ndarray
+    errors_s: np.ndarray
+    signature_s: np.ndarray
+    signature_grid: tuple | None = None
+    warnings: list = field(default_factory=list)
+    parameter_sets: list = field(default_factory=list)
+    assumptions: list = field(default_factory=lambda: list(TIMING_ASSUMPTIONS) + [
+        "generalised least squares with fixed noise parameters (Coles et al. 2011, MNRAS 418, 561)",
+    ])
+
+    @property
+    def chi2_reduced(self):
+        return self.chi2 / (self.n_toas - self.n_parameters)
+
+    def to_dict(self):
+        r = self.residuals_s
+        w = 1 / self.errors_s**2
+        out = {
+            "values": self.solution.values_dict(),
+            "sigma": self.solution.sigma_dict(),
+            "source": self.solution.source,
+            "epoch_mjd_tdb": float(self.solution.epoch.tdb.mjd),
+            "ra_deg": float(self.solution.ra.value),
+            "dec_deg": float(self.solution.dec.value),
+            "covariance": self.solution.covariance.tolist(),
+            "chi2": self.chi2,
+            "chi2_reduced": self.chi2_reduced,
+            "n_toas": self.n_toas,
+            "n_parameters": self.n_parameters,
+            "converged": self.converged,
+            "iterations": self.iterations,
+            "spin": {k: v for k, v in self.parameters.items() if k in ("phase", "f0", "f1", "f2")},
+            "spin_sigma": {k: v for k, v in self.parameter_errors.items() if k in ("phase", "f0", "f1", "f2")},
+            "residuals": {"rms_us": float(np.sqrt(np.mean(r**2)) * 1e6),
+                          "weighted_rms_us": float(np.sqrt(np.sum(w * r**2) / np.sum(w)) * 1e6),
+                          "max_abs_us": float(np.max(np.abs(r)) * 1e6), "n": int(r.size)},
+            "warnings": list(self.warnings),
+        }
+        if self.solution is not self.timing_solution:
+            out["timing_only"] = {"values": self.timing_solution.values_dict(),
+                                  "sigma": self.timing_solution.sigma_dict()}
+        return out
+
+    def summary(self):
+        v, s = self.solution.values_dict(), self.solution.sigma_dict()
+        pri = " combined with the external prior" if self.solution.source == "timing+prior" else ""
+        return (f"The timing fit of {self.n_toas} TOAs{pri} gives a proper motion of "
+                f"{v['pm_ra_cosdec_masyr']:.3g} +/- {s['pm_ra_cosdec_masyr']:.2g} (ra*cos dec) and "
+                f"{v['pm_dec_masyr']:.3g} +/- {s['pm_dec_masyr']:.2g} (dec) mas/yr and a parallax of "
+                f"{v['parallax_mas']:.3g} +/- {s['parallax_mas']:.2g} mas "
+                f"(reduced chi-square {self.chi2_reduced:.2f}"
+                f"{'' if self.converged else ', NOT converged'}).")
+
+    def residual_table(self):
+        t = Table()
+        t["mjd"] = self.mjd
+        t["residual"] = self.residuals_s * u.s
+        t["error"] = self.errors_s * u.s
+        t["astrometric_delay"] = self.signature_s * u.s
+        t.meta["time_scale"] = "tdb"
+        t.meta["note"] = "mjd rounded to float64 for plotting; residuals are exact"
+        return t
+
+    def write_products(self, out_dir):
+        """Write ``fit_residuals.ecsv`` and ``fit_residuals.png``."""
+        from .plots import residual_figure
+
+        out = Path(out_dir)
+        out.mkdir(parents=True, exist_ok=True)
+        with atomic_path(out / "fit_residuals.ecsv") as tmp:
+            self.residual_table().write(tmp, format="ascii.ecsv", overwrite=True)
+        return [out / "fit_residuals.ecsv", Path(residual_figure(self, out / "fit_residuals.png"))]
+
+
+def fit_toas(toas, scenario, *, max_iter=20, method="woodbury"):
+    """Fit a TOA table by iterated generalised least squares.
+
+    Parameters
+    ----------
+    toas : astropy.table.Table or str or Path
+        TOA table (see :mod:`kinage.timing.toas`).
+    scenario : Scenario
+        ``[star]`` gives the starting values and spin; ``[campaign]`` (optional)
+        the noise model, ``spin_terms`` and any external prior.
+    max_iter : int
+        Maximum number of linearisation steps.
+    method : {'woodbury', 'dense'}
+
+    Returns
+    -------
+    FitResult
+
+    Raises
+    ------
+    ConvergenceError
+        When the steps do not settle within ``max_iter`` (``last_result``
+        holds the last iterate, marked not converged).
+    """
+    tab = read_toas(toas) if isinstance(toas, (str, Path)) else validate_toas(toas)
+    star = scenario.star
+    c = scenario.campaign
+    if c is None:
+        c = _DefaultCampaign()
+    ra, dec = star.value("ra", "deg"), star.value("dec", "deg")
+    if ra is None or dec is None:
+        raise InputError("[star] ra", "position (ra, dec) is required to fit TOAs")
+    f0, f1, _ = inputs.spin_from_star(star, required=True, where="fitting TOAs")
+    model = TimingModel(ra, dec, f0, f1, 0.0, int(c.get("spin_terms", 2)))
+    times = tab["mjd"].tdb
+    n = len(tab)
+    p = model.n_parameters
+    if n <= p:
+        raise InputError("TOA table", f"need more TOAs than fitted parameters ({n} TOAs for {p} parameters)")
+    epoch = star.get("epoch") or Time(np.round(0.5 * (times[0].to_value("mjd", "float") + times[-1].to_value("mjd", "float"))), format="mjd", scale="tdb")
+    grid = TimeGrid.from_times(times, epoch)
+    errors = u.Quantity(tab["error"]).to_value(u.s)
+    noise = noise_from_campaign(c, grid.seconds, errors)
+    astro0 = [0.0, 0.0, star.value("pm_ra_cosdec", "mas/yr", 0.0), star.value("pm_dec", "mas/yr", 0.0),
+              star.value("parallax", "mas", None)]
+    if astro0[4] is None:
+        d = star.value("distance", "pc")
+        astro0[4] = 1000.0 / d if d else 0.0
+    theta = model.start_vector(astro0)
+    phi = model.phase(grid, theta)[0]
+    frac = phi - np.round(phi)
+    theta[5] = -np.angle(np.mean(np.exp(2j * np.pi * frac))) / (2 * np.pi)  # align phase zero
+    pulses = model.pulse_numbers(grid, theta)
+
+    last = None
+    for it in range(1, max_iter + 1):
+        resid = model.residuals(grid, theta, pulses)
+        design = model.design_matrix(grid, theta, pulses)
+        try:
+            step, cov, _ = gls_step(design, resid, noise, method)
+        except ConvergenceError as exc:
+            raise ConvergenceError(str(exc), last_result=last) from None
+        if not np.all(np.isfinite(step)):
+            raise ConvergenceError("the fit diverged (non-finite step)", last_result=last)
+        theta = theta + step
+        sig = np.sqrt(np.diag(cov))
+        done = bool(np.all(np.abs(step) <= 1e-3 * sig))
+        last = _result(model, grid, theta, pulses, noise, method, star, c, epoch, tab, it, done)
+        if done:
+            return last
+    raise ConvergenceError(f"the timing fit did not converge in {max_iter} iterations "
+                           "(phase connection lost or a bad starting model?)", last_result=last)
+
+
+def _result(model, grid, theta, pulses, noise, method, star, c, epoch, tab, it, converged):
+    resid = model.residuals(grid, theta, pulses)
+    design = model.design_matrix(grid, theta, pulses)
+    _, cov, chi2 = gls_step(design, resid, noise, method)
+    names = model.parameter_names
+    sig = np.sqrt(np.diag(cov))
+    timing = AstrometricSolution(epoch, model.ra_deg, model.dec_deg, theta[:5], cov[:5, :5], source="timing")
+    prior = prior_solution(c, timing)
+    solution = timing.combine(prior, source="timing+prior") if prior is not None else timing
+    warnings = []
+    period = 1.0 / theta[6]
+    if np.max(np.abs(resid)) > 0.25 * period:
+        warnings.append("residuals exceed a quarter of the spin period: the pulse numbering may be wrong")
+    if not converged:
+        warnings.append("not converged")
+    sig_toa = model.astro_partials(grid) @ theta[:5]
+    mjd = tab["mjd"].tdb.to_value("mjd", "float")
+    dense = np.linspace(mjd[0], mjd[-1], 600)
+    dgrid = TimeGrid.from_times(Time(dense, format="mjd", scale="tdb"), epoch)
+    dsig = model.astro_partials(dgrid) @ theta[:5]
+    return FitResult(
+        solution=solution, timing_solution=timing,
+        parameters={k: float(v) for k, v in zip(names, theta)},
+        parameter_errors={k: float(v) for k, v in zip(names, sig)},
+        chi2=float(chi2), n_toas=grid.seconds.size, n_parameters=theta.size, converged=converged,
+        iterations=it, mjd=mjd, residuals_s=resid, errors_s=np.sqrt(noise.white_var), signature_s=sig_toa,
+        signature_grid=(dense, dsig), warnings=warnings,
+    )
+
+
+class _DefaultCampaign:
+    """Schema defaults of ``[campaign]`` when a scenario has no such table."""
+
+    def get(self, name, default=None):
+        from ..io.schema import SCHEMA
+
+        key = SCHEMA["campaign"][name]
+        return default if key.default is None else key.default
+
+    def value(self, name, unit=None, default=None):
+        return self.get(name, default)

@@ -1,0 +1,210 @@
+"""Observing plan: visit epochs with a Sun-avoidance constraint.
+
+Visits are evenly spaced at ``visits_per_year`` from ``start`` over
+``baseline`` (the first and last visit are ``baseline`` apart when
+``baseline * visits_per_year`` is a whole number), or given as an explicit
+list of ``dates``.  No visit may fall while the source is closer to the Sun
+than ``sun_avoidance``: the Sun's apparent (geocentric) position is taken from
+astropy's :func:`~astropy.coordinates.get_sun` and compared with the source's
+ICRS position.  Regular visits that fall inside the exclusion window move to
+the nearest allowed day (a day not already taken by another visit); explicit
+dates inside it are an error that names them.
+"""
+
+from dataclasses import dataclass, field
+
+import astropy.units as u
+import numpy as np
+from astropy.time import Time
+
+from ..errors import InputError
+
+__all__ = ["ObservingPlan", "SunWindow", "sun_separation", "regular_epochs", "make_plan"]
+
+_YEAR_D = 365.25
+
+
+def sun_separation(mjd_tdb, ra_deg, dec_deg):
+    """Angle between the Sun and the source, degrees, at MJD(TDB) epochs.
+
+    Parameters
+    ----------
+    mjd_tdb : float or ndarray, days (TDB)
+    ra_deg, dec_deg : float, degrees (ICRS)
+    """
+    import warnings
+
+    from astropy.coordinates import SkyCoord, get_sun
+    from astropy.utils import iers
+    from erfa import ErfaWarning
+
+    t = Time(np.atleast_1d(np.asarray(mjd_tdb, float)), format="mjd", scale="tdb")
+    with warnings.catch_warnings(), iers.conf.set_temp("auto_download", False):
+        # future epochs lie beyond the leap-second table ("dubious year"): harmless
+        # at the degree level of this check; never download Earth-orientation data
+        warnings.simplefilter("ignore", ErfaWarning)
+        warnings.filterwarnings("ignore", module="astropy.utils.iers")
+        sun = get_sun(t)
+        src = SkyCoord(ra_deg * u.deg, dec_deg * u.deg, frame="icrs")
+        # compare directions in the GCRS frame of each epoch
+        return sun.separation(src.transform_to(sun.frame)).to_value(u.deg)
+
+
+@dataclass
+class SunWindow:
+    """Allowed observing days on a daily grid, for one source and one angle.
+
+    Attributes
+    ----------
+    mjd : ndarray
+        Daily grid, MJD (TDB).
+    allowed : ndarray of bool
+        Source at least ``angle_deg`` from the Sun on that day.
+    """
+
+    ra_deg: float
+    dec_deg: float
+    angle_deg: float
+    mjd: np.ndarray
+    allowed: np.ndarray
+
+    @classmethod
+    def compute(cls, ra_deg, dec_deg, angle_deg, mjd_start, mjd_stop):
+        """Evaluate the constraint daily from ``mjd_start - 200`` to ``mjd_stop + 200``."""
+        grid = np.arange(np.floor(mjd_start) - 200, np.ceil(mjd_stop) + 201, 1.0)
+        if angle_deg <= 0:
+            return cls(ra_deg, dec_deg, angle_deg, grid, np.ones(grid.size, bool))
+        sep = sun_separation(grid, ra_deg, dec_deg)
+        return cls(ra_deg, dec_deg, angle_deg, grid, sep >= angle_deg)
+
+    def shift(self, mjd):
+        """Move epochs to the nearest allowed, not yet used day; returns new MJDs.
+
+        The fractional part of each epoch is kept.  Epochs are handled in time
+        order, so an earlier visit has the first claim on a day.
+        """
+        mjd = np.asarray(mjd, float)
+        ok_days = self.mjd[self.allowed]
+        if ok_days.size == 0:
+            raise InputError("[campaign] sun_avoidance",
+                             f"the source is never {self.angle_deg:g} deg from the Sun; lower the angle")
+        out = mjd.copy()
+        taken = set()
+        for i in np.argsort(mjd):
+            day = np.floor(mjd[i])
+            frac = mjd[i] - day
+            j = int(np.argmin(np.abs(self.mjd - day)))
+            if self.allowed[j] and day not in taken:
+                taken.add(day)
+                continue
+            order = np.argsort(np.abs(ok_days - day), kind="stable")
+            for cand in ok_days[order]:
+                if cand not in taken:
+                    taken.add(cand)
+                    out[i] = cand + frac
+                    break
+        return out
+
+
+@dataclass
+class ObservingPlan:
+    """Visit epochs and exposures.
+
+    Attributes
+    ----------
+    mjd : ndarray
+        Visit epochs, MJD (TDB), sorted.
+    exposure : ndarray
+        Exposure per visit, s (NaN when not given).
+    shift_days : ndarray
+        How far each visit was moved to respect the Sun constraint, days.
+    requested_baseline_yr : float
+        Baseline asked for (the span of explicit dates when dates are given).
+    sun_avoidance_deg : float
+    """
+
+    mjd: np.ndarray
+    exposure: np.ndarray
+    shift_days: np.ndarray
+    requested_baseline_yr: float
+    sun_avoidance_deg: float
+    notes: list = field(default_factory=list)
+
+    @property
+    def n_visits(self):
+        return int(self.mjd.size)
+
+    @property
+    def span_yr(self):
+        """Time from the first to the last visit, Julian years."""
+        return float((self.mjd[-1] - self.mjd[0]) / _YEAR_D) if self.mjd.size > 1 else 0.0
+
+    @property
+    def times(self):
+        """Visit epochs as astropy Time (TDB)."""
+        return Time(self.mjd, format="mjd", scale="tdb")
+
+
+def regular_epochs(start_mjd, baseline_yr, visits_per_year):
+    """Evenly spaced epochs, MJD: start + k / visits_per_year for k = 0 .. floor(B v)."""
+    n = int(np.floor(baseline_yr * visits_per_year + 1e-9)) + 1
+    return start_mjd + np.arange(n) * _YEAR_D / visits_per_year
+
+
+def make_plan(campaign, ra_deg, dec_deg, *, baseline_yr=None, window=None):
+    """The observing plan a ``[campaign]`` section describes.
+
+    Parameters
+    ----------
+    campaign : Section
+        The scenario's ``[campaign]`` table.
+    ra_deg, dec_deg : float, degrees
+        Source position (ICRS).
+    baseline_yr : float, optional
+        Override the baseline (used by the baseline sweep), years.
+    window : SunWindow, optional
+        A precomputed constraint covering the plan (saves recomputation).
+
+    Returns
+    -------
+    ObservingPlan
+    """
+    angle = campaign.value("sun_avoidance", "deg", 45.0)
+    exposure = campaign.value("exposure", "s", np.nan)
+    dates = campaign.get("dates")
+    if dates is not None and baseline_yr is None:
+        mjd = np.sort(np.asarray(dates.tdb.mjd, float).ravel())
+        if np.any(np.diff(mjd) <= 0):
+            raise InputError("[campaign] dates", "dates must all differ")
+        if angle > 0:
+            sep = sun_separation(mjd, ra_deg, dec_deg)
+            bad = np.flatnonzero(sep < angle)
+            if bad.size:
+                shown = ", ".join(f"{Time(mjd[i], format='mjd', scale='tdb').isot[:10]} ({sep[i]:.1f} deg)"
+                                  for i in bad)
+                raise InputError("[campaign] dates",
+                                 f"the source is closer than {angle:g} deg to the Sun on {shown}")
+        span = (mjd[-1] - mjd[0]) / _YEAR_D
+        return ObservingPlan(mjd, np.full(mjd.size, exposure), np.zeros(mjd.size), span, angle)
+    start = campaign.get("start")
+    vpy = campaign.get("visits_per_year")
+    if start is None or vpy is None:
+        raise InputError("[campaign] start", "start, baseline and visits_per_year are needed for a plan")
+    if baseline_yr is None:
+        baseline_yr = campaign.value("baseline", "yr")
+    if baseline_yr is None:
+        raise InputError("[campaign] baseline", "required for a plan")
+    if baseline_yr < 1.0 / vpy:
+        raise InputError("[campaign] baseline",
+                         f"shorter than one visit interval ({baseline_yr:.3g} yr < {1 / vpy:.3g} yr)")
+    nominal = regular_epochs(float(start.tdb.mjd), baseline_yr, vpy)
+    if window is None:
+        window = SunWindow.compute(ra_deg, dec_deg, angle, nominal[0], nominal[-1])
+    mjd = window.shift(nominal)
+    order = np.argsort(mjd)
+    shift = (mjd - nominal)[order]
+    notes = []
+    if np.any(shift != 0):
+        notes.append(f"{int(np.count_nonzero(shift))} of {mjd.size} visits moved by up to "
+                     f"{np.max(np.abs(shift)):.0f} d to keep {angle:g} deg from the Sun")
+    return ObservingPlan(mjd[order], np.full(mjd.size, exposure), shift, float(baseline_yr), angle, notes)

@@ -1,0 +1,199 @@
+"""TOA tables: read, validate and write.
+
+Format
+------
+ECSV (preferred) or CSV with one row per TOA:
+
+``mjd``
+    Arrival time at the geocentre, MJD in TDB (another scale may be named in
+    the table meta as ``time_scale``: 'utc', 'tt', 'tai', 'tcb', 'tdb').
+    kinage writes it as an astropy Time column whose ECSV form is the full
+    decimal string of the MJD (``out_subfmt='str'``), exact to about 1 ns,
+    because a float64 MJD rounds to ~0.6 us.  On reading, a text column is
+    parsed at full precision; a float column is accepted (float64 precision).
+``error``
+    TOA uncertainty; with a unit in ECSV, else seconds.
+``exposure`` (optional)
+    Exposure of the visit; with a unit in ECSV, else seconds.
+
+Rows must be sorted by time with no duplicates; NaN, missing values and
+errors <= 0 are rejected with an :class:`~kinage.errors.InputError` naming
+the row (1-based, data rows) and the column.
+"""
+
+from pathlib import Path
+
+import astropy.units as u
+import numpy as np
+from astropy.table import Table
+from astropy.time import Time
+
+from ..errors import InputError
+from ..io.results import atomic_path
+
+__all__ = ["read_toas", "write_toas", "validate_toas", "toa_times"]
+
+_SCALES = ("tdb", "tt", "utc", "tai", "tcb", "tcg")
+
+
+def read_toas(path):
+    """Read and validate a TOA table.
+
+    Parameters
+    ----------
+    path : str or Path
+        ECSV (``.ecsv``) or CSV file.
+
+    Returns
+    -------
+    astropy.table.Table
+        ``mjd`` as a Time column (TDB, format mjd), ``error`` (Quantity, s),
+        ``exposure`` (Quantity, s) when present; meta ``time_scale='tdb'``.
+    """
+    path = Path(path)
+    where = str(path)
+    if not path.is_file():
+        raise InputError(where, "TOA file not found")
+    try:
+        if path.suffix.lower() == ".ecsv":
+            tab = Table.read(path, format="ascii.ecsv")
+        else:
+            from astropy.io import ascii
+
+            tab = Table.read(path, format="ascii.csv",
+                             converters={"mjd": [ascii.convert_numpy(str)]})
+    except InputError:
+        raise
+    except Exception as exc:  # noqa: BLE001 - any parse failure is an input problem
+        raise InputError(where, f"could not read the TOA table ({exc})") from None
+    return validate_toas(tab, where)
+
+
+def validate_toas(tab, where="TOA table"):
+    """Validate a TOA table and return it in canonical form (see :func:`read_toas`)."""
+    for col in ("mjd", "error"):
+        if col not in tab.colnames:
+            raise InputError(where, f"missing column '{col}' (columns found: {', '.join(tab.colnames) or 'none'})")
+    if len(tab) == 0:
+        raise InputError(where, "the table has no rows")
+    scale = str(tab.meta.get("time_scale", "tdb")).lower()
+    if scale not in _SCALES:
+        raise InputError(f"{where} meta time_scale", f"expected one of {', '.join(_SCALES)} (got {scale!r})")
+    times = _parse_times(tab["mjd"], scale, where)
+    err = _column_seconds(tab, "error", where)
+    bad = np.flatnonzero(~(err > 0))
+    if bad.size:
+        raise InputError(f"{where} row {bad[0] + 1}, column 'error'", f"must be positive (got {err[bad[0]]!r} s)")
+    out = Table()
+    out["mjd"] = times
+    out["error"] = err * u.s
+    if "exposure" in tab.colnames:
+        out["exposure"] = _column_seconds(tab, "exposure", where, allow_nan=True) * u.s
+    for name in tab.colnames:
+        if name not in out.colnames:
+            out[name] = tab[name]
+    out.meta.update({k: v for k, v in tab.meta.items() if k != "__serialized_columns__"})
+    out.meta["time_scale"] = "tdb"
+    _check_order(out["mjd"], where)
+    return out
+
+
+def _parse_times(col, scale, where):
+    if isinstance(col, Time):
+        t = col
+    else:
+        if getattr(col, "mask", None) is not None and np.any(col.mask):
+            i = int(np.flatnonzero(col.mask)[0])
+            raise InputError(f"{where} row {i + 1}, column 'mjd'", "missing value")
+        vals = np.asarray(col)
+        if vals.dtype.kind in "US":
+            for i, v in enumerate(vals):
+                try:
+                    x = float(v)
+                except ValueError:
+                    raise InputError(f"{where} row {i + 1}, column 'mjd'", f"expected an MJD number (got {v!r})") from None
+                if not np.isfinite(x):
+                    raise InputError(f"{where} row {i + 1}, column 'mjd'", f"must be finite (got {v!r})")
+            t = Time(vals.astype(str), format="mjd", scale=scale)
+        else:
+            x = np.asarray(vals, float)
+            bad = np.flatnonzero(~np.isfinite(x))
+            if bad.size:
+                raise InputError(f"{where} row {bad[0] + 1}, column 'mjd'", f"must be finite (got {x[bad[0]]!r})")
+            if isinstance(col, u.Quantity) or getattr(col, "unit", None) not in (None, ""):
+                unit = u.Unit(col.unit)
+                x = (x * unit).to_value(u.d)
+            t = Time(x, format="mjd", scale=scale)
+    mjd = t.to_value("mjd", "float")
+    bad = np.flatnonzero(~np.isfinite(mjd))
+    if bad.size:
+        raise InputError(f"{where} row {bad[0] + 1}, column 'mjd'", "must be finite")
+    t = t.tdb
+    t.format = "mjd"
+    t.out_subfmt = "str"
+    return t
+
+
+def _column_seconds(tab, name, where, allow_nan=False):
+    col = tab[name]
+    if getattr(col, "mask", None) is not None and np.any(col.mask):
+        i = int(np.flatnonzero(col.mask)[0])
+        raise InputError(f"{where} row {i + 1}, column '{name}'", "missing value")
+    unit = getattr(col, "unit", None)
+    try:
+        x = np.asarray(col, float)
+    except (TypeError, ValueError):
+        raise InputError(f"{where} column '{name}'", "expected numbers") from None
+    if unit not in (None, ""):
+        try:
+            x = (x * u.Unit(unit)).to_value(u.s)
+        except u.UnitConversionError:
+            raise InputError(f"{where} column '{name}'", f"expected a time unit (got {unit})") from None
+    if not allow_nan:
+        bad = np.flatnonzero(~np.isfinite(x))
+        if bad.size:
+            raise InputError(f"{where} row {bad[0] + 1}, column '{name}'", f"must be finite (got {x[bad[0]]!r})")
+    return x
+
+
+def _check_order(times, where):
+    if len(times) < 2:
+        return
+    ref = times[0]
+    sec = ((times.jd1 - ref.jd1) + (times.jd2 - ref.jd2)) * 86400.0
+    d = np.diff(sec)
+    dup = np.flatnonzero(d == 0)
+    back = np.flatnonzero(d < 0)
+    if back.size and (not dup.size or back[0] < dup[0]):
+        i = back[0]
+        raise InputError(f"{where} row {i + 2}, column 'mjd'",
+                         f"times must increase (row {i + 2} is before row {i + 1}); sort the table")
+    if dup.size:
+        i = dup[0]
+        raise InputError(f"{where} row {i + 2}, column 'mjd'", f"duplicate time (same as row {i + 1})")
+
+
+def toa_times(tab):
+    """The ``mjd`` column of a validated table as a TDB Time."""
+    return tab["mjd"].tdb
+
+
+def write_toas(tab, path):
+    """Write a TOA table as ECSV atomically (mjd as full-precision decimal text).
+
+    Returns
+    -------
+    Path
+    """
+    path = Path(path)
+    out = tab.copy(copy_data=True)
+    t = out["mjd"]
+    if isinstance(t, Time):
+        t = t.tdb
+        t.format = "mjd"
+        t.out_subfmt = "str"
+        out["mjd"] = t
+    out.meta["time_scale"] = "tdb"
+    with atomic_path(path) as tmp:
+        out.write(tmp, format="ascii.ecsv", overwrite=True)
+    return path
