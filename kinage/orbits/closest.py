@@ -26,7 +26,7 @@ __all__ = ["coarse_columns", "CoarseTracks", "closest_approach", "straight_line_
 _KPC_MYR = KMS_TO_PCMYR / 1000.0  # kpc/Myr per km/s
 
 
-def coarse_columns(nt, max_points=96):
+def coarse_columns(nt, max_points=48):
     """Indices of a strided grid of at most ~``max_points`` that keeps both ends."""
     stride = max(1, int(np.ceil((nt - 1) / max(max_points - 1, 1))))
     cols = np.arange(0, nt, stride)
@@ -49,6 +49,7 @@ class CoarseTracks:
         self.pos = np.asarray(pos, float)
         self.vel = np.asarray(vel, float) * _KPC_MYR
         self.times = np.asarray(times, float)
+        self.pos32 = self.pos.astype(np.float32)
 
     @classmethod
     def from_bundle(cls, bundle, cols):
@@ -62,6 +63,7 @@ class CoarseTracks:
         out.pos = np.concatenate([p.pos for p in parts])
         out.vel = np.concatenate([p.vel for p in parts])
         out.times = parts[0].times
+        out.pos32 = out.pos.astype(np.float32)
         return out
 
     def at(self, rows, t):
@@ -87,7 +89,8 @@ def closest_approach(star, star_coarse, assoc, pair, *, max_iter=4):
     star : orbit bundle
         The star's orbits (see :mod:`.integrate`), n draws on the full grid.
     star_coarse : ndarray, shape (n, nc, 3), kpc
-        Star positions at ``cols`` (shared between associations).
+        Star positions at ``cols`` (shared between associations); float32
+        suffices (coarse search only).
     assoc : CoarseTracks
         Association draws on the coarse grid (times = star.times[cols]).
     pair : ndarray of int, shape (n,)
@@ -105,7 +108,7 @@ def closest_approach(star, star_coarse, assoc, pair, *, max_iter=4):
     times = star.times
     nt = len(times)
     h = times[0] - times[1]
-    diff = star_coarse - assoc.pos[pair]
+    diff = star_coarse - (assoc.pos32 if star_coarse.dtype == np.float32 else assoc.pos)[pair]
     k_coarse = np.argmin(np.einsum("ijk,ijk->ij", diff, diff), axis=1)
     ctimes = assoc.times
     k = np.rint(-ctimes[k_coarse] / h).astype(int)

@@ -58,6 +58,14 @@ def separation_cdf(delta, sigma, mu=0.0):
     return stats.ncx2.cdf(d**2 / s2, 3, mu**2 / s2)
 
 
+def _nll_a3(p, d):
+    """Negative log-likelihood of eq. A3 in a numerically stable form (log sigma, log mu)."""
+    s, m = np.exp(p[0]), np.exp(p[1])
+    logf = (np.log(d / (2 * np.sqrt(np.pi) * s * m)) - (d - m) ** 2 / (4 * s**2)
+            + np.log(-np.expm1(-d * m / s**2)))
+    return -np.sum(logf)
+
+
 def compare_common_origin(dmin, max_fit=5000, rng=0):
     """Compare closest-approach distances with the common-origin distribution.
 
@@ -86,14 +94,8 @@ def compare_common_origin(dmin, max_fit=5000, rng=0):
     out.update(sigma_pc=sigma, ks_statistic=float(ks.statistic), ks_pvalue=float(ks.pvalue))
     sub = d if d.size <= max_fit else np.random.default_rng(rng).choice(d, max_fit, replace=False)
     sub = np.maximum(sub, 1e-9 * sigma)
-
-    def nll(p):
-        s, m = np.exp(p[0]), np.exp(p[1])
-        x = sub**2 / (2 * s**2)
-        return -np.sum(stats.ncx2.logpdf(x, 3, m**2 / (2 * s**2)) + np.log(sub / s**2))
-
-    start = np.log([sigma, max(np.median(sub) * 0.5, 1e-6)])
-    res = optimize.minimize(nll, start, method="Nelder-Mead", options={"xatol": 1e-4, "fatol": 1e-6, "maxiter": 400})
+    res = optimize.minimize(_nll_a3, np.log([sigma, max(np.median(sub) * 0.5, 1e-6)]), args=(sub,),
+                            method="Nelder-Mead", options={"xatol": 1e-4, "fatol": 1e-6, "maxiter": 400})
     if np.isfinite(res.fun):
         out.update(fit_sigma_pc=float(np.exp(res.x[0])), fit_mu_pc=float(np.exp(res.x[1])))
     return out

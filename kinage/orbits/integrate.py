@@ -96,8 +96,9 @@ class StraightOrbits:
 
     def state(self, rows, cols):
         """Position (kpc) and velocity (km/s) of draws ``rows`` at time indices ``cols``."""
-        t = self.times[cols][:, None]
-        return self.pos0[rows] + self._v_kpc_myr[rows] * t, self.vel[rows].copy()
+        rows, cols = np.broadcast_arrays(rows, cols)
+        t = self.times[cols][..., None]
+        return self.pos0[rows] + self._v_kpc_myr[rows] * t, self.vel[rows]
 
     def z(self):
         """Height z (kpc), shape (n, nt)."""
@@ -204,7 +205,7 @@ def integrate_orbits(pos, vel, times, potential, *, method="dop853_c", **galpy_k
         except Exception:  # noqa: BLE001 - fall back to one orbit at a time to find the culprit
             arr = None
         if arr is not None:
-            bad = ~np.all(np.isfinite(arr.reshape(n, -1)), axis=1)
+            bad = ~np.all(np.isfinite(arr[:, -1, :]), axis=1)  # a failure propagates to the last step
             for i in np.flatnonzero(bad):
                 failed[int(i)] = "integration produced non-finite values"
             return GalpyOrbits(arr, times, ro, vo, failed)

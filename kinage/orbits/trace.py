@@ -104,6 +104,7 @@ def _run_draws(draws, frame, times, cols, pset, assoc, adraws, rows_cap, method,
         coarse = bundle.positions(cols)
         if keep_tracks and tracks is None:
             tracks = coarse[:_N_TRACKS].copy()
+        coarse = coarse.astype(np.float32)
         idx = np.arange(a, b)
         for j in range(na):
             pair = j * m + idx % m
@@ -115,7 +116,7 @@ def _run_draws(draws, frame, times, cols, pset, assoc, adraws, rows_cap, method,
             if near.size:
                 birth.setdefault(j, []).append((idx[near], ca["pos_kpc"][near]))
         if keep_plane:
-            plane[a:b] = plane_crossing_age(bundle)
+            plane[a:b] = plane_crossing_age(bundle, cols)
             plane[a:b][bad] = np.nan
         bar.update(b - a)
     birth = {j: (np.concatenate([p[0] for p in v]), np.concatenate([p[1] for p in v])) for j, v in birth.items()}

@@ -91,3 +91,20 @@ def test_failed_orbit_is_recorded_not_fatal():
     b = integrate_orbits(pos, vel, time_grid(1.0, 21), get("potential", "MWPotential2014"))
     assert list(b.failed) == [4]
     assert np.all(np.isfinite(b.array[np.arange(10) != 4]))
+
+
+def test_plane_crossing_age_closed_form():
+    # Force-free motion: z(t) = z0 + vz t crosses z = 0 at tau = z0 / vz (elementary kinematics);
+    # the strided search gives the same ages as the full-grid search.
+    from kinage.orbits.plane import plane_crossing_age
+
+    rng = np.random.default_rng(9)
+    pos, vel = random_states(rng, 500)
+    times = time_grid(5.0, 1001)
+    b = integrate_orbits(pos, vel, times, get("potential", "none"))
+    tau = plane_crossing_age(b, coarse_columns(len(times)))
+    ref = pos[:, 2] * 1000 / (vel[:, 2] * KMS_TO_PCMYR)
+    inside = (ref > 0) & (ref < 5.0)
+    np.testing.assert_allclose(tau[inside], ref[inside], atol=1e-9)
+    assert np.all(np.isnan(tau[~inside]))
+    np.testing.assert_array_equal(np.isnan(tau), np.isnan(plane_crossing_age(b)))
