@@ -86,16 +86,19 @@ def _full_plan(scenario, ra, dec, max_b):
     """Plan at the scenario's own baseline, and the regular plan out to ``max_b`` for the sweep."""
     c = scenario.campaign
     angle = c.value("sun_avoidance", "deg", 45.0)
-    plan = make_plan(c, ra, dec)
     if c.get("dates") is not None:
+        plan = make_plan(c, ra, dec)
         start = float(plan.mjd[0])
         vpy = (plan.n_visits - 1) / plan.span_yr if plan.span_yr > 0 else 1.0
+        top = max(max_b, plan.span_yr)
+        window = SunWindow.compute(ra, dec, angle, start, start + top * _YEAR_D)
     else:
         start = float(c.get("start").tdb.mjd)
         vpy = c.get("visits_per_year")
-    top = max(max_b, plan.span_yr)
+        top = max(max_b, c.value("baseline", "yr"))
+        window = SunWindow.compute(ra, dec, angle, start, start + top * _YEAR_D)
+        plan = make_plan(c, ra, dec, window=window)
     nominal = regular_epochs(start, top, vpy)
-    window = SunWindow.compute(ra, dec, angle, nominal[0], nominal[-1])
     return plan, window.shift(nominal), nominal, vpy
 
 
@@ -249,6 +252,9 @@ def _reverse(model, grid, errors, c, motion, sig_pm, target_sig, plan):
         cov = astrometric_covariance(model, grid, errors * k, c)
         return pm_error_along(cov, motion.direction)
 
+    k = target / sig_pm  # exact when the noise is white and proportional to the TOA errors
+    if abs(pm_err(k) / target - 1) < 1e-6:
+        return _reverse_out(out, k, errors, plan, c)
     lo, hi = 1e-6, 1e6
     if pm_err(lo) > target:
         out.update(toa_error_needed_s=None, exposure_needed_s=None, photon_factor=None,
@@ -264,7 +270,10 @@ def _reverse(model, grid, errors, c, motion, sig_pm, target_sig, plan):
             lo = mid
         if hi / lo < 1 + 1e-4:
             break
-    k = np.sqrt(lo * hi)
+    return _reverse_out(out, np.sqrt(lo * hi), errors, plan, c)
+
+
+def _reverse_out(out, k, errors, plan, c):
     exp0 = float(np.median(plan.exposure))
     out["toa_error_needed_s"] = float(np.median(errors) * k)
     out["photon_factor"] = float(1 / k**2)

@@ -1,0 +1,177 @@
+"""Fisher forecast: closed-form white-noise precision, sweep, reverse question, JSON keys."""
+
+import json
+
+import numpy as np
+import pytest
+from astropy.coordinates import SkyCoord
+import astropy.units as u
+
+from kinage.errors import InputError, ScenarioError
+from kinage.io.results import write_json
+from kinage.io.scenario import scenario_from_dict
+from kinage.timing import forecast
+from kinage.timing.model import AU_LIGHT_S, MAS_RAD
+
+pytestmark = pytest.mark.filterwarnings("ignore:ERFA function")
+
+def _scenario(star=None, trace=None, **camp):
+    s = {"ra": 53.2, "dec": -12.5, "distance": "300 pc", "spin_period": 0.25, "spin_period_derivative": 1e-15,
+         "pm_ra_cosdec": 30.0, "pm_dec": -20.0}
+    s.update(star or {})
+    s = {k: v for k, v in s.items() if v is not None}
+    c = {"start": "2028-01-01", "baseline": 4, "visits_per_year": 6, "toa_error": "30 us", "max_baseline": 12}
+    c.update(camp)
+    raw = {"star": s, "campaign": {k: v for k, v in c.items() if v is not None}}
+    if trace:
+        raw["trace"] = trace
+    return scenario_from_dict(raw)
+
+
+def test_json_keys():
+    res = forecast(_scenario())
+    d = res.to_dict()
+    for key in ("toa_error_s", "n_toas", "baseline_yr", "sigma", "pm_significance", "baseline_needed_yr"):
+        assert key in d
+    assert set(d["sigma"]) == {"ra_mas", "dec_mas", "pm_ra_cosdec_masyr", "pm_dec_masyr", "parallax_mas"}
+    assert d["toa_error_s"] == pytest.approx(30e-6)
+    assert d["n_toas"] == 25 and d["baseline_yr"] == 4
+    assert res.solution.sigma_dict() == d["sigma"]
+    json.dumps(d)  # plain JSON types
+    assert isinstance(res.summary(), str) and res.assumptions
+
+
+def test_closed_form_white_noise_precision():
+    # Uniform sampling, white noise: a proper motion adds A mu t cos(w t + psi) to the residuals; least squares
+    # with t centred on the epoch gives Var(mu) = sigma^2 / (A^2 sum t^2 cos^2) ~ sigma^2 / (A^2 N T^2 / 24),
+    # so sigma_mu = sqrt(24) sigma / (A sqrt(N) T) (derivation standard; Roemer amplitude from Lorimer &
+    # Kramer 2005, sec. 8.2): A = AU/c per radian along ecliptic longitude and (AU/c) sin(beta) along
+    # ecliptic latitude beta.  The full Fisher result (spin and parallax marginalised) agrees within 15%.
+    # (At the ecliptic pole the parallax is nearly degenerate with position, so a mid latitude is used.)
+    sigma, vpy, base, beta = 50e-6, 24, 10.0, 45.0
+    frame = dict(frame="barycentrictrueecliptic", equinox="J2000")
+    src = SkyCoord(lon=30 * u.deg, lat=beta * u.deg, **frame).icrs
+    pa = src.position_angle(SkyCoord(lon=0 * u.deg, lat=90 * u.deg, **frame).icrs).rad
+    u_lat = np.array([np.sin(pa), np.cos(pa)])  # (ra*cos dec, dec) components of ecliptic north
+    u_lon = np.array([np.cos(pa), -np.sin(pa)])
+    s = _scenario(star={"ra": src.ra.deg, "dec": src.dec.deg}, toa_error=sigma, visits_per_year=vpy,
+                  baseline=base, sun_avoidance=0, max_baseline=base)
+    res = forecast(s)
+    cov = res.solution.covariance[2:4, 2:4]
+    closed = np.sqrt(24) * sigma / (AU_LIGHT_S * MAS_RAD * np.sqrt(res.plan.n_visits) * base)
+    assert np.sqrt(u_lon @ cov @ u_lon) == pytest.approx(closed, rel=0.15)
+    assert np.sqrt(u_lat @ cov @ u_lat) == pytest.approx(closed / np.sin(np.radians(beta)), rel=0.15)
+
+
+def test_errors_scale_with_toa_error_and_noise_terms():
+    a = forecast(_scenario()).to_dict()["sigma"]["pm_ra_cosdec_masyr"]
+    b = forecast(_scenario(toa_error="60 us")).to_dict()["sigma"]["pm_ra_cosdec_masyr"]
+    assert b == pytest.approx(2 * a, rel=1e-6)  # linear model: errors proportional to sigma
+    c = forecast(_scenario(error_scale=2.0)).to_dict()["sigma"]["pm_ra_cosdec_masyr"]
+    assert c == pytest.approx(b, rel=1e-6)
+    red = forecast(_scenario(red_noise_amplitude=1e-11, red_noise_index=5.0)).to_dict()["sigma"]
+    assert red["pm_ra_cosdec_masyr"] > a
+
+
+def test_woodbury_and_dense_forecasts_agree():
+    s = _scenario(red_noise_amplitude=3e-12, red_noise_index=4.0, red_noise_modes=10)
+    w = forecast(s).solution.covariance
+    d = forecast(s, method="dense").solution.covariance
+    assert np.allclose(w, d, rtol=1e-6, atol=0)
+
+
+def test_baseline_needed_reaches_target():
+    s = _scenario(star={"pm_ra_cosdec": 3.0, "pm_dec": -2.0}, baseline=2, max_baseline=15)
+    res = forecast(s)
+    need = res.baseline_needed_yr
+    assert need is not None and need > 2
+    # a plan of that baseline (rounded up to the cadence) is close to the target significance
+    sig = np.asarray(res.sweep["pm_significance"])
+    assert np.all(np.diff(sig) > -0.05 * sig[1:])  # significance grows with baseline
+    base = np.ceil(need * 6) / 6
+    again = forecast(_scenario(star={"pm_ra_cosdec": 3.0, "pm_dec": -2.0}, baseline=base, max_baseline=15))
+    assert again.pm_significance == pytest.approx(3.0, rel=0.15)
+
+
+def test_no_baseline_within_max():
+    res = forecast(_scenario(star={"pm_ra_cosdec": 0.01, "pm_dec": 0.0}, max_baseline=6))
+    assert res.baseline_needed_yr is None
+    assert res.to_dict()["baseline_needed_yr"] is None
+    assert any("no baseline" in w for w in res.warnings)
+
+
+def test_reverse_question_is_consistent():
+    s = _scenario(target_pm_error=0.5)
+    res = forecast(s)
+    need = res.reverse["toa_error_needed_s"]
+    again = forecast(_scenario(target_pm_error=0.5, toa_error=need))
+    assert again.pm_error_along_motion == pytest.approx(0.5, rel=1e-3)
+
+
+def test_reverse_question_exposure_from_photons():
+    s = _scenario(toa_error=None, exposure="20 ks", source_rate=0.5, background_rate=0.1, pulsed_fraction=0.2,
+                  target_pm_error=2.0)
+    res = forecast(s)
+    r = res.reverse
+    # photon-limited: sigma_TOA ~ exposure^-1/2, so exposure scales as (sigma_now / sigma_needed)^2
+    assert r["exposure_needed_s"] == pytest.approx(2e4 * (res.toa_error_s / r["toa_error_needed_s"]) ** 2, rel=1e-6)
+    ph = res.to_dict()["photon_statistics"]
+    assert ph["expected_z2"] > 4 and ph["detection_sigma_per_visit"] > 0
+
+
+def test_expected_motion_from_velocity_prior():
+    # Hobbs et al. 2005 (MNRAS 360, 974): 3-D Maxwellian sigma = 265 km/s; its projected speed is Rayleigh
+    # with median sigma sqrt(2 ln 2) = 312.0 km/s; mu = v_t / (4.74047 d[kpc]) mas/yr
+    s = _scenario(star={"pm_ra_cosdec": None, "pm_dec": None, "distance": "250 pc"})
+    res = forecast(s)
+    expected = 265 * np.sqrt(2 * np.log(2)) / (4.74047 * 0.25)
+    assert res.motion.pm_masyr == pytest.approx(expected, rel=1e-4)
+    assert res.parameter_sets and res.parameter_sets[0].name == "hobbs2005"
+    named = forecast(_scenario(star={"pm_ra_cosdec": None, "pm_dec": None, "transverse_velocity": 100.0}))
+    assert named.motion.pm_masyr == pytest.approx(100 / (4.74047 * 0.3), rel=1e-6)
+
+
+def test_undetectable_pulse_is_reported():
+    s = _scenario(toa_error=None, exposure="200 s", source_rate=0.05, background_rate=1.0, pulsed_fraction=0.1)
+    res = forecast(s)
+    assert res.photon["detectable"] is False
+    assert any("no TOA exists" in w for w in res.warnings)
+
+
+def test_phase_connection_risk():
+    s = _scenario(star={"spin_period_error": 1e-6, "spin_period_derivative_error": 1e-13}, visits_per_year=2)
+    res = forecast(s)
+    assert res.phase_connection["at_risk"] is True
+
+
+def test_prior_reduces_errors():
+    s = _scenario(prior_pm_ra_cosdec=30.0, prior_pm_ra_cosdec_error=0.1)
+    d = forecast(s).to_dict()
+    assert d["sigma_with_prior"]["pm_ra_cosdec_masyr"] < min(0.1, d["sigma"]["pm_ra_cosdec_masyr"])
+
+
+def test_products_written(tmp_path):
+    res = forecast(_scenario())
+    paths = res.write_products(tmp_path)
+    assert {p.name for p in paths} == {"forecast_sweep.ecsv", "forecast_plan.ecsv", "forecast_baseline.png"}
+    assert all(p.stat().st_size > 0 for p in paths)
+    write_json(tmp_path / "f.json", res.to_dict())
+
+
+@pytest.mark.parametrize("camp,field", [
+    ({"pulsed_fraction": 1.3}, "pulsed_fraction"),
+    ({"pulsed_fraction": 0.0}, "pulsed_fraction"),
+    ({"source_rate": 0.0}, "source_rate"),
+    ({"source_rate": -1.0}, "source_rate"),
+    ({"baseline": 0.1}, "baseline"),
+])
+def test_bad_campaign_input(camp, field):
+    base = {"toa_error": None, "exposure": "20 ks", "source_rate": 1.0, "pulsed_fraction": 0.2}
+    base.update(camp)
+    with pytest.raises((InputError, ScenarioError), match=field):
+        forecast(_scenario(**base))
+
+
+def test_too_few_visits():
+    with pytest.raises(InputError, match="visits"):
+        forecast(_scenario(baseline=1, visits_per_year=4))
