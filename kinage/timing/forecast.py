@@ -242,9 +242,9 @@ def _reverse(model, grid, errors, c, motion, sig_pm, target_sig, plan):
     """TOA error and exposure needed for the target proper-motion error at this baseline."""
     target = c.value("target_pm_error", "mas/yr")
     if target is None:
-        if motion.pm_masyr is None:
+        if not motion.pm_masyr:
             return {"target_pm_error_masyr": None, "note": "reverse question skipped: no target_pm_error and no "
-                    "expected proper motion"}
+                    "(non-zero) expected proper motion"}
         target = motion.pm_masyr / target_sig
     out = {"target_pm_error_masyr": float(target), "baseline_yr": plan.span_yr}
 
