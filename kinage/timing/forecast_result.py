@@ -117,14 +117,25 @@ class ForecastResult:
              f"and a parallax error of {sig['parallax_mas']:.3g} mas.")
         if self.pm_significance is None:
             return s + " The expected proper motion is unknown (no distance), so no significance is given."
-        s += f" The expected motion of {self.motion.pm_masyr:.3g} mas/yr would be detected at " \
-             f"{self.pm_significance:.2g} sigma"
-        if self.baseline_needed_yr is None:
-            s += f"; no baseline up to {self.max_baseline_yr:g} yr reaches {self.target_significance:g} sigma at this cadence."
-        elif self.pm_significance >= self.target_significance:
+        ok = self.pm_significance >= self.target_significance
+        s += (f" The expected motion of {self.motion.pm_masyr:.3g} mas/yr would be detected at "
+              f"{self.pm_significance:.2g} sigma" if ok else
+              f" The expected motion of {self.motion.pm_masyr:.3g} mas/yr would reach only "
+              f"{self.pm_significance:.2g} sigma")
+        if ok:
             s += f" (target {self.target_significance:g} sigma reached)."
+        elif self.baseline_needed_yr is None:
+            s += f"; no baseline up to {self.max_baseline_yr:g} yr reaches {self.target_significance:g} sigma at this cadence"
         else:
-            s += f"; {self.target_significance:g} sigma needs a baseline of {self.baseline_needed_yr:.1f} yr."
+            s += f"; {self.target_significance:g} sigma needs a baseline of {self.baseline_needed_yr:.1f} yr"
+        factor = self.reverse.get("photon_factor")
+        if not ok and factor is not None:
+            s += (f", or TOA errors of {self.reverse['toa_error_needed_s'] * 1e3:.3g} ms ({factor:.3g} times more "
+                  "photons per visit) at this baseline"
+                  + (f" ({self.reverse['exposure_needed_s'] / 1e3:.3g} ks per visit)."
+                     if self.reverse.get("exposure_needed_s") else "."))
+        elif not ok:
+            s += "."
         return s
 
     def sweep_table(self):
