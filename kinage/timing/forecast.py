@@ -86,8 +86,12 @@ def _full_plan(scenario, ra, dec, max_b):
     """Plan at the scenario's own baseline, and the regular plan out to ``max_b`` for the sweep."""
     c = scenario.campaign
     angle = c.value("sun_avoidance", "deg", 45.0)
-    if c.get("dates") is not None:
+    plan = table_errors = None
+    if c.get("toas") is not None and c.get("dates") is None and c.get("start") is None:
+        plan, table_errors = _plan_from_toas(c, angle)
+    elif c.get("dates") is not None:
         plan = make_plan(c, ra, dec)
+    if plan is not None:
         start = float(plan.mjd[0])
         vpy = (plan.n_visits - 1) / plan.span_yr if plan.span_yr > 0 else 1.0
         top = max(max_b, plan.span_yr)
@@ -98,8 +102,26 @@ def _full_plan(scenario, ra, dec, max_b):
         top = max(max_b, c.value("baseline", "yr"))
         window = SunWindow.compute(ra, dec, angle, start, start + top * _YEAR_D)
         plan = make_plan(c, ra, dec, window=window)
-    nominal = regular_epochs(start, top, vpy)
-    return plan, window.shift(nominal), nominal, vpy
+    # the sweep keeps at most 120 visits a year; a denser cadence is represented by fewer visits with
+    # proportionally smaller errors (same information N / sigma^2 per year)
+    vpy_sweep = min(vpy, 120.0)
+    nominal = regular_epochs(start, top, vpy_sweep)
+    return plan, window.shift(nominal), nominal, vpy_sweep, table_errors, np.sqrt(vpy_sweep / vpy)
+
+
+def _plan_from_toas(c, angle):
+    """The epochs, exposures and errors of an existing TOA table (``[campaign] toas``)."""
+    import astropy.units as u
+
+    from .plan import ObservingPlan
+    from .toas import read_toas
+
+    tab = read_toas(c.get("toas"))
+    mjd = tab["mjd"].tdb.to_value("mjd", "float")
+    exp = u.Quantity(tab["exposure"]).to_value(u.s) if "exposure" in tab.colnames else np.full(mjd.size, np.nan)
+    plan = ObservingPlan(mjd, exp, np.zeros(mjd.size), (mjd[-1] - mjd[0]) / _YEAR_D, angle,
+                         ["plan taken from the TOA table"])
+    return plan, u.Quantity(tab["error"]).to_value(u.s)
 
 
 def forecast(scenario, *, progress=False, method="woodbury"):
@@ -129,14 +151,17 @@ def forecast(scenario, *, progress=False, method="woodbury"):
     max_b = c.value("max_baseline", "yr", 20.0)
     target_sig = c.get("target_significance", 3.0)
 
-    plan, sweep_mjd, sweep_nominal, vpy = _full_plan(scenario, ra, dec, max_b)
+    plan, sweep_mjd, sweep_nominal, vpy, table_errors, sweep_scale = _full_plan(scenario, ra, dec, max_b)
     warnings += plan.notes
     if plan.n_visits <= model.n_parameters:
         raise InputError("[campaign] baseline",
                          f"the plan has only {plan.n_visits} visits but the timing model has {model.n_parameters} "
                          "parameters (5 astrometric + spin): lengthen the baseline or add visits")
     epoch = star.get("epoch") or _midpoint(plan.mjd)
-    errors, photon = inputs.visit_errors(scenario, plan.exposure)
+    if table_errors is not None and c.get("toa_error") is None:
+        errors, photon = table_errors, None
+    else:
+        errors, photon = inputs.visit_errors(scenario, plan.exposure)
     if photon is not None and not photon["detectable"]:
         warnings.append(f"a visit detects the pulsation at only {photon['detection_sigma_per_visit']:.1f} sigma "
                         f"(expected Z^2_{photon['harmonics']} = {photon['expected_z2']:.1f}): too short to detect "
@@ -151,7 +176,8 @@ def forecast(scenario, *, progress=False, method="woodbury"):
     sig_pm = pm_error_along(cov, motion.direction)
     pm_sig = motion.pm_masyr / sig_pm if motion.pm_masyr is not None else None
 
-    sweep = _baseline_sweep(model, c, star, sweep_mjd, sweep_nominal, errors, motion, vpy, max_b, progress)
+    sweep = _baseline_sweep(model, c, star, sweep_mjd, sweep_nominal, errors * sweep_scale, motion, vpy, max_b,
+                            progress)
     needed = _crossing(sweep, target_sig) if motion.pm_masyr is not None else None
     reverse = _reverse(model, grid, errors, c, motion, sig_pm, target_sig, plan)
     if reverse.get("note"):

@@ -41,7 +41,8 @@ class ForecastResult:
     pm_significance : float or None
     baseline_needed_yr : float or None
     sweep : dict of arrays
-        ``baseline_yr``, ``n_toas``, ``pm_error_masyr``, ``parallax_error_mas``, ``pm_significance``.
+        ``baseline_yr``, ``n_toas``, ``pm_error_masyr`` (along the direction of motion; direction-averaged
+        when unknown), ``parallax_error_mas``, ``pm_significance``.
     reverse : dict
         TOA error / exposure needed for the target proper-motion error.
     combined : AstrometricSolution or None

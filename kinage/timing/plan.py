@@ -90,18 +90,28 @@ class SunWindow:
                              f"the source is never {self.angle_deg:g} deg from the Sun; lower the angle")
         out = mjd.copy()
         taken = set()
+        allowed_set = set(ok_days.tolist())
         for i in np.argsort(mjd):
-            day = np.floor(mjd[i])
-            frac = mjd[i] - day
-            j = int(np.argmin(np.abs(self.mjd - day)))
-            if self.allowed[j] and day not in taken:
+            day = float(np.floor(mjd[i]))
+            if day in allowed_set and day not in taken:
                 taken.add(day)
                 continue
-            order = np.argsort(np.abs(ok_days - day), kind="stable")
-            for cand in ok_days[order]:
+            # walk outwards from the nearest allowed day until a free one is found
+            k = int(np.searchsorted(ok_days, day))
+            left, right = k - 1, k
+            while True:
+                dl = day - ok_days[left] if left >= 0 else np.inf
+                dr = ok_days[right] - day if right < ok_days.size else np.inf
+                if not np.isfinite(dl) and not np.isfinite(dr):
+                    raise InputError("[campaign] visits_per_year",
+                                     "more visits than allowed days: lower the cadence or the Sun-avoidance angle")
+                if dl <= dr:
+                    cand, left = ok_days[left], left - 1
+                else:
+                    cand, right = ok_days[right], right + 1
                 if cand not in taken:
-                    taken.add(cand)
-                    out[i] = cand + frac
+                    taken.add(float(cand))
+                    out[i] = cand + (mjd[i] - day)
                     break
         return out
 

@@ -23,7 +23,7 @@ def forecast_figure(result, path):
     with style_context():
         fig, (ax1, ax2) = new_figure(1, 2, aspect=1.1, sharex=True)
         b = sw["baseline_yr"]
-        ax1.plot(b, sw["pm_error_masyr"], color=color(0), label="proper motion")
+        ax1.plot(b, sw["pm_error_masyr"], color=color(0), label="proper motion (along motion)")
         ax1.plot(b, sw["parallax_error_mas"], color=color(1), ls="--", label="parallax (mas)")
         ax1.set_yscale("log")
         ax1.set_ylabel("1-sigma error (mas/yr; mas)")

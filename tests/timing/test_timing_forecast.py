@@ -175,3 +175,17 @@ def test_bad_campaign_input(camp, field):
 def test_too_few_visits():
     with pytest.raises(InputError, match="visits"):
         forecast(_scenario(baseline=1, visits_per_year=4))
+
+
+def test_forecast_from_existing_toa_table(tmp_path):
+    # a scenario that only names a TOA table is forecast on that table's epochs and errors
+    from kinage.timing import simulate_toas
+
+    planned = _scenario(sun_avoidance=0)
+    path = simulate_toas(planned, rng=2).write(tmp_path / "t.ecsv")
+    star = {"ra": 53.2, "dec": -12.5, "distance": "300 pc", "spin_period": 0.25, "pm_ra_cosdec": 30.0,
+            "pm_dec": -20.0}
+    from_table = forecast(scenario_from_dict({"star": star, "campaign": {"toas": str(path), "max_baseline": 8}}))
+    direct = forecast(planned)
+    assert from_table.plan.n_visits == direct.plan.n_visits
+    assert np.allclose(from_table.solution.sigma, direct.solution.sigma, rtol=1e-3)
