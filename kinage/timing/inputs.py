@@ -17,7 +17,7 @@ import numpy as np
 from ..errors import InputError
 from . import photons
 
-__all__ = ["K_KMS_PER_MASYR_KPC", "spin_from_star", "expected_proper_motion", "visit_errors",
+__all__ = ["K_KMS_PER_MASYR_KPC", "ExpectedMotion", "spin_from_star", "expected_proper_motion", "visit_errors",
            "distance_pc", "phase_connection", "DETECTION_THRESHOLD_SIGMA"]
 
 #: km/s per (mas/yr * kpc): 1 AU/yr in km/s (IAU 2012 au, Julian year)
