@@ -53,13 +53,14 @@ def cmd_forecast(args):
 
 
 def cmd_simulate(args):
-    scenario = load_scenario(args.scenario)
+    # the scenario may name the TOA table this command is about to write
+    scenario = load_scenario(args.scenario, allow_missing=("campaign.toas",))
     _require_table(scenario, "campaign", "simulate")
-    from .pipeline import scenario_seed, stage_seed
+    from .pipeline import scenario_seed
     from .timing import simulate_toas
 
     seed = scenario_seed(scenario, args.seed)
-    result = simulate_toas(scenario, rng=stage_seed(seed, "simulate"))
+    result = simulate_toas(scenario, rng=seed)
     result.write(args.output)
     _say(args, f"wrote {len(result.table)} TOAs to {args.output}")
     if args.json:

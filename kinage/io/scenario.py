@@ -161,12 +161,15 @@ def file_sha256(path):
     return h.hexdigest()
 
 
-def load_scenario(path):
+def load_scenario(path, *, allow_missing=()):
     """Read and validate a scenario TOML file.
 
     Parameters
     ----------
     path : str or Path
+    allow_missing : iterable of str
+        ``"table.key"`` names of file keys whose file need not exist yet
+        (``kinage simulate`` writes ``campaign.toas``).
 
     Returns
     -------
@@ -187,11 +190,11 @@ def load_scenario(path):
         raise ScenarioError([InputError("scenario", "file is not UTF-8 text")], source=str(path)) from None
     except tomllib.TOMLDecodeError as exc:
         raise ScenarioError([InputError("scenario", f"not valid TOML ({exc})")], source=str(path)) from None
-    scn = scenario_from_dict(raw, base_dir=path.parent, source=str(path))
+    scn = scenario_from_dict(raw, base_dir=path.parent, source=str(path), allow_missing=allow_missing)
     return scn.replace(path=path, sha256=hashlib.sha256(data).hexdigest())
 
 
-def scenario_from_dict(raw, base_dir=".", source=None):
+def scenario_from_dict(raw, base_dir=".", source=None, *, allow_missing=()):
     """Validate a scenario given as a dict of tables (as TOML would give).
 
     Parameters
@@ -202,6 +205,8 @@ def scenario_from_dict(raw, base_dir=".", source=None):
         Folder against which relative paths resolve.
     source : str, optional
         Name used in error messages.
+    allow_missing : iterable of str
+        ``"table.key"`` names of file keys whose file need not exist yet.
 
     Returns
     -------
@@ -224,7 +229,7 @@ def scenario_from_dict(raw, base_dir=".", source=None):
         if not isinstance(val, dict):
             problems.append(InputError(f"[{key}]", f"expected a table of keys (got {type(val).__name__})"))
             continue
-        sections[key] = _parse_section(key, val, base_dir, problems)
+        sections[key] = _parse_section(key, val, base_dir, problems, frozenset(allow_missing))
     if "star" not in raw:
         problems.append(InputError("[star]", "missing table: every scenario describes one star"))
     if not problems:
@@ -246,7 +251,7 @@ def _suggest(name, choices):
     return f" (did you mean '{close[0]}'?)" if close else ""
 
 
-def _parse_section(table, raw, base_dir, problems):
+def _parse_section(table, raw, base_dir, problems, allow_missing=frozenset()):
     schema = SCHEMA[table]
     allowed = set(schema) | {f"{k.name}_error" for k in schema.values() if k.error}
     values = {}
@@ -261,7 +266,8 @@ def _parse_section(table, raw, base_dir, problems):
                           "mas" if key.kind == "angle" else key.unit, positive=True)
             parsed = _parse_value(table, err_key, val, base_dir, problems)
         else:
-            parsed = _parse_value(table, schema[name], val, base_dir, problems)
+            parsed = _parse_value(table, schema[name], val, base_dir, problems,
+                                  must_exist=f"{table}.{name}" not in allow_missing)
         if parsed is not None:
             values[name] = parsed
             given.add(name)
@@ -285,10 +291,10 @@ def _default(key):
     return key.default
 
 
-def _parse_value(table, key, val, base_dir, problems):
+def _parse_value(table, key, val, base_dir, problems, must_exist=True):
     where = f"[{table}] {key.name}"
     try:
-        out = _convert(key, val, base_dir, where)
+        out = _convert(key, val, base_dir, where, must_exist)
         _check_bounds(key, out, where)
         return out
     except InputError as exc:
@@ -296,7 +302,7 @@ def _parse_value(table, key, val, base_dir, problems):
         return None
 
 
-def _convert(key, val, base_dir, where):
+def _convert(key, val, base_dir, where, must_exist=True):
     kind = key.kind
     if kind == "quantity":
         return parse_quantity(val, key.unit, where)
@@ -347,7 +353,7 @@ def _convert(key, val, base_dir, where):
             raise InputError(where, f"expected a non-empty string (got {val!r})")
         return val.strip()
     if kind == "path":
-        return _path(val, base_dir, where)
+        return _path(val, base_dir, where, must_exist)
     if kind == "names":
         if isinstance(val, str):
             val = [val]
@@ -375,13 +381,13 @@ def _convert(key, val, base_dir, where):
     raise AssertionError(f"unknown key kind {kind}")
 
 
-def _path(val, base_dir, where):
+def _path(val, base_dir, where, must_exist=True):
     if not isinstance(val, str) or not val.strip():
         raise InputError(where, f"expected a file path (got {val!r})")
     p = Path(val).expanduser()
     if not p.is_absolute():
         p = (base_dir / p).resolve()
-    if not p.is_file():
+    if must_exist and not p.is_file():
         raise InputError(where, f"file not found: {p}")
     return p
 
