@@ -26,8 +26,7 @@ sys.path.insert(0, str(Path(__file__).resolve().parents[1]))  # run from a check
 from kinage import scenario_from_dict  # noqa: E402
 from kinage._galpy import import_galpy
 from kinage.orbits import trace
-from kinage.orbits.frames import solar_frame
-from kinage.orbits.integrate import _integrate_rows, _to_galpy, galpy_potential, time_grid
+from kinage.orbits.integrate import _integrate_rows, _to_galpy, galpy_potential
 from kinage.orbits.trace import CHUNK_BYTES
 from kinage.params import get
 

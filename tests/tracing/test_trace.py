@@ -1,7 +1,6 @@
 """The tracing front door: synthetic recovery, reproducibility, failures, products."""
 
 import json
-import warnings
 
 import astropy.coordinates as coord
 import astropy.units as u
