@@ -30,6 +30,7 @@ from kinage.orbits.integrate import _integrate_rows, _to_galpy, galpy_potential
 from kinage.orbits.trace import CHUNK_BYTES
 from kinage.params import get
 
+STEPS = 401
 HEADER = ("name,ra,dec,distance,distance_error,pm_ra_cosdec,pm_ra_cosdec_error,pm_dec,pm_dec_error,"
           "radial_velocity,radial_velocity_error,radius,age")
 
@@ -45,7 +46,7 @@ def _scenario(tmp, n, n_assoc, control_runs=0):
     return scenario_from_dict({
         "star": {"ra": 120.0, "dec": -20.0, "parallax": 2.0, "parallax_error": 0.2, "pm_ra_cosdec": -40.0,
                  "pm_ra_cosdec_error": 1.0, "pm_dec": 25.0, "pm_dec_error": 1.0},
-        "trace": {"associations": str(p), "samples": n, "association_samples": 200, "max_age": 10.0,
+        "trace": {"associations": str(p), "samples": n, "association_samples": 200, "max_age": 10.0, "time_steps": STEPS,
                   "control_runs": control_runs, "seed": 1}})
 
 

@@ -66,7 +66,7 @@ def _nll_a3(p, d):
     return -np.sum(logf)
 
 
-def compare_common_origin(dmin, max_fit=5000, rng=0):
+def compare_common_origin(dmin, max_fit=2000, rng=0):
     """Compare closest-approach distances with the common-origin distribution.
 
     Parameters

@@ -99,7 +99,7 @@ h1{font-size:1.5rem}h2{font-size:1.2rem;border-bottom:1px solid #ddd;padding-bot
 .summary{background:#f4f7fb;border-left:4px solid #0072B2;padding:.6rem 1rem}
 .summary dt{font-weight:600;margin-top:.4rem}.summary dd{margin-left:0}
 table{border-collapse:collapse;font-size:.9rem;margin:.5rem 0}td,th{border:1px solid #ddd;padding:.2rem .5rem;
-text-align:left;vertical-align:top}figure{margin:1rem 0}img{max-width:100%;height:auto}
+text-align:left;vertical-align:top}figure{margin:1rem 0}img{max-width:min(100%,40rem);height:auto}
 .failed{background:#fff3f0;border-left:4px solid #D55E00;padding:.5rem 1rem}.meta{color:#555;font-size:.85rem}
 """
 

@@ -1,0 +1,130 @@
+"""The whole pipeline on the (reduced) invented demo: results, report, failures."""
+
+import json
+import re
+import shutil
+import subprocess
+
+import pytest
+
+from kinage.cli import main
+from kinage.pipeline import plan_stages
+
+from .conftest import reduced_demo
+
+
+def test_all_stages_complete(demo_run):
+    assert demo_run.planned == ["forecast", "fit", "trace", "ages"]
+    assert list(demo_run.stages) == demo_run.planned and not demo_run.failed
+
+
+def test_results_json_has_every_stage_and_provenance(demo_run):
+    d = json.loads((demo_run.out_dir / "results.json").read_text())
+    for stage in ("forecast", "fit", "trace", "ages"):
+        assert stage in d and d["summary"][stage]
+    prov = d["provenance"]
+    assert prov["seed"] == demo_run.seed and prov["kinage_version"]
+    assert any(k.endswith("scenario.toml") for k in prov["input_sha256"])
+    assert any(k.endswith("associations.ecsv") for k in prov["input_sha256"])
+    assert any(k.endswith("toas.ecsv") for k in prov["input_sha256"])
+    kinds = {p["kind"] for p in prov["parameter_sets"]}
+    assert {"potential", "solar_parameters", "velocity_prior", "distance_prior"} <= kinds
+
+
+def test_interface_keys_present(demo_run):
+    d = json.loads((demo_run.out_dir / "results.json").read_text())
+    f = d["forecast"]
+    for k in ("toa_error_s", "n_toas", "baseline_yr", "sigma", "pm_significance", "baseline_needed_yr"):
+        assert k in f
+    assert set(f["sigma"]) >= {"ra_mas", "dec_mas", "pm_ra_cosdec_masyr", "pm_dec_masyr", "parallax_mas"}
+    assert {"values", "sigma", "chi2_reduced", "n_toas"} <= set(d["fit"])
+    t = d["trace"]
+    assert {"n_samples", "seed", "associations", "plane_crossing_age_yr"} <= set(t)
+    a = t["associations"][0]
+    assert {"name", "encounter_fraction", "chance_fraction", "age_yr", "dmin_pc"} <= set(a)
+    ages = d["ages"]
+    for k in ("characteristic_age_yr", "dipole_field_gauss", "spin_down_luminosity_erg_s", "spin_down_age_yr",
+              "implied_initial_period_s", "decay_timescale_yr", "cooling_age_yr", "kinematic_age_yr"):
+        assert k in ages
+
+
+def test_demo_birthplace_is_recovered(demo_run):
+    # the demo star was made (scripts/make_demo.py) at the centre of "Serrat OB3" 0.52 Myr ago
+    t = demo_run.stages["trace"].to_dict()
+    assert t["associations"][0]["name"] == "Serrat OB3"
+    age = t["associations"][0]["age_yr"]
+    assert age["lo68"] < 0.52e6 < age["hi68"] or abs(age["median"] - 0.52e6) < 0.15e6
+    # the ages stage used the trace's kinematic age
+    k = demo_run.stages["ages"].to_dict()["kinematic_age_yr"]
+    assert abs(k["median"] - age["median"]) / age["median"] < 0.1
+
+
+def test_report_summary_is_traceable_to_results_json(demo_run):
+    d = json.loads((demo_run.out_dir / "results.json").read_text())
+    html = (demo_run.out_dir / "report.html").read_text()
+    md = (demo_run.out_dir / "report.md").read_text()
+    import html as h
+
+    for stage, text in d["summary"].items():
+        assert h.escape(text) in html, stage
+        assert text in md, stage
+        # every number in the summary sentence appears in the stage's JSON section (rounded)
+        assert re.findall(r"\d", text)
+
+
+def test_report_is_self_contained(demo_run):
+    html = (demo_run.out_dir / "report.html").read_text()
+    assert "data:image/png;base64," in html
+    assert not re.search(r"<img[^>]+src=['\"](?!data:)", html)
+    assert "<script" not in html
+    for q in ("Can a timing campaign measure", "Where and when was it born", "Do the ages agree"):
+        assert q in html
+
+
+def test_report_opens_in_headless_browser(demo_run, tmp_path):
+    chromium = shutil.which("chromium") or shutil.which("chromium-browser")
+    if not chromium:
+        pytest.skip("Debian's chromium is not installed (apt-get install chromium); browser check skipped")
+    shot = tmp_path / "report.png"
+    r = subprocess.run(
+        [chromium, "--headless", "--no-sandbox", "--disable-gpu", "--disable-quic", "--no-first-run",
+         "--disable-background-networking", "--disable-component-update", "--disable-sync",
+         f"--user-data-dir={tmp_path / 'profile'}", "--enable-logging=stderr", "--v=0",
+         f"--screenshot={shot}", "--window-size=1000,1400", (demo_run.out_dir / "report.html").as_uri()],
+        capture_output=True, text=True, timeout=120)
+    assert r.returncode == 0, r.stderr[-2000:]
+    assert shot.is_file() and shot.stat().st_size > 10000
+    assert "Uncaught" not in r.stderr and "CONSOLE" not in r.stderr.upper().replace("CONSOLE_", "")
+
+
+def test_mistake_stops_before_any_stage(tmp_path, capsys):
+    scn = reduced_demo(tmp_path / "bad")
+    scn.write_text(scn.read_text().replace('parallax_error = "0.25 mas"', 'parallax_error = "0.25 km/s"'))
+    out = tmp_path / "out"
+    assert main(["run", str(scn), "--out", str(out), "--quiet"]) == 2
+    assert "[star] parallax_error" in capsys.readouterr().err
+    assert not out.exists()
+
+
+def test_late_stage_failure_keeps_earlier_results(tmp_path, capsys):
+    # a temperature far below every cooling curve makes the ages stage fail
+    scn = reduced_demo(tmp_path / "late", samples=200)
+    text = scn.read_text().replace('temperature = "86 eV"', 'temperature = "0.5 eV"')
+    text = text.replace('temperature_error = "4 eV"', 'temperature_error = "0.05 eV"')
+    scn.write_text(text)
+    out = tmp_path / "out"
+    assert main(["run", str(scn), "--out", str(out), "--quiet"]) == 1
+    err = capsys.readouterr().err
+    assert "stage 'ages' failed" in err
+    d = json.loads((out / "results.json").read_text())
+    assert d["failed_stage"] == "ages" and "trace" in d and "forecast" in d
+    assert "failed" in (out / "report.html").read_text()
+
+
+def test_stage_plan_follows_tables(tmp_path):
+    from kinage.io.scenario import scenario_from_dict
+
+    star = {"ra": 10, "dec": 20, "distance": 300, "pm_ra_cosdec": 1, "pm_dec": 2, "spin_period": 5}
+    camp = {"start": "2027-01-01", "baseline": 3, "visits_per_year": 4, "toa_error": "5 ms"}
+    assert plan_stages(scenario_from_dict({"star": star, "campaign": camp})) == ["forecast"]
+    assert plan_stages(scenario_from_dict({"star": star, "ages": {}})) == ["ages"]
