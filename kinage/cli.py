@@ -147,7 +147,7 @@ def main(argv=None):
         print(f"kinage {args.verb}: failed: {exc}", file=sys.stderr)
         return 1
     except KeyboardInterrupt:
-        print(f"kinage {args.verb}: interrupted; finished files are complete, nothing half-written was kept",
+        print(f"kinage {args.verb}: interrupted; every file written is complete (unfinished work is discarded)",
               file=sys.stderr)
         return 130
     except Exception as exc:  # noqa: BLE001

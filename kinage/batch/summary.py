@@ -35,7 +35,7 @@ def summary_table(records):
     from astropy.table import Table
 
     cols = {k: [] for k in ("name", "status", "reason", "favoured_association", "encounter_fraction",
-                            "chance_fraction", "kinematic_age", "kinematic_age_lo68", "kinematic_age_hi68",
+                            "chance_fraction", "kinematic_age", "kinematic_age_lo68", "kinematic_age_hi68", "kinematic_age_source",
                             "plane_crossing_age", "characteristic_age", "cooling_age")}
     for r in records:
         res = r.get("results") or {}
@@ -51,6 +51,7 @@ def summary_table(records):
         cols["kinematic_age"].append(_num(kin.get("median")))
         cols["kinematic_age_lo68"].append(_num(kin.get("lo68")))
         cols["kinematic_age_hi68"].append(_num(kin.get("hi68")))
+        cols["kinematic_age_source"].append(ag.get("kinematic_age_source") or "")
         cols["plane_crossing_age"].append(_num(_get(tr, "plane_crossing_age_yr", "median")))
         cols["characteristic_age"].append(_num(ag.get("characteristic_age_yr")))
         cols["cooling_age"].append(_num(_get(ag, "cooling_age_yr", "median")))
@@ -79,7 +80,12 @@ def _population_figure(table, path):
             lo = k - np.asarray(table["kinematic_age_lo68"][ok]) / 1e6
             hi = np.asarray(table["kinematic_age_hi68"][ok]) / 1e6 - k
             c = np.asarray(table["characteristic_age"][ok]) / 1e6
-            ax1.errorbar(c, k, yerr=[np.nan_to_num(lo), np.nan_to_num(hi)], fmt="o", ms=3, color=color(0), lw=0.8)
+            assoc = np.array([str(s).startswith("trace: encounters") for s in table["kinematic_age_source"][ok]])
+            for sel, label, face in ((assoc, "from a birth association", color(0)),
+                                     (~assoc, "other (plane crossing, scenario)", "white")):
+                if sel.any():
+                    ax1.errorbar(c[sel], k[sel], yerr=[np.nan_to_num(lo[sel]), np.nan_to_num(hi[sel])], fmt="o",
+                                 ms=3.5, mfc=face, color=color(0), lw=0.8, label=label)
             lim = [min(c.min(), k.min()) / 2, max(c.max(), k.max()) * 2]
             ax1.plot(lim, lim, ls="--", color="0.4", lw=0.8, label="equal ages")
             ax1.set_xscale("log")

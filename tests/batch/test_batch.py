@@ -1,0 +1,156 @@
+"""Batch runs: resumable after interruption, independent of worker count, robust to a bad row."""
+
+import json
+import os
+import signal
+import subprocess
+import sys
+import time
+from pathlib import Path
+
+import numpy as np
+import pytest
+from astropy.table import Table
+
+from kinage.batch.stars import read_star_rows, star_seed
+from kinage.errors import InputError
+
+DEMO = Path(__file__).resolve().parents[2] / "data_demo"
+N_STARS = 6
+
+TEMPLATE = """
+[star]
+name = "template"
+
+[trace]
+associations = "{assoc}"
+samples = 150
+association_samples = 30
+control_runs = 2
+max_age = "3 Myr"
+seed = 42
+
+[ages]
+samples = 500
+"""
+
+
+@pytest.fixture(scope="module")
+def inputs(tmp_path_factory):
+    d = tmp_path_factory.mktemp("batch_inputs")
+    tab = Table.read(DEMO / "population.ecsv")[:N_STARS]
+    tab.write(d / "stars.ecsv")
+    bad = tab.copy()
+    bad["parallax_error"][2] = -1.0  # one corrupt row
+    bad.write(d / "stars_bad.ecsv")
+    (d / "template.toml").write_text(TEMPLATE.format(assoc=(DEMO / "associations.ecsv").as_posix()))
+    return d
+
+
+def _batch(inputs, out, *extra, stars="stars.ecsv", wait=True):
+    cmd = [sys.executable, "-m", "kinage.cli", "batch", str(inputs / stars), "--scenario", str(inputs / "template.toml"),
+           "--out", str(out), *extra]
+    if not wait:
+        return subprocess.Popen(cmd, stdout=subprocess.PIPE, stderr=subprocess.PIPE, text=True,
+                                start_new_session=True)
+    return subprocess.run(cmd, capture_output=True, text=True, timeout=600)
+
+
+def _results(out):
+    recs = {}
+    for f in sorted(Path(out, "stars").glob("*/star.json")):
+        r = json.loads(f.read_text())
+        recs[r["name"]] = r
+    return recs
+
+
+def _numbers(rec):
+    res = rec["results"]
+    t, a = res["trace"], res["ages"]
+    return (t["associations"][0]["encounter_fraction"], t["associations"][0]["age_yr"]["median"],
+            t["plane_crossing_age_yr"]["median"], a["characteristic_age_yr"], a["cooling_age_yr"]["median"])
+
+
+@pytest.fixture(scope="module")
+def reference(inputs, tmp_path_factory):
+    out = tmp_path_factory.mktemp("batch_ref")
+    r = _batch(inputs, out, "--workers", "2", "--quiet")
+    assert r.returncode == 0, r.stderr
+    return out
+
+
+def test_all_stars_done_with_summary(reference):
+    recs = _results(reference)
+    assert len(recs) == N_STARS and all(r["status"] == "ok" for r in recs.values())
+    summary = Table.read(reference / "summary.ecsv")
+    assert len(summary) == N_STARS and (reference / "population.png").stat().st_size > 1000
+    assert json.loads((reference / "batch.json").read_text())["n_failed"] == 0
+
+
+def test_rerun_skips_finished_stars(inputs, reference):
+    r = _batch(inputs, reference, "--workers", "1")
+    assert r.returncode == 0
+    assert f"{N_STARS} already done, 0 to run" in r.stdout
+
+
+def test_one_worker_gives_identical_numbers(inputs, reference, tmp_path):
+    # seeds derive from the batch seed and each star's name, not from scheduling (common practice, no source)
+    r = _batch(inputs, tmp_path / "one", "--workers", "1", "--quiet")
+    assert r.returncode == 0, r.stderr
+    a, b = _results(reference), _results(tmp_path / "one")
+    for name in a:
+        assert _numbers(a[name]) == _numbers(b[name]), name
+
+
+@pytest.mark.parametrize("sig", [signal.SIGINT, signal.SIGTERM])
+def test_interrupted_batch_resumes_without_loss_or_duplicates(inputs, reference, tmp_path, sig):
+    out = tmp_path / "killed"
+    p = _batch(inputs, out, "--workers", "2", wait=False)
+    deadline = time.time() + 300
+    while time.time() < deadline and len(list((out / "stars").glob("*/star.json"))) < 1:
+        time.sleep(0.05)
+    os.killpg(p.pid, sig)
+    p.communicate(timeout=120)
+    n_done = len(list((out / "stars").glob("*/star.json")))
+    assert p.returncode == 130 and n_done < N_STARS or p.returncode == 0 and n_done == N_STARS
+    r = _batch(inputs, out, "--workers", "2", "--quiet")
+    assert r.returncode == 0, r.stderr
+    folders = [f for f in (out / "stars").iterdir()]
+    assert sorted(f.name for f in folders) == sorted(f.name for f in (reference / "stars").iterdir())
+    assert not any(f.name.startswith(".") for f in folders)  # no half-written folders left
+    a, b = _results(reference), _results(out)
+    assert set(a) == set(b)
+    for name in a:
+        assert _numbers(a[name]) == _numbers(b[name]), name
+
+
+def test_corrupt_row_fails_alone(inputs, tmp_path):
+    r = _batch(inputs, tmp_path / "bad", "--workers", "2", stars="stars_bad.ecsv")
+    assert r.returncode == 1  # the exit status counts failed stars
+    recs = _results(tmp_path / "bad")
+    failed = [n for n, rec in recs.items() if rec["status"] != "ok"]
+    assert failed == ["Pop-03"]
+    assert "parallax_error" in recs["Pop-03"]["reason"]
+    assert "Pop-03" in r.stderr
+
+
+def test_star_seed_depends_only_on_batch_seed_and_name():
+    assert star_seed(42, "Pop-01") == star_seed(42, "Pop-01")
+    assert star_seed(42, "Pop-01") != star_seed(42, "Pop-02")
+    assert star_seed(42, "Pop-01") != star_seed(43, "Pop-01")
+
+
+def test_star_table_validation(tmp_path):
+    p = tmp_path / "s.csv"
+    p.write_text("name,ra,dec,colour\nA,1,2,red\n")
+    with pytest.raises(InputError, match="unknown columns"):
+        read_star_rows(p)
+    p.write_text("name,ra,dec\nA,1,2\nA,3,4\n")
+    with pytest.raises(InputError, match="row 2, column 'name'.*duplicate"):
+        read_star_rows(p)
+    p.write_text("ra,dec\n1,2\n")
+    with pytest.raises(InputError, match="'name' column"):
+        read_star_rows(p)
+    rows = read_star_rows(DEMO / "population.ecsv")
+    assert len(rows) >= 20 and rows[0]["parallax"].endswith("mas")
+    assert np.isfinite(float(rows[0]["ra"].split()[0]))
