@@ -111,7 +111,10 @@ def run_one_star(row, template_raw, base_dir, seed, samples, final_dir, input_ha
     """
     import warnings
 
+    from ..orbits.integrate import set_integration_cores
     from ..pipeline import run_pipeline
+
+    set_integration_cores(1)  # one task per worker process: do not oversubscribe the cores
 
     final = Path(final_dir)
     tmp = final.parent / f".tmp-{final.name}-{uuid.uuid4().hex[:8]}"

@@ -24,7 +24,7 @@ from .._galpy import import_galpy
 from ..errors import InputError
 from .frames import KMS_TO_PCMYR
 
-__all__ = ["StraightOrbits", "GalpyOrbits", "integrate_orbits", "galpy_potential", "time_grid"]
+__all__ = ["set_integration_cores", "StraightOrbits", "GalpyOrbits", "integrate_orbits", "galpy_potential", "time_grid"]
 
 _POTENTIALS = {}
 
@@ -148,9 +148,22 @@ def _to_galpy(pos, vel, ro, vo):
     return np.column_stack([R / ro, vR / vo, vT / vo, z / ro, vz / vo, phi])
 
 
+_CORES = {"n": None}
+
+
+def set_integration_cores(n):
+    """Threads galpy's C integrators may use (None: galpy's default, all cores).
+
+    Batch workers set 1 so that several processes do not oversubscribe the machine.
+    """
+    _CORES["n"] = None if n is None else max(1, int(n))
+
+
 def _integrate_rows(vxvv, t_nat, pot, method, ro, vo, **kw):
     from galpy.orbit import Orbit
 
+    if _CORES["n"] is not None:
+        kw.setdefault("numcores", _CORES["n"])
     with warnings.catch_warnings():
         warnings.simplefilter("ignore")
         o = Orbit(vxvv, ro=ro, vo=vo)
