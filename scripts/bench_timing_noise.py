@@ -31,7 +31,7 @@ def main(n_toas=10_000, n_modes=30):
     rng = np.random.default_rng(1)
     offsets = np.sort(rng.uniform(-5 * 365.25, 5 * 365.25, n_toas))
     grid = TimeGrid.from_times(ref + offsets * u.d, ref)
-    model = TimingModel(140.0, 30.0, f0=1 / 0.3, f1=-1e-14, spin_terms=2)
+    model = TimingModel(140.0, 30.0, freq=1 / 0.3, freq_dot=-1e-14, spin_terms=2)
     errors = np.full(n_toas, 1e-4)
 
     t0 = time.perf_counter()

@@ -68,7 +68,7 @@ def draw_associations(table, m, rng):
     AssociationDraws
     """
     rng = np.random.default_rng(rng)
-    parts = {k: [] for k in ("ra", "dec", "d", "pmra", "pmdec", "rv")}
+    parts = {k: [] for k in ("ra", "dec", "d", "pm_ra_cosdec", "pm_dec", "rv")}
     for a in table:
         dec = a.dec + a.dec_error * rng.standard_normal(m)
         dec = np.clip(dec, -90.0, 90.0)
@@ -76,9 +76,9 @@ def draw_associations(table, m, rng):
         parts["ra"].append(ra)
         parts["dec"].append(dec)
         parts["d"].append(sample_distance_gaussian(a.distance, a.distance_error, m, rng))
-        parts["pmra"].append(a.pm_ra_cosdec + a.pm_ra_cosdec_error * rng.standard_normal(m))
-        parts["pmdec"].append(a.pm_dec + a.pm_dec_error * rng.standard_normal(m))
+        parts["pm_ra_cosdec"].append(a.pm_ra_cosdec + a.pm_ra_cosdec_error * rng.standard_normal(m))
+        parts["pm_dec"].append(a.pm_dec + a.pm_dec_error * rng.standard_normal(m))
         parts["rv"].append(a.radial_velocity + a.radial_velocity_error * rng.standard_normal(m))
     cat = {k: np.concatenate(v) for k, v in parts.items()}
-    return AssociationDraws(table.names, int(m), cat["ra"], cat["dec"], cat["d"], cat["pmra"], cat["pmdec"],
+    return AssociationDraws(table.names, int(m), cat["ra"], cat["dec"], cat["d"], cat["pm_ra_cosdec"], cat["pm_dec"],
                             cat["rv"], table.column("radius"), table.column("age"))

@@ -48,7 +48,7 @@ class FitResult:
     timing_solution : AstrometricSolution
         The timing-only solution.
     parameters : dict
-        All fitted values (astrometric in mas, mas/yr; spin f0 Hz, f1 Hz/s).
+        All fitted values (astrometric in mas, mas/yr; spin freq Hz, freq_dot Hz/s).
     parameter_errors : dict
     chi2 : float
     n_toas, n_parameters : int
@@ -100,8 +100,8 @@ class FitResult:
             "n_parameters": self.n_parameters,
             "converged": self.converged,
             "iterations": self.iterations,
-            "spin": {k: v for k, v in self.parameters.items() if k in ("phase", "f0", "f1", "f2")},
-            "spin_sigma": {k: v for k, v in self.parameter_errors.items() if k in ("phase", "f0", "f1", "f2")},
+            "spin": {k: v for k, v in self.parameters.items() if k in ("phase", "freq", "freq_dot", "freq_ddot")},
+            "spin_sigma": {k: v for k, v in self.parameter_errors.items() if k in ("phase", "freq", "freq_dot", "freq_ddot")},
             "residuals": {"rms_us": float(np.sqrt(np.mean(r**2)) * 1e6),
                           "weighted_rms_us": float(np.sqrt(np.sum(w * r**2) / np.sum(w)) * 1e6),
                           "max_abs_us": float(np.max(np.abs(r)) * 1e6), "n": int(r.size)},
@@ -175,8 +175,8 @@ def fit_toas(toas, scenario, *, max_iter=20, method="woodbury"):
     ra, dec = star.value("ra", "deg"), star.value("dec", "deg")
     if ra is None or dec is None:
         raise InputError("[star] ra", "position (ra, dec) is required to fit TOAs")
-    f0, f1, _ = inputs.spin_from_star(star, required=True, where="fitting TOAs")
-    model = TimingModel(ra, dec, f0, f1, 0.0, int(c.get("spin_terms", 2)))
+    freq, freq_dot, _ = inputs.spin_from_star(star, required=True, where="fitting TOAs")
+    model = TimingModel(ra, dec, freq, freq_dot, 0.0, int(c.get("spin_terms", 2)))
     times = tab["mjd"].tdb
     n = len(tab)
     p = model.n_parameters

@@ -145,8 +145,8 @@ def forecast(scenario, *, progress=False, method="woodbury"):
         raise InputError("[campaign]", "required for a forecast")
     star = scenario.star
     ra, dec = star.value("ra", "deg"), star.value("dec", "deg")
-    f0, f1, _ = inputs.spin_from_star(star)
-    model = TimingModel(ra, dec, f0, f1, 0.0, int(c.get("spin_terms", 2)))
+    freq, freq_dot, _ = inputs.spin_from_star(star)
+    model = TimingModel(ra, dec, freq, freq_dot, 0.0, int(c.get("spin_terms", 2)))
     warnings = []
     max_b = c.value("max_baseline", "yr", 20.0)
     target_sig = c.get("target_significance", 3.0)

@@ -1,6 +1,6 @@
 """Turn a scenario into the plain numbers the timing stage works with.
 
-Spin: f0 = 1/P, f1 = -Pdot/P^2 (from ``[star] spin_period`` and
+Spin: freq = 1/P, freq_dot = -Pdot/P^2 (from ``[star] spin_period`` and
 ``spin_period_derivative``).  Expected proper motion: the scenario's, else a
 transverse speed (``[star] transverse_velocity``, else the median projected
 speed of the velocity prior named in ``[trace] velocity_prior``, else
@@ -30,7 +30,7 @@ PHASE_CONNECTION_LIMIT = 0.1
 
 
 def spin_from_star(star, required=False, where="timing"):
-    """(f0 [Hz], f1 [Hz/s], period [s] or None) from a ``[star]`` section."""
+    """(freq [Hz], freq_dot [Hz/s], period [s] or None) from a ``[star]`` section."""
     p = star.value("spin_period", "s")
     if p is None:
         if required:

@@ -11,15 +11,15 @@ s(t) the unit vector to the star, whose ra*cos(dec) and dec move with the
 proper motion from the reference epoch.  The second (parallax) term is linear
 in the parallax varpi: (|r|^2 - (r.s)^2)/(2 c d) = varpi (|r|^2 - (r.s)^2)/(2 c AU).
 
-The spin phase is phi(tau) = phi0 + f0 tau + f1 tau^2/2 + f2 tau^3/6 with
+The spin phase is phi(tau) = phi0 + freq tau + freq_dot tau^2/2 + freq_ddot tau^3/6 with
 tau = t_b - t_epoch (s).  The timing residual of a TOA numbered N is
-R = (phi - N) / f0 (s).  Times are held as float64 seconds from the
+R = (phi - N) / freq (s).  Times are held as float64 seconds from the
 reference epoch (ulp 0.1 us at 20 yr), computed from two-part astropy Times,
 so no float64-MJD rounding (~0.6 us) enters.
 
 Parameter vector order: ``ra`` offset (mas, along ra*cos dec), ``dec`` offset
 (mas), ``pm_ra_cosdec`` (mas/yr), ``pm_dec`` (mas/yr), ``parallax`` (mas),
-``phase`` (cycles), ``f0`` (Hz), ``f1`` (Hz/s), ``f2`` (Hz/s^2) — the spin
+``phase`` (cycles), ``freq`` (Hz), ``freq_dot`` (Hz/s), ``freq_ddot`` (Hz/s^2) — the spin
 frequency terms present are set by ``spin_terms`` (1 to 3).
 Not modelled (documented limits): observatory offset from the geocentre,
 solar Shapiro delay, dispersion; all negligible or absorbed for X-ray timing
@@ -44,7 +44,7 @@ __all__ = [
 ]
 
 ASTRO_PARAMETERS = ("ra", "dec", "pm_ra_cosdec", "pm_dec", "parallax")
-SPIN_PARAMETERS = ("phase", "f0", "f1", "f2")
+SPIN_PARAMETERS = ("phase", "freq", "freq_dot", "freq_ddot")
 C_M_S = const.c.to_value(u.m / u.s)
 AU_LIGHT_S = const.au.to_value(u.m) / C_M_S  # 499.004784 s (IAU 2012 au)
 MAS_RAD = np.pi / (180 * 3600e3)
@@ -121,18 +121,18 @@ class TimingModel:
     ----------
     ra_deg, dec_deg : float, degrees
         Reference position at the reference epoch (ICRS).
-    f0 : float, Hz
-    f1 : float, Hz/s
-    f2 : float, Hz/s^2
+    freq : float, Hz
+    freq_dot : float, Hz/s
+    freq_ddot : float, Hz/s^2
     spin_terms : int
-        Number of fitted frequency terms (1: f0; 2: + f1; 3: + f2).
+        Number of fitted frequency terms (1: freq; 2: + freq_dot; 3: + freq_ddot).
     """
 
     ra_deg: float
     dec_deg: float
-    f0: float = 1.0
-    f1: float = 0.0
-    f2: float = 0.0
+    freq: float = 1.0
+    freq_dot: float = 0.0
+    freq_ddot: float = 0.0
     spin_terms: int = 2
 
     @property
@@ -145,16 +145,16 @@ class TimingModel:
 
     def start_vector(self, astro=(0.0, 0.0, 0.0, 0.0, 0.0)):
         """Parameter vector with the given astrometric values and this model's spin."""
-        spin = (0.0, self.f0, self.f1, self.f2)[: 1 + self.spin_terms]
+        spin = (0.0, self.freq, self.freq_dot, self.freq_ddot)[: 1 + self.spin_terms]
         return np.concatenate([np.asarray(astro, float), spin])
 
     def with_spin(self, theta):
-        """Copy whose f0, f1, f2 are taken from a parameter vector."""
-        f0, f1, f2 = self._spin(theta)
-        return replace(self, f0=float(f0), f1=float(f1), f2=float(f2))
+        """Copy whose freq, freq_dot, freq_ddot are taken from a parameter vector."""
+        freq, freq_dot, freq_ddot = self._spin(theta)
+        return replace(self, freq=float(freq), freq_dot=float(freq_dot), freq_ddot=float(freq_ddot))
 
     def _spin(self, theta):
-        f = [self.f0, self.f1, self.f2]
+        f = [self.freq, self.freq_dot, self.freq_ddot]
         f[: self.spin_terms] = theta[6:6 + self.spin_terms]
         return f
 
@@ -207,13 +207,13 @@ class TimingModel:
     def phase(self, grid, theta):
         """Spin phase (cycles) at the given arrival times for parameters ``theta``."""
         tau = grid.seconds + self.delay(grid, theta[:5])
-        f0, f1, f2 = self._spin(theta)
-        return theta[5] + tau * (f0 + tau * (f1 / 2 + tau * f2 / 6)), tau, (f0, f1, f2)
+        freq, freq_dot, freq_ddot = self._spin(theta)
+        return theta[5] + tau * (freq + tau * (freq_dot / 2 + tau * freq_ddot / 6)), tau, (freq, freq_dot, freq_ddot)
 
     def residuals(self, grid, theta, pulse_numbers):
-        """Timing residuals (phi - N)/f0, seconds."""
-        phi, _, (f0, _, _) = self.phase(grid, theta)
-        return (phi - pulse_numbers) / f0
+        """Timing residuals (phi - N)/freq, seconds."""
+        phi, _, (freq, _, _) = self.phase(grid, theta)
+        return (phi - pulse_numbers) / freq
 
     def pulse_numbers(self, grid, theta):
         """Nearest whole pulse numbers for the given parameters (phase connection)."""
@@ -222,19 +222,19 @@ class TimingModel:
     def design_matrix(self, grid, theta, pulse_numbers=None):
         """dR/dtheta, shape (n, p), seconds per parameter unit.
 
-        Astrometric columns are the delay partials times f(tau)/f0; spin
-        columns are 1/f0, tau/f0, tau^2/(2 f0), tau^3/(6 f0) (minus R/f0 for
-        the f0 column, from the normalisation of R).
+        Astrometric columns are the delay partials times f(tau)/freq; spin
+        columns are 1/freq, tau/freq, tau^2/(2 freq), tau^3/(6 freq) (minus R/freq for
+        the freq column, from the normalisation of R).
         """
-        phi, tau, (f0, f1, f2) = self.phase(grid, theta)
-        inst = (f0 + tau * (f1 + tau * f2 / 2)) / f0
+        phi, tau, (freq, freq_dot, freq_ddot) = self.phase(grid, theta)
+        inst = (freq + tau * (freq_dot + tau * freq_ddot / 2)) / freq
         astro = self.astro_partials(grid, theta[:5]) * inst[:, None]
-        cols = [np.full(tau.size, 1.0 / f0)]
-        r = 0.0 if pulse_numbers is None else (phi - pulse_numbers) / f0
+        cols = [np.full(tau.size, 1.0 / freq)]
+        r = 0.0 if pulse_numbers is None else (phi - pulse_numbers) / freq
         powers = (tau, tau**2 / 2, tau**3 / 6)
         for k in range(self.spin_terms):
-            c = powers[k] / f0
+            c = powers[k] / freq
             if k == 0:
-                c = c - r / f0
+                c = c - r / freq
             cols.append(c)
         return np.column_stack([astro] + cols)

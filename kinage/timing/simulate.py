@@ -44,7 +44,7 @@ class SimulationResult:
         ``seed``, ``injected`` (parameter values) and ``epoch_mjd_tdb``.
     injected : dict
         Injected values: ra/dec offsets (mas), pm (mas/yr), parallax (mas),
-        f0 (Hz), f1 (Hz/s).
+        freq (Hz), freq_dot (Hz/s).
     seed : int or None
     """
 
@@ -79,7 +79,7 @@ class SimulationResult:
 
 def _injected(scenario, rng, inject):
     star = scenario.star
-    f0, f1, _ = inputs.spin_from_star(star, required=True, where="simulating TOAs")
+    freq, freq_dot, _ = inputs.spin_from_star(star, required=True, where="simulating TOAs")
     pra, pdec = star.value("pm_ra_cosdec", "mas/yr"), star.value("pm_dec", "mas/yr")
     if pra is None or pdec is None:
         motion = inputs.expected_proper_motion(scenario)
@@ -91,7 +91,7 @@ def _injected(scenario, rng, inject):
         d = star.value("distance", "pc")
         plx = 1000.0 / d if d else 0.0
     vals = {"ra": 0.0, "dec": 0.0, "pm_ra_cosdec": float(pra), "pm_dec": float(pdec), "parallax": float(plx),
-            "f0": f0, "f1": f1}
+            "freq": freq, "freq_dot": freq_dot}
     for k, v in (inject or {}).items():
         if k not in vals:
             raise InputError("inject", f"unknown parameter '{k}' (expected one of {', '.join(vals)})")
@@ -110,8 +110,8 @@ def simulate_toas(scenario, *, rng=None, inject=None):
         Random numbers (an int is a seed, recorded in the table meta).
     inject : dict, optional
         Override injected values: keys ``ra``, ``dec`` (mas offsets),
-        ``pm_ra_cosdec``, ``pm_dec`` (mas/yr), ``parallax`` (mas), ``f0``
-        (Hz), ``f1`` (Hz/s).
+        ``pm_ra_cosdec``, ``pm_dec`` (mas/yr), ``parallax`` (mas), ``freq``
+        (Hz), ``freq_dot`` (Hz/s).
 
     Returns
     -------
@@ -125,7 +125,7 @@ def simulate_toas(scenario, *, rng=None, inject=None):
     star = scenario.star
     ra, dec = star.value("ra", "deg"), star.value("dec", "deg")
     vals = _injected(scenario, rng, inject)
-    model = TimingModel(ra, dec, vals["f0"], vals["f1"], 0.0, int(c.get("spin_terms", 2)))
+    model = TimingModel(ra, dec, vals["freq"], vals["freq_dot"], 0.0, int(c.get("spin_terms", 2)))
     plan = make_plan(c, ra, dec)
     epoch = star.get("epoch") or _mid(plan.mjd)
     errors, _ = inputs.visit_errors(scenario, plan.exposure)
@@ -135,8 +135,8 @@ def simulate_toas(scenario, *, rng=None, inject=None):
     pulses = model.pulse_numbers(grid, theta)
     sec = grid.seconds.copy()
     for _ in range(5):  # Newton on the arrival time of pulse N (Earth moved each step)
-        phi, tau, (f0, f1, f2) = model.phase(grid, theta)
-        sec = sec - (phi - pulses) / (f0 + tau * (f1 + tau * f2 / 2))
+        phi, tau, (freq, freq_dot, freq_ddot) = model.phase(grid, theta)
+        sec = sec - (phi - pulses) / (freq + tau * (freq_dot + tau * freq_ddot / 2))
         grid = TimeGrid(epoch, sec, TimeGrid.from_times(epoch + sec * u.s, epoch).earth)
     noise = noise_from_campaign(c, sec, errors)
     sec = sec + noise.draw(rng)

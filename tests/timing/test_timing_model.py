@@ -83,7 +83,7 @@ def test_parallax_amplitude():
 
 
 def test_spin_columns_match_finite_differences():
-    model = TimingModel(10.0, 20.0, f0=2.5, f1=-3e-13, spin_terms=3)
+    model = TimingModel(10.0, 20.0, freq=2.5, freq_dot=-3e-13, spin_terms=3)
     grid = _grid(40, 2000.0)
     theta = model.start_vector([1.0, 2.0, 3.0, 4.0, 0.5])
     pulses = model.pulse_numbers(grid, theta)

@@ -28,8 +28,8 @@ def _synthetic(tmp_path, seed, age_myr=1.5):
     rng = np.random.default_rng(seed)
     f = solar_frame("astropy-v4.0")
     pset = get("potential", "MWPotential2014")
-    a = dict(ra=100.0, dec=5.0, distance=450.0, pmra=-1.5, pmdec=-0.5, rv=18.0)
-    apos, avel = f.to_galactocentric(a["ra"], a["dec"], a["distance"], a["pmra"], a["pmdec"], a["rv"])
+    a = dict(ra=100.0, dec=5.0, distance=450.0, pm_ra_cosdec=-1.5, pm_dec=-0.5, rv=18.0)
+    apos, avel = f.to_galactocentric(a["ra"], a["dec"], a["distance"], a["pm_ra_cosdec"], a["pm_dec"], a["rv"])
     t = time_grid(age_myr, 201)
     back = integrate_orbits(apos, avel, t, pset)
     bpos, bvel = back.state(np.array([0]), np.array([len(t) - 1]))
@@ -48,7 +48,7 @@ def _synthetic(tmp_path, seed, age_myr=1.5):
             "pm_ra_cosdec": float(c.pm_ra_cosdec.to_value(u.mas / u.yr)) + pm_err * rng.normal(),
             "pm_ra_cosdec_error": pm_err,
             "pm_dec": float(c.pm_dec.to_value(u.mas / u.yr)) + pm_err * rng.normal(), "pm_dec_error": pm_err}
-    rows = [f"Lyra Nova-1,{a['ra']},{a['dec']},{a['distance']},10,{a['pmra']},0.2,{a['pmdec']},0.2,{a['rv']},2,15,5",
+    rows = [f"Lyra Nova-1,{a['ra']},{a['dec']},{a['distance']},10,{a['pm_ra_cosdec']},0.2,{a['pm_dec']},0.2,{a['rv']},2,15,5",
             # decoy: 250 pc away on the other side of the sky
             "Cetra Decoy-2,280.0,-5.0,400,10,1.0,0.2,-2.0,0.2,-10,2,15,5"]
     path = tmp_path / "assoc.csv"
