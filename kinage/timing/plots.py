@@ -46,11 +46,21 @@ def forecast_figure(result, path):
     return save_figure(fig, path)
 
 
+def _time_unit(values_s):
+    """A readable unit (name, scale from seconds) for delays of this size."""
+    peak = np.nanmax(np.abs(values_s)) if np.size(values_s) else 0.0
+    for name, scale in (("s", 1.0), ("ms", 1e3), ("us", 1e6)):
+        if peak * scale >= 1.0:
+            return name, scale
+    return "us", 1e6
+
+
 def residual_figure(result, path):
     """Residuals against time with the fitted astrometric signature; saves a PNG.
 
     Top: residuals with the fitted astrometric delay added back (points) and
-    that delay on a fine grid (line).  Bottom: post-fit residuals.
+    that delay on a fine grid (line), both relative to the delay's mean (a
+    constant delay is absorbed by the phase offset).  Bottom: post-fit residuals.
 
     Parameters
     ----------
@@ -58,20 +68,24 @@ def residual_figure(result, path):
     path : str or Path
     """
     mjd = result.mjd
-    res_us = result.residuals_s * 1e6
-    err_us = result.errors_s * 1e6
-    sig_us = result.signature_s * 1e6
+    sig = result.signature_s
+    offset = float(np.mean(sig)) if np.size(sig) else 0.0
+    grid = None
+    if result.signature_grid is not None:
+        grid = (result.signature_grid[0], result.signature_grid[1] - offset)
+    top_unit, top = _time_unit(np.concatenate([sig - offset, grid[1] if grid else []]))
+    res_unit, rs = _time_unit(np.concatenate([result.residuals_s, result.errors_s]))
     with style_context():
         fig, (ax1, ax2) = new_figure(1, 2, aspect=1.0, sharex=True)
-        if result.signature_grid is not None:
-            gm, gs = result.signature_grid
-            ax1.plot(gm, gs * 1e6, color=color(0), lw=1.0, label="fitted astrometric delay")
-        ax1.errorbar(mjd, res_us + sig_us, yerr=err_us, fmt="o", ms=2.5, color=color(1), elinewidth=0.7,
-                     label="residual + astrometric delay")
-        ax1.set_ylabel("delay (us)")
-        ax1.legend(loc="best")
-        ax2.errorbar(mjd, res_us, yerr=err_us, fmt="o", ms=2.5, color=color(2), elinewidth=0.7)
+        if grid is not None:
+            ax1.plot(grid[0], grid[1] * top, color=color(0), lw=1.0, label="fitted delay")
+        ax1.errorbar(mjd, (result.residuals_s + sig - offset) * top, yerr=result.errors_s * top, fmt="o", ms=2.5,
+                     color=color(1), elinewidth=0.7, label="residual + fitted delay")
+        ax1.set_ylabel(f"delay - mean ({top_unit})")
+        ax1.legend(loc="lower left", bbox_to_anchor=(0, 1.0), ncols=2, fontsize=6.5, borderaxespad=0.2)
+        ax2.errorbar(mjd, result.residuals_s * rs, yerr=result.errors_s * rs, fmt="o", ms=2.5, color=color(2),
+                     elinewidth=0.7)
         ax2.axhline(0, color="0.3", lw=0.6)
-        ax2.set_ylabel("post-fit residual (us)")
+        ax2.set_ylabel(f"post-fit residual ({res_unit})")
         ax2.set_xlabel("MJD (TDB)")
     return save_figure(fig, path)
