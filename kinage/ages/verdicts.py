@@ -113,6 +113,9 @@ def age_verdicts(values, unc, kin, cool, s):
     list of dict
     """
     tc_iv = unc.get("characteristic_age_yr")
+    if tc_iv and values.get("characteristic_age_yr") is not None:
+        # quote the nominal P/(2 Pdot) (the number in the JSON and summary); the spread stays Monte Carlo
+        tc_iv = dict(tc_iv, median=values["characteristic_age_yr"])
     out = []
     p0 = values.get("implied_initial_period_s")
     tau_d = values.get("decay_timescale_yr")
