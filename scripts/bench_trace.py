@@ -30,12 +30,13 @@ from kinage.orbits.integrate import _integrate_rows, _to_galpy, galpy_potential
 from kinage.orbits.trace import CHUNK_BYTES
 from kinage.params import get
 
-STEPS = 401
+STEPS = 401  # the default [trace] time_steps
 HEADER = ("name,ra,dec,distance,distance_error,pm_ra_cosdec,pm_ra_cosdec_error,pm_dec,pm_dec_error,"
           "radial_velocity,radial_velocity_error,radius,age")
 
 
-def _scenario(tmp, n, n_assoc, control_runs=0):
+def _scenario(tmp, n, n_assoc, control_runs=0, steps=None):
+    steps = STEPS if steps is None else steps
     rng = np.random.default_rng(0)
     rows = []
     for i in range(n_assoc):
@@ -46,7 +47,8 @@ def _scenario(tmp, n, n_assoc, control_runs=0):
     return scenario_from_dict({
         "star": {"ra": 120.0, "dec": -20.0, "parallax": 2.0, "parallax_error": 0.2, "pm_ra_cosdec": -40.0,
                  "pm_ra_cosdec_error": 1.0, "pm_dec": 25.0, "pm_dec_error": 1.0},
-        "trace": {"associations": str(p), "samples": n, "association_samples": 200, "max_age": 10.0, "time_steps": STEPS,
+        "trace": {"associations": str(p), "samples": n, "association_samples": 200, "max_age": 10.0,
+                  "time_steps": steps,
                   "control_runs": control_runs, "seed": 1}})
 
 
@@ -123,24 +125,28 @@ def main():
         return
     n = 10_000 if args.quick else 100_000
     n_mem = 100_000 if args.quick else 1_000_000
-    with tempfile.TemporaryDirectory() as tmp:
-        scn = _scenario(tmp, n, 30)
-        res = trace(scn, samples=200)  # warm-up (imports, potential set-up) and the draws for the bare run
-        res = trace(scn)
-        t_bare = bare_galpy(res, n)
-        t0 = time.perf_counter()
-        res = trace(scn)
-        t_trace = time.perf_counter() - t0
-    per_naive = naive_loop(res, 100 if args.quick else 300)
-    t_naive = per_naive * n
+    rows = []
+    for steps in (STEPS, 2001):
+        with tempfile.TemporaryDirectory() as tmp:
+            scn = _scenario(tmp, n, 30, steps=steps)
+            res = trace(scn, samples=200)  # warm-up (imports, potential set-up)
+            res = trace(scn)
+            t_bare = bare_galpy(res, n)
+            t0 = time.perf_counter()
+            res = trace(scn)
+            t_trace = time.perf_counter() - t0
+        t_naive = naive_loop(res, 100 if args.quick else 300) * n
+        rows.append((steps, t_trace, t_bare, t_naive))
     out = subprocess.run([sys.executable, __file__, "--memory-child", str(n_mem)], capture_output=True, text=True)
     peak = next((line.split()[1] for line in out.stdout.splitlines() if line.startswith("PEAK_MB")), "failed")
     print(f"tracing benchmark: {n} star draws x 30 associations (200 draws each), 10 Myr, "
-          f"{len(res.data['times'])} steps, {res.settings['potential']}, dop853_c, no control runs")
-    print(f"{'trace (s)':>12} {'bare galpy (s)':>15} {'trace/bare':>11} {'naive (s, scaled)':>18} "
-          f"{'naive/trace':>12} {'peak MB @' + str(n_mem):>18}")
-    print(f"{t_trace:12.1f} {t_bare:15.1f} {t_trace / t_bare:11.2f} {t_naive:18.0f} {t_naive / t_trace:12.1f} "
-          f"{peak:>18}")
+          f"{res.settings['potential']}, dop853_c, no control runs; naive loop timed on a subset and scaled")
+    print(f"{'grid steps':>10} {'trace (s)':>10} {'bare galpy (s)':>15} {'trace/bare':>11} {'naive (s)':>10} "
+          f"{'naive/trace':>12}")
+    for steps, t_trace, t_bare, t_naive in rows:
+        print(f"{steps:10d} {t_trace:10.1f} {t_bare:15.1f} {t_trace / t_bare:11.2f} {t_naive:10.0f} "
+              f"{t_naive / t_trace:12.1f}")
+    print(f"peak memory for {n_mem} draws (default grid, chunked): {peak} MB")
     print("targets: trace/bare <= ~1.3, naive/trace >= 20, peak < 2048 MB for 1,000,000 draws")
 
 
