@@ -49,7 +49,9 @@ def _common(p, *, json=True, out=True, seed=True):
     if out:
         g.add_argument("--out", metavar="DIR", type=Path, help="folder for tables and figures")
     if seed:
-        g.add_argument("--seed", type=int, metavar="N", help="random seed (overrides the scenario's)")
+        g.add_argument("--seed", type=int, metavar="N",
+                       help="random seed (overrides the scenario's; recorded in the results; verbs without "
+                            "randomness record it only)")
     g.add_argument("--quiet", action="store_true", help="no progress display, only errors")
     g.add_argument("--debug", action="store_true", help="show the full traceback of an unexpected error")
 
@@ -74,17 +76,18 @@ def build_parser():
 
     p = verb("forecast")
     p.add_argument("scenario", type=Path, help="scenario file with [star] and [campaign]")
-    _common(p, seed=False)
+    _common(p)
 
     p = verb("simulate")
     p.add_argument("scenario", type=Path, help="scenario file with [star] and [campaign]")
-    p.add_argument("--output", "-o", type=Path, required=True, metavar="TOAS", help="TOA table to write (ECSV)")
-    _common(p, out=False)
+    p.add_argument("--output", "-o", type=Path, metavar="TOAS",
+                   help="TOA table to write (ECSV; default: toas.ecsv in --out)")
+    _common(p)
 
     p = verb("fit")
     p.add_argument("toas", type=Path, help="TOA table (ECSV or CSV with columns mjd, error)")
     p.add_argument("--scenario", type=Path, required=True, help="scenario with the star's starting values")
-    _common(p, seed=False)
+    _common(p)
 
     p = verb("trace")
     p.add_argument("scenario", type=Path, help="scenario file with [star] and [trace]")

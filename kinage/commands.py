@@ -49,7 +49,7 @@ def cmd_forecast(args):
     _require_table(scenario, "campaign", "forecast")
     from .timing import forecast
 
-    return _finish(args, forecast(scenario, progress=_progress(args)), scenario, "forecast")
+    return _finish(args, forecast(scenario, progress=_progress(args)), scenario, "forecast", seed=args.seed)
 
 
 def cmd_simulate(args):
@@ -60,9 +60,14 @@ def cmd_simulate(args):
     from .timing import simulate_toas
 
     seed = scenario_seed(scenario, args.seed)
+    output = args.output
+    if output is None and args.out is not None:
+        output = Path(args.out) / "toas.ecsv"
+    if output is None:
+        raise InputError("--output", "say where to write the TOA table (--output TOAS or --out DIR)")
     result = simulate_toas(scenario, rng=seed)
-    result.write(args.output)
-    _say(args, f"wrote {len(result.table)} TOAs to {args.output}")
+    result.write(output)
+    _say(args, f"wrote {len(result.table)} TOAs to {output}")
     if args.json:
         write_json(args.json, result.to_dict(), provenance(scenario=scenario, seed=seed, command="simulate"))
         _say(args, f"wrote {args.json}")
@@ -75,7 +80,7 @@ def cmd_fit(args):
 
     toas = read_toas(args.toas)
     result = fit_toas(toas, scenario)
-    return _finish(args, result, scenario, "fit", extra_files=[args.toas])
+    return _finish(args, result, scenario, "fit", seed=args.seed, extra_files=[args.toas])
 
 
 def cmd_trace(args):

@@ -21,11 +21,11 @@ def test_each_verb_has_help_with_example(verb, capsys):
 
 def test_computing_verbs_share_options():
     parser = build_parser()
-    for verb in ("forecast", "fit", "trace", "ages", "run", "demo", "batch"):
+    for verb in ("forecast", "simulate", "fit", "trace", "ages", "run", "demo", "batch"):
         sub = parser._subparsers._group_actions[0].choices[verb]  # noqa: SLF001
         opts = {o for a in sub._actions for o in a.option_strings}  # noqa: SLF001
         assert {"--json", "--quiet"} <= opts, verb
-        assert "--out" in opts or verb == "simulate"
+        assert "--out" in opts and "--seed" in opts
 
 
 def test_bad_scenario_is_one_line_per_problem_exit_2(tmp_path, capsys):
