@@ -154,3 +154,23 @@ def test_star_table_validation(tmp_path):
     rows = read_star_rows(DEMO / "population.ecsv")
     assert len(rows) >= 20 and rows[0]["parallax"].endswith("mas")
     assert np.isfinite(float(rows[0]["ra"].split()[0]))
+
+
+def test_scheduler_address_uses_the_same_code_path(inputs, reference, tmp_path):
+    # a dask cluster started elsewhere, reached by address: same results as the local default
+    from dask.distributed import LocalCluster
+
+    with LocalCluster(n_workers=1, threads_per_worker=1, processes=True, dashboard_address=None) as cluster:
+        r = _batch(inputs, tmp_path / "remote", "--scheduler", cluster.scheduler_address, "--quiet")
+    assert r.returncode == 0, r.stderr
+    a, b = _results(reference), _results(tmp_path / "remote")
+    assert {n: _numbers(x) for n, x in a.items()} == {n: _numbers(x) for n, x in b.items()}
+
+
+def test_force_redoes_finished_stars(inputs, tmp_path):
+    out = tmp_path / "forced"
+    assert _batch(inputs, out, "--workers", "1", "--quiet").returncode == 0
+    first = {n: r["input_hash"] for n, r in _results(out).items()}
+    r = _batch(inputs, out, "--workers", "1", "--force")
+    assert r.returncode == 0 and f"0 already done, {N_STARS} to run" in r.stdout
+    assert {n: r["input_hash"] for n, r in _results(out).items()} == first
