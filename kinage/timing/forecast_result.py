@@ -137,6 +137,11 @@ class ForecastResult:
                      if self.reverse.get("exposure_needed_s") else "."))
         elif not ok:
             s += "."
+        photon = self.photon or {}
+        if photon.get("detectable") is False:
+            s = (f"Each visit detects the pulsation at only {photon['detection_sigma_per_visit']:.2g} sigma "
+                 f"(expected Z^2_{photon.get('harmonics', 2)} = {photon['expected_z2']:.3g}), so no TOA can be "
+                 "measured with this plan; the numbers that follow assume TOAs anyway. ") + s
         return s
 
     def sweep_table(self):
