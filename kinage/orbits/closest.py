@@ -21,7 +21,7 @@ import numpy as np
 
 from .frames import KMS_TO_PCMYR
 
-__all__ = ["coarse_columns", "CoarseTracks", "closest_approach", "straight_line_closest_approach"]
+__all__ = ["coarse_columns", "CoarseTracks", "CoarseStar", "closest_approach", "straight_line_closest_approach"]
 
 _KPC_MYR = KMS_TO_PCMYR / 1000.0  # kpc/Myr per km/s
 
@@ -81,7 +81,44 @@ class CoarseTracks:
         return pos, vel
 
 
-def closest_approach(star, star_coarse, assoc, pair, *, max_iter=4):
+class CoarseStar:
+    """A chunk of star draws on the coarse grid, laid out for the coarse search.
+
+    Star draw ``i`` of the chunk is paired with association draw
+    ``(offset + i) % m``.  Padding the chunk to whole periods of ``m`` makes the
+    pairing a reshape, (q, m, nc), so the squared separations
+    |S|^2 - 2 S.A + |A|^2 need no gathered copy of the association tracks.
+
+    Parameters
+    ----------
+    pos : ndarray, shape (n, nc, 3), kpc
+    offset : int
+        Association-draw index of the chunk's first star draw.
+    m : int
+        Draws per association.
+    """
+
+    def __init__(self, pos, offset, m):
+        n, nc, _ = pos.shape
+        self.n, self.m, self.offset = n, m, int(offset) % m
+        q = -(-(self.offset + n) // m)
+        ext = np.zeros((q * m, nc, 3), np.float32)
+        ext[self.offset:self.offset + n] = pos
+        ext = ext.reshape(q, m, nc, 3)
+        self.comp = [np.ascontiguousarray(ext[..., k]) for k in range(3)]
+        self.sq = self.comp[0] ** 2 + self.comp[1] ** 2 + self.comp[2] ** 2
+
+    def argmin(self, apos):
+        """Coarse-grid index of the minimum separation from paired draws ``apos`` (m, nc, 3); shape (n,)."""
+        a = np.asarray(apos, np.float32)
+        d2 = self.sq + (a[..., 0] ** 2 + a[..., 1] ** 2 + a[..., 2] ** 2)[None]
+        for k in range(3):
+            d2 -= 2.0 * self.comp[k] * a[None, :, :, k]
+        k_min = np.argmin(d2, axis=2).reshape(-1)
+        return k_min[self.offset:self.offset + self.n]
+
+
+def closest_approach(star, star_coarse, assoc, pair, *, max_iter=4, k_coarse=None):
     """Minimum separation and its time for each star draw and its paired association draw.
 
     Parameters
@@ -97,6 +134,9 @@ def closest_approach(star, star_coarse, assoc, pair, *, max_iter=4):
         Row of ``assoc`` paired with each star draw.
     max_iter : int
         Refinement iterations.
+    k_coarse : ndarray of int, optional
+        Coarse-grid index of each pair's minimum when already known (from
+        :meth:`CoarseStar.argmin`); ``star_coarse`` is then not used.
 
     Returns
     -------
@@ -108,28 +148,43 @@ def closest_approach(star, star_coarse, assoc, pair, *, max_iter=4):
     times = star.times
     nt = len(times)
     h = times[0] - times[1]
-    diff = star_coarse - (assoc.pos32 if star_coarse.dtype == np.float32 else assoc.pos)[pair]
-    k_coarse = np.argmin(np.einsum("ijk,ijk->ij", diff, diff), axis=1)
-    ctimes = assoc.times
-    k = np.rint(-ctimes[k_coarse] / h).astype(int)
-    rows = np.arange(len(pair))
+    if k_coarse is None:
+        diff = star_coarse - (assoc.pos32 if star_coarse.dtype == np.float32 else assoc.pos)[pair]
+        k_coarse = np.argmin(np.einsum("ijk,ijk->ij", diff, diff), axis=1)
+        del diff
+    n = len(pair)
+    k = np.rint(-assoc.times[k_coarse] / h).astype(int)
+    k_used = k.copy()
+    tstar = np.empty(n)
+    dr_all = np.empty((n, 3))
+    dv_all = np.empty((n, 3))
+    sp_all = np.empty((n, 3))
+    sv_all = np.empty((n, 3))
+    active = np.arange(n)
     for _ in range(max_iter):
-        sp, sv = star.state(rows, k)
-        ap, av = assoc.at(pair, times[k])
+        # only rows whose grid point moved in the last step need another solve
+        ka = k[active]
+        sp, sv = star.state(active, ka)
+        ap, av = assoc.at(pair[active], times[ka])
         dr = sp - ap
-        dv = sv * _KPC_MYR - av
+        sv = sv * _KPC_MYR
+        dv = sv - av
         vv = np.einsum("ij,ij->i", dv, dv)
         with np.errstate(invalid="ignore", divide="ignore"):
             dt = np.where(vv > 0, -np.einsum("ij,ij->i", dr, dv) / vv, 0.0)
-        tstar = np.clip(times[k] + dt, times[-1], 0.0)
-        k_used = k
-        k = np.clip(np.rint(-tstar / h).astype(int), 0, nt - 1)
-        if np.array_equal(k, k_used):
+        ts = np.clip(times[ka] + dt, times[-1], 0.0)
+        dr_all[active], dv_all[active], sp_all[active], sv_all[active] = dr, dv, sp, sv
+        tstar[active], k_used[active] = ts, ka
+        k_new = np.clip(np.rint(-ts / h).astype(int), 0, nt - 1)
+        moved = k_new != ka
+        k[active] = k_new
+        active = active[moved]
+        if active.size == 0:
             break
     step = (tstar - times[k_used])[:, None]
-    d = np.linalg.norm(dr + dv * step, axis=1) * 1000.0
+    d = np.linalg.norm(dr_all + dv_all * step, axis=1) * 1000.0
     edge = (tstar >= -1e-9 * h) | (tstar <= times[-1] + 1e-9 * h)
-    return {"dmin_pc": d, "tau_myr": -tstar, "edge": edge, "pos_kpc": sp + sv * _KPC_MYR * step}
+    return {"dmin_pc": d, "tau_myr": -tstar, "edge": edge, "pos_kpc": sp_all + sv_all * step}
 
 
 def straight_line_closest_approach(dr_pc, dv_pcmyr, max_age_myr):

@@ -73,7 +73,8 @@ def compare_common_origin(dmin, max_fit=2000, rng=0):
     ----------
     dmin : array_like, pc
     max_fit : int
-        At most this many values (a fixed-seed subsample) enter the (mu, sigma) fit.
+        At most this many values (a fixed-seed subsample) enter the KS test and
+        the (mu, sigma) fit; sigma for mu = 0 uses all values.
     rng : numpy.random.Generator | int | None
 
     Returns
@@ -90,9 +91,9 @@ def compare_common_origin(dmin, max_fit=2000, rng=0):
     if d.size < 5 or not np.any(d > 0):
         return out
     sigma = float(np.sqrt(np.mean(d**2) / 6.0))
-    ks = stats.kstest(d, lambda x: separation_cdf(x, sigma))
-    out.update(sigma_pc=sigma, ks_statistic=float(ks.statistic), ks_pvalue=float(ks.pvalue))
     sub = d if d.size <= max_fit else np.random.default_rng(rng).choice(d, max_fit, replace=False)
+    ks = stats.kstest(sub, lambda x: separation_cdf(x, sigma))
+    out.update(sigma_pc=sigma, ks_statistic=float(ks.statistic), ks_pvalue=float(ks.pvalue))
     sub = np.maximum(sub, 1e-9 * sigma)
     res = optimize.minimize(_nll_a3, np.log([sigma, max(np.median(sub) * 0.5, 1e-6)]), args=(sub,),
                             method="Nelder-Mead", options={"xatol": 1e-4, "fatol": 1e-6, "maxiter": 400})

@@ -23,7 +23,7 @@ from ..kinematics import distance_prior as make_distance_prior
 from ..kinematics import draw_star, rotated_proper_motions, velocity_prior as make_velocity_prior
 from ..params import get
 from ..progress import progress_bar
-from .closest import CoarseTracks, closest_approach, coarse_columns
+from .closest import CoarseStar, CoarseTracks, closest_approach, coarse_columns
 from .frames import solar_frame
 from .integrate import integrate_orbits, time_grid
 from .plane import plane_crossing_age
@@ -104,11 +104,12 @@ def _run_draws(draws, frame, times, cols, pset, assoc, adraws, rows_cap, method,
         coarse = bundle.positions(cols)
         if keep_tracks and tracks is None:
             tracks = coarse[:_N_TRACKS].copy()
-        coarse = coarse.astype(np.float32)
+        prep = CoarseStar(coarse, a, m)
+        del coarse
         idx = np.arange(a, b)
         for j in range(na):
             pair = j * m + idx % m
-            ca = closest_approach(bundle, coarse, assoc, pair)
+            ca = closest_approach(bundle, None, assoc, pair, k_coarse=prep.argmin(assoc.pos32[j * m:(j + 1) * m]))
             d[j, a:b] = ca["dmin_pc"]
             tau[j, a:b] = ca["tau_myr"]
             edge[j, a:b] = ca["edge"]
