@@ -18,7 +18,7 @@ def fmt(x, digits=3):
     if isinstance(x, float):
         if x == 0:
             return "0"
-        if 99.5 <= abs(x) < 1e6:
+        if 99.5 <= abs(x) < 1e5:
             return f"{x:.0f}"
         if 1e-3 <= abs(x) < 99.5:
             return f"{x:.{digits}g}"
