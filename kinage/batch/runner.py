@@ -10,6 +10,7 @@ remote scheduler.
 
 import contextlib
 import json
+import time
 import logging
 import os
 import shutil
@@ -186,18 +187,24 @@ def run_batch(args):
     say(f"{len(plan.done) + len(plan.todo)} stars: {len(plan.done)} already done, {len(plan.todo)} to run")
     previous = signal.signal(signal.SIGTERM, _sigterm_as_interrupt)
     records = list(plan.done)
+    timing = {"n_run": len(plan.todo), "workers": None if args.scheduler else args.workers}
+    t_start = time.perf_counter()
     try:
         if plan.todo:
             with _client(args.scheduler, args.workers) as client:
+                t_submit = time.perf_counter()
                 futures = [client.submit(run_one_star, **task, pure=False) for task in plan.todo]
                 for n, fut in enumerate(as_completed(futures), 1):
                     rec = fut.result()
                     records.append(rec)
                     say(f"[{n}/{len(futures)}] {rec['name']}: {rec['status']}"
                         + (f" ({rec['reason']})" if rec.get("reason") else ""))
+                # from submission to the last result: includes the workers' first imports
+                timing["tasks_s"] = time.perf_counter() - t_submit
     finally:
         signal.signal(signal.SIGTERM, previous)
-    files = write_summary(plan.out_dir, seed=plan.seed)
+    timing["cluster_and_tasks_s"] = time.perf_counter() - t_start
+    files = write_summary(plan.out_dir, seed=plan.seed, timing=timing)
     failed = [r for r in records if r.get("status") != "ok"]
     say(f"done: {len(records) - len(failed)} ok, {len(failed)} failed; summary in {files[0]}")
     for r in failed:

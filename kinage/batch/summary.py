@@ -106,7 +106,7 @@ def _population_figure(table, path):
         return save_figure(fig, path)
 
 
-def write_summary(out_dir, seed=None):
+def write_summary(out_dir, seed=None, timing=None):
     """Write ``summary.ecsv``, ``population.png`` and ``batch.json`` into ``out_dir``."""
     out_dir = Path(out_dir)
     records = collect_records(out_dir)
@@ -116,7 +116,7 @@ def write_summary(out_dir, seed=None):
     files = [out_dir / "summary.ecsv", _population_figure(table, out_dir / "population.png")]
     n_failed = int(np.sum(table["status"] != "ok")) if len(table) else 0
     files.append(write_json(out_dir / "batch.json",
-                            {"n_stars": len(table), "n_failed": n_failed,
+                            {"n_stars": len(table), "n_failed": n_failed, "timing": timing or {},
                              "failed": [{"name": r["name"], "reason": r.get("reason")} for r in records
                                         if r.get("status") != "ok"],
                              "stars": [{"name": r["name"], "status": r.get("status"), "seed": r.get("seed"),
