@@ -39,11 +39,18 @@ def atomic_path(path):
         yield Path(tmp)
         with open(tmp, "rb") as fh:
             os.fsync(fh.fileno())
+        os.chmod(tmp, 0o666 & ~_umask())  # mkstemp makes 0600; results get the usual permissions
         os.replace(tmp, path)
     except BaseException:
         with contextlib.suppress(FileNotFoundError):
             os.unlink(tmp)
         raise
+
+
+def _umask():
+    mask = os.umask(0)
+    os.umask(mask)
+    return mask
 
 
 def atomic_write(path, data):

@@ -45,3 +45,13 @@ def test_interval_of_normal_samples():
     i = interval(x)
     assert i["lo68"] == pytest.approx(-1, abs=0.02) and i["hi68"] == pytest.approx(1, abs=0.02)
     assert interval([])["median"] is None
+
+
+def test_written_files_get_ordinary_permissions(tmp_path):
+    # temporary files start private (0600); the result must follow the umask like any new file
+    import os
+
+    p = write_json(tmp_path / "r.json", {"a": 1})
+    mask = os.umask(0)
+    os.umask(mask)
+    assert (p.stat().st_mode & 0o777) == (0o666 & ~mask)
