@@ -18,7 +18,7 @@ from .astrometry import AstrometricSolution
 from .errors import ConvergenceError, InputError, StageError
 from .io.results import provenance, write_json
 
-__all__ = ["plan_stages", "run_pipeline", "RunResult", "DEFAULT_SEED", "stage_seed", "solution_for_trace",
+__all__ = ["plan_stages", "preflight", "run_pipeline", "RunResult", "DEFAULT_SEED", "stage_seed", "solution_for_trace",
            "kinematic_age_input"]
 
 DEFAULT_SEED = 1
@@ -53,6 +53,33 @@ def plan_stages(scenario):
     if scenario.ages is not None:
         stages.append("ages")
     return stages
+
+
+def preflight(scenario):
+    """Read and validate every table the planned stages need, before any stage runs.
+
+    Returns
+    -------
+    dict
+        ``toas`` (astropy Table) and ``associations`` (AssociationTable) when the
+        scenario names them.
+
+    Raises
+    ------
+    InputError
+        Naming the file, row and column of the first problem.
+    """
+    loaded = {}
+    stages = plan_stages(scenario)
+    if "fit" in stages:
+        from .timing import read_toas
+
+        loaded["toas"] = read_toas(scenario.campaign.toas)
+    if "trace" in stages:
+        from .associations import read_associations
+
+        loaded["associations"] = read_associations(scenario.trace.associations)
+    return loaded
 
 
 def solution_for_trace(scenario, fit_result=None):
@@ -145,8 +172,12 @@ class RunResult:
         return write_json(path, self.to_dict(), prov)
 
 
-def run_stage(name, scenario, done, *, seed, samples=None, progress=False):
-    """Run one stage given the results of earlier ones (``done``: name -> result)."""
+def run_stage(name, scenario, done, *, seed, samples=None, progress=False, inputs=None):
+    """Run one stage given the results of earlier ones (``done``: name -> result).
+
+    ``inputs`` holds tables already read by :func:`preflight`.
+    """
+    inputs = inputs or {}
     if name == "forecast":
         from .timing import forecast
 
@@ -154,12 +185,13 @@ def run_stage(name, scenario, done, *, seed, samples=None, progress=False):
     if name == "fit":
         from .timing import fit_toas
 
-        return fit_toas(scenario.campaign.toas, scenario)
+        return fit_toas(inputs.get("toas", scenario.campaign.toas), scenario)
     if name == "trace":
         from .orbits import trace
 
         sol = solution_for_trace(scenario, done.get("fit"))
-        return trace(scenario, solution=sol, rng=stage_seed(seed, "trace"), samples=samples, progress=progress)
+        return trace(scenario, solution=sol, rng=stage_seed(seed, "trace"), samples=samples, progress=progress,
+                     associations=inputs.get("associations"))
     if name == "ages":
         from .ages import compare_ages
 
@@ -207,6 +239,7 @@ def run_pipeline(scenario, out_dir, *, seed=None, samples=None, progress=False, 
         and on disk.
     """
     log = log or (lambda line: None)
+    inputs = preflight(scenario)  # a bad table stops the run here, before any stage or output
     out_dir = Path(out_dir)
     out_dir.mkdir(parents=True, exist_ok=True)
     seed = scenario_seed(scenario, seed)
@@ -217,7 +250,8 @@ def run_pipeline(scenario, out_dir, *, seed=None, samples=None, progress=False, 
         try:
             with warnings.catch_warnings():
                 warnings.simplefilter("ignore", category=RuntimeWarning)
-                result = run_stage(name, scenario, run.stages, seed=seed, samples=samples, progress=progress)
+                result = run_stage(name, scenario, run.stages, seed=seed, samples=samples, progress=progress,
+                                   inputs=inputs)
         except (InputError, ConvergenceError, StageError, Exception) as exc:  # noqa: BLE001
             run.failed[name] = f"{type(exc).__name__}: {exc}"
             log(f"stage {name} failed: {exc}")

@@ -13,8 +13,8 @@ radial_velocity            km/s    mean heliocentric radial velocity
 radius                     pc      size used for the encounter criterion
 age                        Myr     age of the association
 <col>_error                as col  1-sigma errors of distance, pm_ra_cosdec,
-                                   pm_dec, radial_velocity (required) and of
-                                   ra, dec (optional, deg), age (optional)
+                                   pm_dec, radial_velocity, ra, dec (deg) and
+                                   age; optional, a missing column means 0
 =========================  ======  ==========================================
 
 Every problem names the file, the row (1-based, data rows) and the column.
@@ -38,9 +38,9 @@ COLUMNS = {
     "distance_error": "pc", "pm_ra_cosdec_error": "mas/yr", "pm_dec_error": "mas/yr",
     "radial_velocity_error": "km/s", "ra_error": "deg", "dec_error": "deg", "age_error": "Myr",
 }
-REQUIRED = ("name", "ra", "dec", "distance", "pm_ra_cosdec", "pm_dec", "radial_velocity", "distance_error",
-            "pm_ra_cosdec_error", "pm_dec_error", "radial_velocity_error", "radius", "age")
-OPTIONAL = ("ra_error", "dec_error", "age_error")
+REQUIRED = ("name", "ra", "dec", "distance", "pm_ra_cosdec", "pm_dec", "radial_velocity", "radius", "age")
+OPTIONAL = ("distance_error", "pm_ra_cosdec_error", "pm_dec_error", "radial_velocity_error", "ra_error", "dec_error",
+            "age_error")
 _POSITIVE = ("distance", "radius", "age")
 
 

@@ -128,3 +128,19 @@ def test_stage_plan_follows_tables(tmp_path):
     camp = {"start": "2027-01-01", "baseline": 3, "visits_per_year": 4, "toa_error": "5 ms"}
     assert plan_stages(scenario_from_dict({"star": star, "campaign": camp})) == ["forecast"]
     assert plan_stages(scenario_from_dict({"star": star, "ages": {}})) == ["ages"]
+
+
+def test_bad_association_table_stops_before_any_stage(tmp_path, capsys):
+    scn = reduced_demo(tmp_path / "badtable")
+    table = (tmp_path / "badtable" / "associations.ecsv")
+    lines = table.read_text().splitlines()
+    # make the radius of the last association negative
+    last = lines[-1].split(" ")
+    last[-2] = "-5.0"
+    lines[-1] = " ".join(last)
+    table.write_text("\n".join(lines) + "\n")
+    out = tmp_path / "out"
+    assert main(["run", str(scn), "--out", str(out), "--quiet"]) == 2
+    err = capsys.readouterr().err
+    assert "associations.ecsv row" in err and "column 'radius'" in err
+    assert not out.exists()

@@ -68,3 +68,14 @@ def test_association_draws_scatter_as_given(tmp_path):
     assert np.std(dr.pm_ra_cosdec[rows]) == pytest.approx(0.5, rel=0.05)
     assert np.mean(dr.distance_pc[rows]) == pytest.approx(600, rel=0.01)
     assert dr.radius_pc.tolist() == [25, 30]
+
+
+def test_error_columns_are_optional(tmp_path):
+    # an association table without uncertainty columns: the centres are then exact (errors 0)
+    from kinage.associations import read_associations
+
+    p = tmp_path / "groups.csv"
+    p.write_text("name,ra,dec,distance,pm_ra_cosdec,pm_dec,radial_velocity,radius,age\n"
+                 "Test Group A,150.0,-40.0,300,-10,5,10,20,10\n")
+    t = read_associations(p)
+    assert t[0].distance_error == 0 and t[0].pm_dec_error == 0 and t[0].radius == 20
