@@ -99,7 +99,7 @@ h1{font-size:1.5rem}h2{font-size:1.2rem;border-bottom:1px solid #ddd;padding-bot
 .summary{background:#f4f7fb;border-left:4px solid #0072B2;padding:.6rem 1rem}
 .summary dt{font-weight:600;margin-top:.4rem}.summary dd{margin-left:0}
 table{border-collapse:collapse;font-size:.9rem;margin:.5rem 0}td,th{border:1px solid #ddd;padding:.2rem .5rem;
-text-align:left;vertical-align:top}figure{margin:1rem 0}img{max-width:min(100%,40rem);height:auto}
+text-align:left;vertical-align:top}figure{margin:1rem 0}img{max-width:100%;height:auto}
 .failed{background:#fff3f0;border-left:4px solid #D55E00;padding:.5rem 1rem}.meta{color:#555;font-size:.85rem}
 """
 
@@ -123,8 +123,11 @@ def render_html(run):
             body.append("<table><tr><th>quantity</th><th>value</th></tr>"
                         + "".join(f"<tr><td>{e(k)}</td><td>{e(v)}</td></tr>" for k, v in rows) + "</table>")
         for fig in _figures(run, name):
-            data = base64.b64encode(Path(fig).read_bytes()).decode("ascii")
-            body.append(f"<figure><img alt='{e(fig.stem)}' src='data:image/png;base64,{data}'>"
+            raw = Path(fig).read_bytes()
+            data = base64.b64encode(raw).decode("ascii")
+            # same scale for every figure: 7.5rem per inch of the figure's size at 200 dpi
+            width = f" style='width:{_png_width_px(raw) / 200 * 7.5:.1f}rem'" if _png_width_px(raw) else ""
+            body.append(f"<figure><img alt='{e(fig.stem)}'{width} src='data:image/png;base64,{data}'>"
                         f"<figcaption>{e(fig.stem.replace('_', ' '))}</figcaption></figure>")
         tables = _tables(run, name)
         if tables:
@@ -144,6 +147,13 @@ def render_html(run):
     return ("<!DOCTYPE html>\n<html lang='en'><head><meta charset='utf-8'>"
             f"<meta name='viewport' content='width=device-width, initial-scale=1'><title>kinage: {e(str(title))}</title>"
             f"<style>{_CSS}</style></head><body>\n" + "\n".join(body) + "\n</body></html>\n")
+
+
+def _png_width_px(raw):
+    """Width in pixels from a PNG's IHDR chunk (0 if not a PNG)."""
+    if raw[:8] != b"\x89PNG\r\n\x1a\n" or len(raw) < 24:
+        return 0
+    return int.from_bytes(raw[16:20], "big")
 
 
 def write_reports(run, out_dir):
