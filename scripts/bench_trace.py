@@ -52,17 +52,21 @@ def _scenario(tmp, n, n_assoc, control_runs=0, steps=None):
                   "control_runs": control_runs, "seed": 1}})
 
 
-def bare_galpy(result, n):
-    """galpy's integration alone of the same star + association orbits, same chunks."""
+def _galpy_setup(result):
+    """Frame, galpy potential, ro, vo, times (Myr) and times in galpy's natural units of a trace result."""
     import_galpy()
     from galpy.util import conversion
 
-    frame = result.data["frame"]
     pset = get("potential", result.settings["potential"])
-    pot = galpy_potential(pset)
     ro, vo = pset.values["ro_kpc"], pset.values["vo_kms"]
     times = result.data["times"]
-    t_nat = times / (1000.0 * conversion.time_in_Gyr(vo, ro))
+    return (result.data["frame"], galpy_potential(pset), ro, vo, times,
+            times / (1000.0 * conversion.time_in_Gyr(vo, ro)))
+
+
+def bare_galpy(result, n):
+    """galpy's integration alone of the same star + association orbits, same chunks."""
+    frame, pot, ro, vo, times, t_nat = _galpy_setup(result)
     pos, vel = result.data["draws"].galactocentric(frame)
     apos, avel = result.data["adraws"].galactocentric(frame)
     cap = int(CHUNK_BYTES // (len(times) * 48))
@@ -76,17 +80,9 @@ def bare_galpy(result, n):
 
 def naive_loop(result, n_sub):
     """One galpy Orbit per draw, then a numpy closest approach for every association; seconds per draw."""
-    import_galpy()
+    frame, pot, ro, vo, times, t_nat = _galpy_setup(result)
     from galpy.orbit import Orbit
 
-    frame = result.data["frame"]
-    pset = get("potential", result.settings["potential"])
-    pot = galpy_potential(pset)
-    ro, vo = pset.values["ro_kpc"], pset.values["vo_kms"]
-    times = result.data["times"]
-    from galpy.util import conversion
-
-    t_nat = times / (1000.0 * conversion.time_in_Gyr(vo, ro))
     d = result.data["draws"]
     assoc = result.data["assoc"]
     cols_full = np.searchsorted(-times, -assoc.times)
