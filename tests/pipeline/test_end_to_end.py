@@ -144,3 +144,16 @@ def test_bad_association_table_stops_before_any_stage(tmp_path, capsys):
     err = capsys.readouterr().err
     assert "associations.ecsv row" in err and "column 'radius'" in err
     assert not out.exists()
+
+
+def test_ages_verb_reads_kinematic_age_from_trace_json(tmp_path):
+    # the ages verb rebuilds the kinematic age from a trace JSON result (its favoured association's 68% interval)
+    scn = reduced_demo(tmp_path / "two_step", samples=300)
+    assert main(["trace", str(scn), "--json", str(tmp_path / "trace.json"), "--quiet"]) == 0
+    assert main(["ages", str(scn), "--trace-json", str(tmp_path / "trace.json"), "--json", str(tmp_path / "ages.json"),
+                 "--quiet"]) == 0
+    t = json.loads((tmp_path / "trace.json").read_text())
+    a = json.loads((tmp_path / "ages.json").read_text())
+    best = next(x for x in t["associations"] if x["name"] == t["favoured"])
+    assert abs(a["kinematic_age_yr"]["median"] - best["age_yr"]["median"]) / best["age_yr"]["median"] < 0.1
+    assert t["favoured"] in a["kinematic_age_source"]
