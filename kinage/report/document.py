@@ -15,7 +15,7 @@ from .._version import __version__
 from ..io.results import atomic_write, to_jsonable
 from .numbers import stage_rows
 
-__all__ = ["write_reports", "render_html", "render_markdown", "QUESTIONS"]
+__all__ = ["write_reports", "render_html", "render_markdown", "QUESTIONS", "CAPTIONS"]
 
 #: the three questions and the stages that answer them
 QUESTIONS = (
@@ -24,6 +24,26 @@ QUESTIONS = (
     ("Do the ages agree?", ("ages",), "ages"),
 )
 _TITLES = {"forecast": "Timing forecast", "fit": "Timing fit", "trace": "Birthplace tracing", "ages": "Ages"}
+#: captions of the stages' figures (file stem -> text); unknown figures are captioned by their file name
+CAPTIONS = {
+    "forecast_baseline": "Forecast proper-motion and parallax errors (top) and proper-motion significance (bottom) "
+                         "against campaign baseline; the dotted line marks this plan.",
+    "fit_residuals": "Timing fit: residuals with the fitted astrometric delay added back, and that delay (top); "
+                     "post-fit residuals (bottom).",
+    "trace_birth_xyz": "Positions of the star's draws and of the favoured association's draws at the birth time, "
+                       "Galactic x-y and x-z, with the association's radius criterion.",
+    "trace_dmin_tau": "Closest approach d_min against its time tau for every draw; encounters lie below the radius "
+                      "criterion and before the association's age plus tolerance.",
+    "trace_sky": "Past tracks of star and association draws on the sky (Galactic coordinates).",
+    "trace_tau_hist": "Times of closest approach: all draws and encounters.",
+    "ages_ladder": "Age ladder: each age with its 68% interval on one logarithmic axis.",
+    "ages_cooling_curves": "Cooling curves for the envelope compositions and masses, with the star's temperature "
+                           "and kinematic age marked.",
+}
+
+
+def _caption(fig):
+    return CAPTIONS.get(Path(fig).stem, Path(fig).stem.replace("_", " "))
 
 
 def _answers(run):
@@ -73,7 +93,8 @@ def render_markdown(run):
         if rows:
             lines += ["| quantity | value |", "|---|---|"] + [f"| {k} | {v} |" for k, v in rows] + [""]
         for fig in _figures(run, name):
-            lines += [f"![{fig.stem}]({Path(fig).relative_to(run.out_dir).as_posix()})", ""]
+            lines += [f"![{_caption(fig)}]({Path(fig).relative_to(run.out_dir).as_posix()})", "",
+                      f"*{_caption(fig)}*", ""]
         for t in _tables(run, name):
             lines += [f"Table: `{Path(t).relative_to(run.out_dir).as_posix()}`", ""]
         assumptions = getattr(result, "assumptions", []) or []
@@ -127,8 +148,8 @@ def render_html(run):
             data = base64.b64encode(raw).decode("ascii")
             # same scale for every figure: 7.5rem per inch of the figure's size at 200 dpi
             width = f" style='width:{_png_width_px(raw) / 200 * 7.5:.1f}rem'" if _png_width_px(raw) else ""
-            body.append(f"<figure><img alt='{e(fig.stem)}'{width} src='data:image/png;base64,{data}'>"
-                        f"<figcaption>{e(fig.stem.replace('_', ' '))}</figcaption></figure>")
+            body.append(f"<figure><img alt='{e(_caption(fig))}'{width} src='data:image/png;base64,{data}'>"
+                        f"<figcaption>{e(_caption(fig))}</figcaption></figure>")
         tables = _tables(run, name)
         if tables:
             body.append("<p>Tables: " + ", ".join(f"<code>{e(Path(t).relative_to(run.out_dir).as_posix())}</code>"
