@@ -130,7 +130,7 @@ def _parse_times(col, scale, where):
         raise InputError(f"{where} row {bad[0] + 1}, column 'mjd'", "must be finite")
     t = t.tdb
     t.format = "mjd"
-    t.out_subfmt = "str"
+    t.out_subfmt = "*"  # full precision stays in the two-part Time; .mjd gives floats (write_toas writes text)
     return t
 
 
