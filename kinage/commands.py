@@ -128,13 +128,10 @@ def _ages_from_trace_json(path):
     best = next((a for a in assocs if a.get("name") == fav), None)
     if best is None:
         raise InputError("--trace-json", f"{path} names no favoured association, so it gives no kinematic age")
-    samples = best.get("age_samples_yr")
-    if samples:
-        return np.asarray(samples, float), f"trace JSON: association {fav}"
     age = best.get("age_yr") or {}
     if age.get("median") is None:
         raise InputError("--trace-json", f"{path}: association {fav} has no age")
-    # rebuild a two-sided normal from the 68% interval when the samples were not stored
+    # the JSON keeps the 68% interval, not the samples: rebuild a two-sided normal from it
     rng = np.random.default_rng(0)
     med, lo, hi = age["median"], age["lo68"], age["hi68"]
     z = rng.normal(size=4000)

@@ -8,7 +8,6 @@ Results travel between stages as objects; ``results.json`` is rewritten
 stages' numbers on disk and names the stage that failed.
 """
 
-import warnings
 from dataclasses import dataclass, field
 from pathlib import Path
 
@@ -112,8 +111,7 @@ def kinematic_age_input(scenario, trace_result=None):
     if trace_result is not None:
         samples = np.asarray(trace_result.kinematic_age_samples(), float)
         if samples.size:
-            best = trace_result.to_dict().get("favoured")
-            return samples, f"trace: encounters with association {best}"
+            return samples, f"trace: encounters with association {trace_result.favoured}"
     if scenario.ages is not None and scenario.ages.get("kinematic_age") is not None:
         return None, "scenario: [ages] kinematic_age"
     if trace_result is not None and hasattr(trace_result, "plane_crossing_age_samples"):
@@ -248,10 +246,8 @@ def run_pipeline(scenario, out_dir, *, seed=None, samples=None, progress=False, 
     for name in run.planned:
         log(f"stage {name} ...")
         try:
-            with warnings.catch_warnings():
-                warnings.simplefilter("ignore", category=RuntimeWarning)
-                result = run_stage(name, scenario, run.stages, seed=seed, samples=samples, progress=progress,
-                                   inputs=inputs)
+            result = run_stage(name, scenario, run.stages, seed=seed, samples=samples, progress=progress,
+                               inputs=inputs)
         except (InputError, ConvergenceError, StageError, Exception) as exc:  # noqa: BLE001
             run.failed[name] = f"{type(exc).__name__}: {exc}"
             log(f"stage {name} failed: {exc}")

@@ -149,6 +149,21 @@ def _series_integral(s, a):
     return out
 
 
+def _bisect(root_above, lo, hi, iterations, tol=1e-10):
+    """Vectorised bisection: ``root_above(x)`` is True where the root lies above x.
+
+    Returns the midpoint of the final bracket (same shape as ``lo``).
+    """
+    for _ in range(iterations):
+        mid = 0.5 * (lo + hi)
+        up = root_above(mid)
+        lo = np.where(up, mid, lo)
+        hi = np.where(up, hi, mid)
+        if np.all(hi - lo < tol):
+            break
+    return 0.5 * (lo + hi)
+
+
 def ohm_hall_timescale(t_yr, tau_c_yr, *, ohmic_timescale_yr=None, hall_timescale_yr=None, iterations=200):
     """Ohm + Hall timescale reconciling a true age with a characteristic age.
 
@@ -191,15 +206,8 @@ def ohm_hall_timescale(t_yr, tau_c_yr, *, ohmic_timescale_yr=None, hall_timescal
         f_lo = apparent(lo) - tc  # short timescale: strong decay, large tau_c
         f_hi = apparent(hi) - tc
         ok = ~np.isnan(f_lo) & np.isfinite(f_hi) & (f_lo > 0) & (f_hi < 0)
-        for _ in range(iterations):
-            mid = 0.5 * (lo + hi)
-            f_mid = apparent(mid) - tc
-            go_up = f_mid > 0
-            lo = np.where(go_up, mid, lo)
-            hi = np.where(go_up, hi, mid)
-            if np.all(hi - lo < 1e-10):
-                break
-        out = np.where(ok, np.exp(0.5 * (lo + hi)), np.nan)
+        root = _bisect(lambda x: apparent(x) - tc > 0, lo, hi, iterations)
+        out = np.where(ok, np.exp(root), np.nan)
     return out if out.shape else float(out)
 
 
@@ -224,12 +232,7 @@ def ohm_hall_true_age(tau_c_yr, ohmic_timescale_yr, hall_timescale_yr, iteration
         lo = np.broadcast_to(np.log(tc) + np.log(1e-6), shape).astype(float)
         hi = np.broadcast_to(np.log(tc), shape).astype(float)
         ok = np.isfinite(lo) & (tc > 0)
-        for _ in range(iterations):
-            mid = 0.5 * (lo + hi)
-            too_old = ohm_hall_characteristic_age(np.exp(mid), ohmic_timescale_yr, hall_timescale_yr) > tc
-            hi = np.where(too_old, mid, hi)
-            lo = np.where(too_old, lo, mid)
-            if np.all(hi - lo < 1e-10):
-                break
-        out = np.where(ok, np.exp(0.5 * (lo + hi)), np.nan)
+        root = _bisect(lambda x: ohm_hall_characteristic_age(np.exp(x), ohmic_timescale_yr, hall_timescale_yr) <= tc,
+                       lo, hi, iterations)
+        out = np.where(ok, np.exp(root), np.nan)
     return out if out.shape else float(out)
