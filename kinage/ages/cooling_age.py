@@ -12,6 +12,7 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
+from .._units import quantity_edge
 from ..errors import InputError, ModelRangeError
 from ..io.results import interval
 from .cooling import CoolingModel, cooling_curve
@@ -66,6 +67,8 @@ class CoolingAgeResult:
         }
 
 
+@quantity_edge(None, temperature_K="K", temperature_error_K="K", luminosity_erg_s="erg/s",
+               luminosity_error_erg_s="erg/s", masses="solMass", radius_km="km")
 def cooling_age(temperature_K=None, temperature_error_K=None, *, luminosity_erg_s=None, luminosity_error_erg_s=None,
                 masses=(1.2, 1.4, 1.6), radius_km=12.0, envelopes=("iron", "accreted"), model="minimal",
                 samples=4000, rng=None, heating=None, where=None):
@@ -77,10 +80,10 @@ def cooling_age(temperature_K=None, temperature_error_K=None, *, luminosity_erg_
         Redshifted effective temperature seen at infinity.
     temperature_error_K : float or Quantity, K, optional
         1-sigma error (Gaussian draws, truncated at zero); ``None``: exact.
-    luminosity_erg_s, luminosity_error_erg_s : float, erg/s, optional
+    luminosity_erg_s, luminosity_error_erg_s : float or Quantity, erg/s, optional
         Redshifted bolometric luminosity instead of a temperature.
-    masses : sequence of float, solar masses
-    radius_km : float, km
+    masses : sequence of float or Quantity, solar masses
+    radius_km : float or Quantity, km
         One radius for all masses.
     envelopes : sequence of str
         Envelope relations (:mod:`.envelope`).

@@ -28,6 +28,7 @@ Ts >= 5e4 K (the 1997 calculations cover Teff > 5e4 K, paper abstract) and
 
 import numpy as np
 
+from .._units import quantity_edge
 from ..errors import InputError, ModelRangeError
 
 __all__ = [
@@ -52,11 +53,13 @@ _C_CGS = 2.99792458e10
 _MSUN_G = 1.988409870698051e33
 
 
+@quantity_edge("K", tb_k="K", g14="1e14 cm / s2")
 def gpe83(tb_k, g14):
     """Gudmundsson, Pethick & Epstein (1983) relation; Ts in K for Tb in K."""
     return 0.87e6 * np.asarray(g14, float) ** 0.25 * (np.asarray(tb_k, float) / 1e8) ** 0.55
 
 
+@quantity_edge("K", tb_k="K", g14="1e14 cm / s2")
 def pcy97_iron(tb_k, g14):
     """Potekhin, Chabrier & Yakovlev (1997) iron-envelope fit; Ts in K (coefficients from memory)."""
     tb9 = np.asarray(tb_k, float) / 1e9
@@ -65,6 +68,7 @@ def pcy97_iron(tb_k, g14):
     return 1e6 * (g14 * ((7.0 * zeta) ** 2.25 + (zeta / 3.0) ** 1.25)) ** 0.25
 
 
+@quantity_edge("K", tb_k="K", g14="1e14 cm / s2")
 def pcy97_accreted(tb_k, g14):
     """Potekhin, Chabrier & Yakovlev (1997) fully accreted envelope fit; Ts in K (coefficients from memory)."""
     tb9 = np.asarray(tb_k, float) / 1e9
@@ -75,6 +79,7 @@ def pcy97_accreted(tb_k, g14):
 ENVELOPES = {"iron": pcy97_iron, "accreted": pcy97_accreted, "gpe83": gpe83}
 
 
+@quantity_edge("K", tb_k="K", g14="1e14 cm / s2")
 def surface_temperature(tb_k, g14, envelope="iron", check=True, where="envelope"):
     """Local effective surface temperature from the envelope-base temperature.
 
@@ -140,6 +145,7 @@ class StarStructure:
                 f"sqrt(1-rg/R)={self.redshift_factor:.4f}, g14={self.g14:.4f})")
 
 
+@quantity_edge(None, mass_msun="solMass", radius_km="km")
 def star_structure(mass_msun, radius_km, where_mass="[ages] mass", where_radius="[ages] radius"):
     """Check a mass-radius pair and compute redshift and surface gravity.
 

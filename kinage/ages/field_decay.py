@@ -17,11 +17,14 @@ Both are inverted for the timescale that makes the characteristic age of a
 star of true (e.g. kinematic) age t equal to the measured one.  A solution
 exists only when tau_c > t (exponential) or tau_c exceeds the pure-Ohmic
 value (Ohm + Hall): decay makes a star look older than it is, never younger.
-All functions are vectorised over numpy arrays; times in yr.
+All functions are vectorised over numpy arrays; times in yr (or astropy Quantities
+of time, giving Quantity results in yr).
 """
 
 import numpy as np
 from scipy.special import lambertw
+
+from .._units import quantity_edge
 
 __all__ = [
     "exponential_field",
@@ -34,11 +37,13 @@ __all__ = [
 ]
 
 
+@quantity_edge(None, t_yr="yr", decay_timescale_yr="yr")
 def exponential_field(t_yr, decay_timescale_yr, b0=1.0):
     """B(t) = B0 exp(-t / tau_d); units of ``b0``."""
     return b0 * np.exp(-np.asarray(t_yr, float) / np.asarray(decay_timescale_yr, float))
 
 
+@quantity_edge("yr", t_yr="yr", decay_timescale_yr="yr")
 def exponential_characteristic_age(t_yr, decay_timescale_yr):
     """Characteristic age shown by a star of true age t with exponential decay.
 
@@ -61,6 +66,7 @@ def exponential_characteristic_age(t_yr, decay_timescale_yr):
         return np.where(np.isinf(tau), t, 0.5 * tau * np.expm1(x))
 
 
+@quantity_edge("yr", t_yr="yr", tau_c_yr="yr")
 def exponential_decay_timescale(t_yr, tau_c_yr):
     """Exponential decay timescale reconciling a true age with a characteristic age.
 
@@ -94,6 +100,7 @@ def exponential_decay_timescale(t_yr, tau_c_yr):
     return tau
 
 
+@quantity_edge(None, t_yr="yr", ohmic_timescale_yr="yr", hall_timescale_yr="yr")
 def ohm_hall_field(t_yr, ohmic_timescale_yr, hall_timescale_yr, b0=1.0):
     """Ohm + Hall field B(t) of Aguilera, Pons & Miralles (2008, eq. 1); units of ``b0``."""
     t = np.asarray(t_yr, float)
@@ -103,6 +110,7 @@ def ohm_hall_field(t_yr, ohmic_timescale_yr, hall_timescale_yr, b0=1.0):
     return b0 * s / (1.0 + (to / th) * (1.0 - s))
 
 
+@quantity_edge("yr", t_yr="yr", ohmic_timescale_yr="yr", hall_timescale_yr="yr")
 def ohm_hall_characteristic_age(t_yr, ohmic_timescale_yr, hall_timescale_yr):
     """Characteristic age shown by a star of true age t under Ohm + Hall decay.
 
@@ -164,6 +172,7 @@ def _bisect(root_above, lo, hi, iterations, tol=1e-10):
     return 0.5 * (lo + hi)
 
 
+@quantity_edge("yr", t_yr="yr", tau_c_yr="yr", ohmic_timescale_yr="yr", hall_timescale_yr="yr")
 def ohm_hall_timescale(t_yr, tau_c_yr, *, ohmic_timescale_yr=None, hall_timescale_yr=None, iterations=200):
     """Ohm + Hall timescale reconciling a true age with a characteristic age.
 
@@ -211,6 +220,7 @@ def ohm_hall_timescale(t_yr, tau_c_yr, *, ohmic_timescale_yr=None, hall_timescal
     return out if out.shape else float(out)
 
 
+@quantity_edge("yr", tau_c_yr="yr", ohmic_timescale_yr="yr", hall_timescale_yr="yr")
 def ohm_hall_true_age(tau_c_yr, ohmic_timescale_yr, hall_timescale_yr, iterations=200):
     """True age at which Ohm + Hall decay makes a star show characteristic age tau_c.
 

@@ -1,7 +1,9 @@
 """Spin-down ages and the quantities derived from P and Pdot.
 
 All functions take plain floats or numpy arrays in fixed units (period in s,
-period derivative dimensionless s/s, ages in yr) and are vectorised; they
+period derivative dimensionless s/s, ages in yr), or astropy Quantities of any
+compatible unit (the result is then a Quantity in the documented unit), and are
+vectorised; they
 return ``nan`` where a value does not exist (e.g. a spinning-up star), so
 that Monte Carlo draws can be pushed through them in one call.
 
@@ -13,6 +15,8 @@ Shklovskii 1970, Soviet Astron. 13, 562 (apparent Pdot from transverse motion).
 """
 
 import numpy as np
+
+from .._units import quantity_edge
 
 __all__ = [
     "SECONDS_PER_YEAR",
@@ -39,6 +43,7 @@ def _pos(x):
     return np.where(x > 0, x, np.nan)
 
 
+@quantity_edge("yr", period_s="s", pdot="")
 def characteristic_age(period_s, pdot):
     """Characteristic age tau_c = P / (2 Pdot).
 
@@ -60,6 +65,7 @@ def characteristic_age(period_s, pdot):
     return np.asarray(period_s, float) / (2.0 * _pos(pdot)) / SECONDS_PER_YEAR
 
 
+@quantity_edge("G", period_s="s", pdot="")
 def dipole_field(period_s, pdot):
     """Surface dipole field estimate B = 3.2e19 sqrt(P Pdot) G.
 
@@ -82,6 +88,7 @@ def dipole_field(period_s, pdot):
     return 3.2e19 * np.sqrt(np.asarray(period_s, float) * _pos(pdot))
 
 
+@quantity_edge("erg/s", period_s="s", pdot="", moment_of_inertia="g cm2")
 def spin_down_luminosity(period_s, pdot, moment_of_inertia=1e45):
     """Spin-down luminosity Edot = 4 pi^2 I Pdot / P^3.
 
@@ -100,6 +107,7 @@ def spin_down_luminosity(period_s, pdot, moment_of_inertia=1e45):
     return 4.0 * np.pi**2 * moment_of_inertia * _pos(pdot) / p**3
 
 
+@quantity_edge("yr", period_s="s", pdot="", braking_index="", initial_period_s="s")
 def braking_index_age(period_s, pdot, braking_index=3.0, initial_period_s=0.0):
     """True age for braking index n and initial period P0.
 
@@ -126,11 +134,13 @@ def braking_index_age(period_s, pdot, braking_index=3.0, initial_period_s=0.0):
     return p / (nm1 * _pos(pdot)) * (1.0 - ratio**nm1) / SECONDS_PER_YEAR
 
 
+@quantity_edge("yr", period_s="s", pdot="", braking_index="")
 def max_braking_index_age(period_s, pdot, braking_index=3.0):
     """Largest possible age for braking index n (P0 -> 0), 2 tau_c / (n - 1), in yr."""
     return braking_index_age(period_s, pdot, braking_index, 0.0)
 
 
+@quantity_edge("s", period_s="s", pdot="", age_yr="yr", braking_index="")
 def implied_initial_period(period_s, pdot, age_yr, braking_index=3.0):
     """Initial period a star of given true age must have had.
 
@@ -162,11 +172,13 @@ def implied_initial_period(period_s, pdot, age_yr, braking_index=3.0):
         return np.where(base > -1e-12, p * np.maximum(base, 0.0) ** (1.0 / nm1), np.nan)
 
 
+@quantity_edge("km/s", pm_total_masyr="mas/yr", distance_kpc="kpc")
 def transverse_velocity(pm_total_masyr, distance_kpc):
     """Transverse speed v_t = mu d, in km/s, for mu in mas/yr and d in kpc."""
     return np.asarray(pm_total_masyr, float) * _MAS_YR_TO_RAD_S * np.asarray(distance_kpc, float) * _KPC_CM / 1e5
 
 
+@quantity_edge("", period_s="s", pm_total_masyr="mas/yr", distance_kpc="kpc")
 def shklovskii_pdot(period_s, pm_total_masyr, distance_kpc):
     """Apparent period derivative from transverse motion, P v_t^2 / (c d) = P mu^2 d / c.
 
