@@ -36,8 +36,21 @@ class Key:
         Sign constraints, checked after conversion.
     lower, upper : float or None
         Inclusive bounds in ``unit`` (for numbers: plain).
+    lower_open, upper_open : bool
+        Make ``lower`` / ``upper`` exclusive (``ra`` in [0, 360), braking index > 1).
+    reason : str
+        Why the bounds are what they are; quoted in the error message.
+    choices : tuple of str, or str
+        Allowed string values (for ``str`` / ``names`` keys), or ``"param:<kind>"`` for the names of the
+        registered parameter sets of that kind, or ``"envelope"`` for the cooling envelopes.
+    max_length : int
+        Longest string (names, paths) or list accepted.
     doc : str
         One line for the key listing.
+
+    Every number (strings ``"nan"``/``"inf"`` too) must be finite; every key
+    is checked by :func:`kinage.io.scenario.scenario_from_dict` from these
+    attributes alone, so a new key gets its checks by being declared here.
     """
 
     name: str
@@ -50,6 +63,11 @@ class Key:
     lower: float | None = None
     upper: float | None = None
     doc: str = ""
+    lower_open: bool = False
+    upper_open: bool = False
+    reason: str = ""
+    choices: tuple | str | None = None
+    max_length: int | None = None
 
 
 _STAR = [
@@ -61,6 +79,8 @@ _STAR = [
     Key("epoch", "time", doc="reference epoch of position and proper motion (MJD TDB or ISO date); default: campaign middle or J2000"),
     Key("parallax", "quantity", "mas", error=True, doc="parallax (may be negative when measured; error must be positive)"),
     Key("distance", "quantity", "pc", error=True, positive=True, doc="distance, when no parallax is given"),
+    Key("distance_from", "str", choices=("parallax", "distance"),
+        doc="which of 'parallax' and 'distance' to use when both are given (giving both without it is an error)"),
     Key("pm_ra_cosdec", "quantity", "mas/yr", error=True, doc="proper motion in ra*cos(dec)"),
     Key("pm_dec", "quantity", "mas/yr", error=True, doc="proper motion in dec"),
     Key("pm_correlation", "float", default=0.0, lower=-1, upper=1, doc="correlation coefficient of the two proper-motion errors"),
@@ -77,6 +97,9 @@ _CAMPAIGN = [
     Key("baseline", "quantity", "yr", positive=True, doc="time from the first to the last visit"),
     Key("visits_per_year", "float", positive=True, doc="visits per year, evenly spaced"),
     Key("dates", "times", doc="explicit visit dates instead of start/baseline/visits_per_year"),
+    Key("schedule", "str", default="even",
+        doc="where the visits go: 'even' (regular cadence), 'parallax' (minimum parallax error) or 'motion' "
+            "(minimum proper-motion error along the expected motion); same visits per year, Sun-allowed days only"),
     Key("exposure", "quantity", "s", positive=True, doc="exposure per visit ('20 ks' works)"),
     Key("sun_avoidance", "quantity", "deg", default=45.0, nonnegative=True, upper=180, doc="no visit while the source is closer than this to the Sun"),
     Key("source_rate", "quantity", "1/s", positive=True, doc="source count rate (counts/s)"),
@@ -111,7 +134,9 @@ _TRACE = [
             "agrees with 4001 to ~1e-5 pc"),
     Key("seed", "int", nonnegative=True, doc="random seed (default: the command-line --seed, else 1)"),
     Key("potential", "str", default="MWPotential2014", doc="Galactic potential parameter set, or 'none' for straight lines"),
-    Key("solar_parameters", "str", default="astropy-v4.0", doc="solar position and motion parameter set"),
+    Key("solar_parameters", "str",
+        doc="solar position and motion parameter set (default: the one the potential names, e.g. galpy-default "
+            "for MWPotential2014, mcmillan17 for McMillan17; another choice gets a warning when inconsistent)"),
     Key("velocity_prior", "str", default="hobbs2005", doc="neutron-star space-velocity distribution for the unknown radial velocity"),
     Key("distance_prior", "str", default="exponential", doc="distance prior used with a parallax"),
     Key("distance_prior_scale", "quantity", "pc", positive=True, doc="length scale of the distance prior (default: the prior's own)"),
@@ -119,6 +144,9 @@ _TRACE = [
     Key("age_tolerance", "quantity", "Myr", default=0.5, nonnegative=True, doc="an encounter may be this much older than the association's age"),
     Key("control_runs", "int", default=10, nonnegative=True, doc="randomised control runs (proper-motion direction rotated) for the chance rate"),
     Key("chunk_size", "int", default=20000, positive=True, doc="draws integrated at once (bounds memory)"),
+    Key("field_prior", "float", default=0.5, positive=True, upper=1.0,
+        doc="prior probability (0 < p < 1) that the star was born outside every listed association; default 0.5 "
+            "because most massive stars form in associations but a candidate table lists only a few of them"),
 ]
 
 _AGES = [
@@ -137,11 +165,94 @@ _AGES = [
     Key("shklovskii", "bool", default=True, doc="correct Pdot for the Shklovskii effect when proper motion and distance are known"),
 ]
 
+# Physical ranges and resource caps, with the reason quoted in error messages.  Kept in one block so that
+# keys declared above stay short; a key declared with its own bounds keeps them unless listed here.
+_GALAXY_AGE = "older than the Galaxy (13.8 Gyr; Planck Collaboration 2020)"
+_RANGES = {
+    "star": {
+        "name": dict(max_length=200),
+        "ra": dict(lower=0, upper=360, upper_open=True, reason="right ascension is an angle in [0, 360) deg"),
+        "dec": dict(reason="declination is an angle in [-90, 90] deg"),
+        "parallax": dict(lower=-1000, upper=1000, lower_open=True, upper_open=True,
+                         reason="nothing is closer than ~1 pc, so |parallax| < 1000 mas"),
+        "distance": dict(lower=1, upper=1e5, reason="a Galactic neutron star lies between 1 pc and 100 kpc"),
+        "pm_ra_cosdec": dict(lower=-1e5, upper=1e5, reason="no star moves 100 arcsec/yr across the sky"),
+        "pm_dec": dict(lower=-1e5, upper=1e5, reason="no star moves 100 arcsec/yr across the sky"),
+        "pm_correlation": dict(reason="a correlation coefficient lies in [-1, 1]"),
+        "radial_velocity": dict(lower=-5000, upper=5000, reason="no neutron star moves faster than ~2000 km/s"),
+        "transverse_velocity": dict(upper=5000, reason="no neutron star moves faster than ~2000 km/s"),
+        "spin_period": dict(lower=5e-4, upper=1e6,
+                            reason="a neutron star spins slower than break-up (~0.5 ms) and no spin period "
+                                   "approaches 1e6 s"),
+        "spin_period_derivative": dict(lower=-1e-8, upper=1e-8,
+                                       reason="|Pdot| > 1e-8 s/s is beyond any spin-down (magnetars reach ~1e-10)"),
+        "temperature": dict(upper=1e8, reason="no neutron-star surface is hotter than ~1e7 K (8.6 keV is 1e8 K)"),
+        "luminosity": dict(upper=1e39, reason="above the Eddington luminosity of a neutron star (~2e38 erg/s)"),
+    },
+    "campaign": {
+        "baseline": dict(upper=200, reason="a timing campaign lasting more than two centuries"),
+        "visits_per_year": dict(upper=8766, reason="more than one visit an hour"),
+        "exposure": dict(upper=3.15576e7, reason="an exposure per visit longer than a year"),
+        "source_rate": dict(upper=1e7, reason="no detector counts 1e7 photons a second from one source"),
+        "background_rate": dict(upper=1e7, reason="no detector counts 1e7 photons a second"),
+        "pulsed_fraction": dict(lower=0, lower_open=True, reason="a pulsed fraction lies in (0, 1]"),
+        "toa_error": dict(upper=86400, reason="a TOA error longer than a day cannot time a pulse"),
+        "added_error": dict(upper=86400, reason="white noise longer than a day"),
+        "error_scale": dict(upper=1e3, reason="a white-noise scale factor above 1000"),
+        "red_noise_amplitude": dict(upper=1.0, reason="a red-noise amplitude above 1"),
+        "red_noise_index": dict(upper=20, reason="a red-noise spectral index above 20"),
+        "red_noise_modes": dict(upper=1000, reason="the red-noise basis costs memory as modes x TOAs; 1000 modes "
+                                                    "resolve any campaign"),
+        "target_significance": dict(upper=1000, reason="a significance above 1000 sigma"),
+        "max_baseline": dict(upper=200, reason="a baseline search beyond two centuries"),
+    },
+    "trace": {
+        "samples": dict(upper=1_000_000, reason="memory and run time grow with the draws (1e6 draws peak at "
+                                                 "~1.2 GB and run for many minutes)"),
+        "association_samples": dict(upper=100_000, reason="memory grows as associations x draws x time steps"),
+        "max_age": dict(upper=13_800, reason=_GALAXY_AGE),
+        "time_steps": dict(upper=100_000, reason="memory grows as draws x time steps; 401 steps already converge"),
+        "control_runs": dict(upper=1000, reason="run time grows with the control runs"),
+        "chunk_size": dict(upper=1_000_000, reason="memory grows as chunk size x time steps"),
+        "encounter_radius_factor": dict(upper=1000, reason="an encounter radius 1000 times the association's"),
+        "age_tolerance": dict(upper=13_800, reason=_GALAXY_AGE),
+        "distance_prior_scale": dict(upper=1e5, reason="a distance prior scale beyond 100 kpc"),
+        "potential": dict(choices="param:potential"),
+        "solar_parameters": dict(choices="param:solar_parameters"),
+        "velocity_prior": dict(choices="param:velocity_prior"),
+        "distance_prior": dict(choices="param:distance_prior"),
+    },
+    "ages": {
+        "braking_index": dict(lower=1, lower_open=True, upper=100,
+                              reason="n > 1 gives a finite spin-down age t = P/((n-1) Pdot); no spin-down law "
+                                     "gives n > 100"),
+        "initial_period": dict(lower=5e-4, reason="a neutron star spins slower than break-up (~0.5 ms)"),
+        "moment_of_inertia": dict(lower=1e43, upper=1e47, reason="a neutron star has I ~ 1e45 g cm2"),
+        "kinematic_age": dict(upper=1.38e10, reason=_GALAXY_AGE),
+        "mass": dict(lower=0.1, upper=3.0,
+                     reason="a neutron star weighs ~0.1-3 Msun (none is stable above ~2.3-3 Msun)"),
+        "masses": dict(lower=0.1, upper=3.0, max_length=50,
+                       reason="a neutron star weighs ~0.1-3 Msun (none is stable above ~2.3-3 Msun)"),
+        "radius": dict(upper=30, reason="neutron stars have radii of ~10-15 km"),
+        "envelopes": dict(choices="envelope", max_length=20),
+        "cooling_model": dict(choices="param:cooling_model"),
+        "samples": dict(upper=1_000_000, reason="1e6 Monte Carlo draws already give sub-percent intervals"),
+    },
+}
+
+
+def _with_ranges(table, keys):
+    from dataclasses import replace
+
+    extra = _RANGES.get(table, {})
+    return {k.name: (replace(k, **extra[k.name]) if k.name in extra else k) for k in keys}
+
+
 SCHEMA = {
-    "star": {k.name: k for k in _STAR},
-    "campaign": {k.name: k for k in _CAMPAIGN},
-    "trace": {k.name: k for k in _TRACE},
-    "ages": {k.name: k for k in _AGES},
+    "star": _with_ranges("star", _STAR),
+    "campaign": _with_ranges("campaign", _CAMPAIGN),
+    "trace": _with_ranges("trace", _TRACE),
+    "ages": _with_ranges("ages", _AGES),
 }
 TABLES = tuple(SCHEMA)
 TOP_LEVEL_KEYS = ("title", "description")

@@ -5,6 +5,7 @@ from dataclasses import dataclass, field
 import numpy as np
 
 from ..io.results import interval
+from .probability import DEFAULT_FIELD_PRIOR, MODEL_TEXT, PROBABILITY_THRESHOLD
 
 __all__ = ["TraceResult"]
 
@@ -46,7 +47,7 @@ class TraceResult:
     # ---------------------------------------------------------------- building
     @classmethod
     def build(cls, *, scenario, cfg, seed, frame, draws, adraws, ranked, favoured, verdict, failed, main, assoc,
-              times, cols, n_control, solution):
+              times, cols, n_control, solution, field=None):
         masks = {s["name"]: s.pop("_mask") for s in ranked}
         index = {s["name"]: s.pop("_index") for s in ranked}
         settings = {
@@ -65,13 +66,15 @@ class TraceResult:
             "age_tolerance_yr": cfg["tolerance"] * 1e6,
             "solar_frame": frame.summary(),
             "astrometry_source": solution.source,
+            "field_prior": cfg.get("field_prior"),
         }
         psets = [cfg["potential"], cfg["solar"]]
         from ..params import get
 
         psets += [get("velocity_prior", cfg["velocity_prior"].name), get("distance_prior", cfg["distance_prior"].name)]
         data = {"masks": masks, "index": index, "draws": draws, "adraws": adraws, "main": main, "assoc": assoc,
-                "times": times, "cols": cols, "frame": frame}
+                "times": times, "cols": cols, "frame": frame, "field": dict(field or {}),
+                "warnings": list(cfg.get("warnings", []))}
         return cls(scenario.star.get("name") or "star", cfg["n"], seed, ranked, favoured, verdict, main["plane"],
                    failed, settings, psets, _assumptions(cfg, draws), data)
 
@@ -118,19 +121,77 @@ class TraceResult:
 
         return encounter_table(self, top=top)
 
+    # ---------------------------------------------------------------- probabilities and caveats
+    @property
+    def field_probability(self):
+        """Posterior probability that the star was born outside every listed association (None without control draws)."""
+        return self.data.get("field", {}).get("field_probability")
+
+    def plane_crossing_caveats(self):
+        """Sentences qualifying the plane-crossing age (empty when none applies).
+
+        Says when most draws never crossed the mid-plane within ``max_age`` and
+        when the typical crossing is older than the favoured association's
+        kinematic age (then the star was born off the plane and the crossing
+        does not date its birth).
+        """
+        pc = self.plane_crossing_age_samples()
+        frac = pc.size / self.n_samples if self.n_samples else 0.0
+        max_myr = self.settings["max_age_yr"] / 1e6
+        out = []
+        if frac < 0.5:
+            out.append(f"Most draws ({1 - frac:.0%}) did not cross the Galactic mid-plane within the "
+                       f"{max_myr:.3g} Myr searched, so the plane-crossing age describes only the minority "
+                       "that did and is no age estimate for the star.")
+        best = self.best() if self.favoured is not None else None
+        if best is not None and pc.size and best["age_yr"]["median"] is not None:
+            kin = best["age_yr"]
+            if np.median(pc) > kin["hi68"]:
+                out.append(f"The plane-crossing age ({np.median(pc) / 1e6:.2f} Myr) is older than the kinematic "
+                           f"age from {best['name']} ({kin['median'] / 1e6:.2f} Myr): the star was born away from "
+                           "the mid-plane, so the crossing does not date its birth.")
+        return out
+
+    def _favoured_implies(self):
+        best = self.best() if self.favoured is not None else None
+        if best is None:
+            return None, None
+        return best.get("radial_velocity_if_born_here_kms"), best.get("distance_if_born_here_pc")
+
     # ---------------------------------------------------------------- protocol
     def to_dict(self):
-        """JSON-ready results (see the tracing issue for the keys)."""
+        """JSON-ready results.
+
+        Besides the encounter statistics, every entry of ``associations`` has
+        ``probability`` and ``probability_error`` (posterior probability of
+        birth in it and its Monte Carlo error, see :mod:`.probability`),
+        ``likelihood_ratio`` (+ ``_error``), and the radial velocity, present
+        distance and age implied by birth there (``radial_velocity_if_born_here_kms``,
+        ``distance_if_born_here_pc``, ``age_if_born_here_yr``: kernel-weighted
+        intervals).  Top level: ``field_probability`` (+ ``_error``),
+        ``field_prior``, ``probability_threshold``, ``favoured_radial_velocity_kms``,
+        ``favoured_distance_pc`` (None unless an association is favoured),
+        ``plane_crossing_fraction``, ``plane_crossing_caveats`` and ``warnings``.
+        """
         pc = self.plane_crossing_age_samples()
         failed = self.failed_draws[:_MAX_FAILED_LISTED]
+        field = self.data.get("field", {})
+        rv, dist = self._favoured_implies()
         return {
             "star": self.star_name,
             "n_samples": self.n_samples,
             "seed": self.seed,
             "associations": self.associations,
+            "field_probability": field.get("field_probability"),
+            "field_probability_error": field.get("field_probability_error"),
+            "field_prior": field.get("field_prior"),
+            "probability_threshold": field.get("probability_threshold"),
             "plane_crossing_age_yr": interval(pc),
             "plane_crossing_fraction": float(pc.size / self.n_samples) if self.n_samples else None,
+            "plane_crossing_caveats": self.plane_crossing_caveats(),
             "favoured": self.favoured,
+            "favoured_radial_velocity_kms": rv,
+            "favoured_distance_pc": dist,
             "verdict": self.verdict,
             "failed_draws": failed,
             "n_failed": len(self.failed_draws),
@@ -141,17 +202,30 @@ class TraceResult:
             "settings": self.settings,
             "parameter_sets": [p.summary() for p in self.parameter_sets],
             "assumptions": list(self.assumptions),
+            "warnings": list(self.data.get("warnings", [])),
         }
 
     def summary(self):
-        """One to three plain sentences for the report's top summary."""
+        """A few plain sentences for the report's top summary, in probabilities."""
         text = self.verdict
+        rv, dist = self._favoured_implies()
+        if rv is not None and rv["median"] is not None and dist["median"] is not None:
+            text += (f" Birth there implies a radial velocity of {_num(rv['median'])} km/s (68%: "
+                     f"{_num(rv['lo68'])} to {_num(rv['hi68'])} km/s) and a present distance of "
+                     f"{_num(dist['median'])} pc (68%: {_num(dist['lo68'])}-{_num(dist['hi68'])} pc).")
         pc = interval(self.plane_crossing_age_samples())
         if pc["median"] is not None:
-            text += (f" The star last crossed the Galactic mid-plane {pc['median'] / 1e6:.2f} Myr ago "
+            frac = pc["n"] / self.n_samples
+            text += (f" {frac:.0%} of the draws crossed the Galactic mid-plane within the "
+                     f"{self.settings['max_age_yr'] / 1e6:.3g} Myr searched, last {pc['median'] / 1e6:.2f} Myr ago "
                      f"(68%: {pc['lo68'] / 1e6:.2f}-{pc['hi68'] / 1e6:.2f} Myr).")
         else:
             text += " No draw crossed the Galactic mid-plane within the integration window."
+        for c in self.plane_crossing_caveats():
+            if pc["median"] is not None:
+                text += " " + c
+        for w in self.data.get("warnings", []):
+            text += " Warning: " + w
         return text
 
     def write_products(self, out_dir):
@@ -159,6 +233,11 @@ class TraceResult:
         from .products import write_products
 
         return write_products(self, out_dir)
+
+
+def _num(x):
+    """A velocity or distance rounded to the nearest unit (two significant figures below 10)."""
+    return f"{x:.0f}" if abs(x) >= 10 else f"{x:.2g}"
 
 
 def _assumptions(cfg, draws):
@@ -175,7 +254,9 @@ def _assumptions(cfg, draws):
         "Chance rate from control draws with the proper-motion direction turned at random (speed kept) "
         "(randomised inputs as in Tetzlaff et al. 2010, MNRAS 402, 2369)",
         "d_min compared with the common-origin distribution of Hoogerwerf, de Bruijne & de Zeeuw 2001, "
-        "A&A 365, 49, Appendix A (sigma fitted; approximate test)",
+        "A&A 365, 49, Appendix A (sigma fitted; KS distance only, no p-value)",
+        MODEL_TEXT.format(field=cfg.get("field_prior", DEFAULT_FIELD_PRIOR))
+        + f"; an association is favoured when its probability is at least {PROBABILITY_THRESHOLD:.2g}",
     ]
     if draws.rv_source == "prior":
         out.append(f"Unknown radial velocity drawn from the {cfg['velocity_prior'].name} velocity distribution "

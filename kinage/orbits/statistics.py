@@ -1,29 +1,32 @@
-"""Encounter statistics per association, the chance baseline, ranking and verdict.
+"""Encounter statistics per association, the chance baseline, probabilities, ranking and verdict.
 
 An encounter is a draw whose closest approach lies inside the integration
 window (not at the present or at the far end), with d_min below
 ``factor x radius`` and tau below ``age + tolerance``.  The chance rate is the
 encounter fraction of control draws whose proper-motion directions were turned
-at random (speed kept); the ratio of the two ranks the associations
+at random (speed kept); the ratio of the two is kept as a descriptive number
 (Hoogerwerf et al. 2001, A&A 365, 49; Tetzlaff et al. 2010, MNRAS 402, 2369,
-use randomised inputs for the same purpose).  An association is *favoured*
-when it has at least ``MIN_ENCOUNTERS`` encounters, its encounter fraction is
-at least ``MIN_RATIO`` times the chance rate and a binomial test rejects the
-chance rate at ``MAX_P_CHANCE`` (thresholds: common practice, no source).
+use randomised inputs for the same purpose).  Fractions and the ratio are
+Monte Carlo estimates of fixed quantities: they converge as draws are added.
+
+What ranks the associations is the posterior probability of birth in each
+(:mod:`.probability`: a birth kernel averaged over the draws against the same
+average over the control draws, with ``[trace] field_prior`` for a birth
+outside every candidate).  An association is *favoured* when it has the
+highest probability and that probability is at least
+:data:`~kinage.orbits.probability.PROBABILITY_THRESHOLD`.  No binomial or KS
+p-value is reported: treating the Monte Carlo draws of one star as
+independent trials makes such p-values shrink with the number of draws.
 """
 
 import numpy as np
-from scipy import stats
 
 from ..io.results import interval
 from .common_origin import compare_common_origin
+from .probability import (CONTROL_WIDTH, DEFAULT_FIELD_PRIOR, PROBABILITY_THRESHOLD, birth_kernel,
+                          posterior_probabilities, weighted_interval)
 
-__all__ = ["encounter_mask", "summarise_association", "rank_associations", "verdict", "MIN_ENCOUNTERS",
-           "MIN_RATIO", "MAX_P_CHANCE"]
-
-MIN_ENCOUNTERS = 3
-MIN_RATIO = 3.0
-MAX_P_CHANCE = 0.01
+__all__ = ["encounter_mask", "summarise_association", "rank_associations", "verdict", "PROBABILITY_THRESHOLD"]
 
 
 def encounter_mask(dmin_pc, tau_myr, edge, valid, radius_pc, age_myr, factor, tolerance_myr):
@@ -36,7 +39,7 @@ def _yr(iv):
 
 
 def summarise_association(name, radius_pc, age_myr, dmin_pc, tau_myr, edge, valid, rv_kms, *, factor,
-                          tolerance_myr, control=None, control_runs=0):
+                          tolerance_myr, control=None, control_runs=0, distance_pc=None):
     """Statistics of one association.
 
     Parameters
@@ -53,39 +56,60 @@ def summarise_association(name, radius_pc, age_myr, dmin_pc, tau_myr, edge, vali
         Control-draw results.
     control_runs : int
         Number of runs the control draws are split into (for the error of the chance rate).
+    distance_pc : ndarray, optional
+        The star's present distance of each draw, pc (for the distance implied by this birthplace).
 
     Returns
     -------
     dict
-        JSON-ready summary; ``_mask`` holds the encounter mask (removed before output).
+        JSON-ready summary; keys starting with ``_`` (encounter mask, birth
+        kernels) are for :func:`rank_associations` and are removed before output.
     """
     enc = encounter_mask(dmin_pc, tau_myr, edge, valid, radius_pc, age_myr, factor, tolerance_myr)
+    kern = birth_kernel(dmin_pc, tau_myr, edge, valid, radius_pc, age_myr, tolerance_myr)
     n_valid = int(valid.sum())
     k = int(enc.sum())
     frac = k / n_valid if n_valid else 0.0
+    common = compare_common_origin(dmin_pc[valid])
+    common.pop("ks_pvalue", None)  # shrinks with the number of draws; the KS distance itself converges
     out = {
         "name": name,
         "radius_pc": float(radius_pc),
         "age_myr": float(age_myr),
         "encounter_fraction": frac,
+        "encounter_fraction_error": float(np.sqrt(frac * (1 - frac) / n_valid)) if n_valid else None,
         "n_encounters": k,
         "n_valid": n_valid,
         "age_yr": _yr(interval(tau_myr[enc])),
         "dmin_pc": interval(dmin_pc[valid]),
         "tau_all_yr": _yr(interval(tau_myr[valid & ~edge])),
         "required_radial_velocity_kms": _rv_range(rv_kms[enc]),
-        "common_origin": compare_common_origin(dmin_pc[valid]),
+        "common_origin": common,
         "edge_fraction": float((edge & valid).sum() / n_valid) if n_valid else None,
+        # what this birthplace implies: draws weighted by the birth kernel
+        "radial_velocity_if_born_here_kms": weighted_interval(rv_kms, kern),
+        "distance_if_born_here_pc": (weighted_interval(distance_pc, kern) if distance_pc is not None
+                                     else weighted_interval([], [])),
+        "age_if_born_here_yr": _yr(weighted_interval(tau_myr, kern)),
+        "mean_birth_kernel": float(kern.sum() / n_valid) if n_valid else 0.0,
     }
     out["chance_fraction"] = None
     out["chance_fraction_error"] = None
     out["n_control"] = 0
     out["ratio"] = None
     out["ratio_is_lower_limit"] = False
-    out["p_chance"] = None
+    out["probability"] = None
+    out["probability_error"] = None
+    out["likelihood_ratio"] = None
+    out["likelihood_ratio_error"] = None
+    out["_k_main"], out["_v_main"] = kern, valid
+    out["_k_ctrl"] = None
     if control is not None:
         cd, ct, ce, cv = control
         cenc = encounter_mask(cd, ct, ce, cv, radius_pc, age_myr, factor, tolerance_myr)
+        out["_k_ctrl"] = birth_kernel(cd, ct, ce, cv, radius_pc, age_myr, tolerance_myr)
+        out["_k_ctrl_wide"] = birth_kernel(cd, ct, ce, cv, radius_pc, age_myr, tolerance_myr, width=CONTROL_WIDTH)
+        out["_v_ctrl"] = cv
         nc = int(cv.sum())
         kc = int(cenc.sum())
         out["n_control"] = nc
@@ -99,8 +123,6 @@ def summarise_association(name, radius_pc, age_myr, dmin_pc, tau_myr, edge, vali
             floor = chance if kc > 0 else 0.5 / nc
             out["ratio"] = frac / floor
             out["ratio_is_lower_limit"] = kc == 0
-            p_null = max(chance, 0.5 / nc)
-            out["p_chance"] = float(stats.binom.sf(k - 1, n_valid, p_null)) if n_valid else None
     out["_mask"] = enc
     return out
 
@@ -113,34 +135,62 @@ def _rv_range(rv):
     return res
 
 
-def _is_favoured(s):
-    if s["n_encounters"] < MIN_ENCOUNTERS or s["ratio"] is None:
-        return False
-    return s["ratio"] >= MIN_RATIO and s["p_chance"] is not None and s["p_chance"] < MAX_P_CHANCE
+def _assign_probabilities(summaries, field_prior):
+    """Set ``probability`` etc. on every summary; returns (field_probability, its error) or (None, None)."""
+    if not summaries or any(s["_k_ctrl"] is None for s in summaries):
+        return None, None
+    stack = [np.array([s[k] for s in summaries]) for k in ("_k_main", "_v_main", "_k_ctrl", "_k_ctrl_wide",
+                                                           "_v_ctrl")]
+    res = posterior_probabilities(*stack, field_prior)
+    for i, s in enumerate(summaries):
+        s["probability"] = float(res["probability"][i])
+        s["probability_error"] = float(res["probability_error"][i])
+        s["likelihood_ratio"] = float(res["likelihood_ratio"][i])
+        s["likelihood_ratio_error"] = float(res["likelihood_ratio_error"][i])
+    return res["field_probability"], res["field_probability_error"]
 
 
-def rank_associations(summaries):
-    """Sort summaries best first (by ratio, then encounter fraction); sets ``rank`` and ``favoured``.
+def rank_associations(summaries, field_prior=DEFAULT_FIELD_PRIOR):
+    """Give every summary its probability, sort best first; sets ``rank`` and ``favoured``.
+
+    Parameters
+    ----------
+    summaries : list of dict
+        From :func:`summarise_association`.
+    field_prior : float
+        Prior probability of a birth outside all candidates (``[trace] field_prior``).
 
     Returns
     -------
     ranked : list of dict
+        By probability (then encounter fraction, then name); without control
+        draws (no field alternative) by encounter fraction.
     favoured : str or None
-        Name of the top association when it passes the favoured test.
+        The top association when its probability is at least :data:`PROBABILITY_THRESHOLD`.
+    field : dict
+        ``field_probability``, ``field_probability_error`` (None without control draws),
+        ``field_prior`` and ``probability_threshold``.
     """
+    p0, p0_err = _assign_probabilities(summaries, field_prior)
+    for s in summaries:
+        for key in ("_k_main", "_v_main", "_k_ctrl", "_k_ctrl_wide", "_v_ctrl"):
+            s.pop(key, None)
+
     def key(s):
-        ratio = s["ratio"] if s["ratio"] is not None else 0.0
-        return (-(ratio if s["n_encounters"] > 0 else 0.0), -s["encounter_fraction"], s["name"])
+        prob = s["probability"] if s["probability"] is not None else 0.0
+        return (-prob, -s["encounter_fraction"], s["name"])
 
     ranked = sorted(summaries, key=key)
     for i, s in enumerate(ranked):
         s["rank"] = i + 1
         s["favoured"] = False
     fav = None
-    if ranked and _is_favoured(ranked[0]):
+    if ranked and ranked[0]["probability"] is not None and ranked[0]["probability"] >= PROBABILITY_THRESHOLD:
         ranked[0]["favoured"] = True
         fav = ranked[0]["name"]
-    return ranked, fav
+    field = {"field_probability": p0, "field_probability_error": p0_err, "field_prior": float(field_prior),
+             "probability_threshold": PROBABILITY_THRESHOLD}
+    return ranked, fav, field
 
 
 def _age_text(iv):
@@ -152,24 +202,39 @@ def _age_text(iv):
     return f"{m / 1e6:.2f} Myr (68%: {lo / 1e6:.2f}-{hi / 1e6:.2f} Myr)"
 
 
-def verdict(ranked, favoured, control_available=True):
-    """One or two plain sentences naming the favoured association, or saying that none is."""
+def _prob_text(p, err):
+    """A probability with the digits its Monte Carlo error supports."""
+    if p is None:
+        return "n/a"
+    if p > 0.995 and (err is None or err < 0.005):
+        return "> 0.99"
+    if p < 0.005 and (err is None or err < 0.005):
+        return "< 0.01"
+    digits = 3 if err is not None and err < 0.005 else 2
+    return f"{p:.{digits}f} +/- {max(err or 0.0, 10.0**-digits):.{digits}f}"
+
+
+def verdict(ranked, favoured, control_available=True, field=None):
+    """One or two plain sentences, in probabilities, naming the favoured association or saying that none is."""
     if not ranked:
         return "No candidate associations were given, so no birth association can be favoured."
     best = ranked[0]
+    field = field or {}
+    p0 = field.get("field_probability")
+    prior = field.get("field_prior", DEFAULT_FIELD_PRIOR)
+    if not control_available or best["probability"] is None:
+        return (f"No association is favoured: without control draws there is no field alternative and so no "
+                f"probabilities; {best['name']} has the most encounters ({best['encounter_fraction']:.1%} of the "
+                "draws).")
+    field_text = (f"probability {_prob_text(p0, field.get('field_probability_error'))} that it was born outside "
+                  f"the listed candidates (prior {prior:.2g})")
     if favoured is not None:
-        s = best
-        chance = (f"{s['chance_fraction']:.2%}" if s["chance_fraction"] else
-                  f"less than {0.5 / max(s['n_control'], 1):.2%}")
-        return (f"{s['name']} is the favoured birth association: {s['encounter_fraction']:.1%} of the draws pass "
-                f"within its radius criterion, against {chance} of randomised control draws (ratio "
-                f"{'>' if s['ratio_is_lower_limit'] else ''}{s['ratio']:.1f}); kinematic age {_age_text(s['age_yr'])}.")
-    if best["n_encounters"] == 0:
-        return ("No association is favoured: no draw of the star came within the radius criterion of any "
-                "candidate association inside its age.")
-    if not control_available:
-        return (f"No association is favoured: without control runs there is no chance baseline; {best['name']} "
-                f"has the most encounters ({best['encounter_fraction']:.1%}).")
-    return (f"No association is favoured: the best candidate, {best['name']}, has an encounter fraction of "
-            f"{best['encounter_fraction']:.1%} against a chance rate of {best['chance_fraction']:.1%}, which is "
-            "not a significant excess.")
+        return (f"{best['name']} is the favoured birth association: probability "
+                f"{_prob_text(best['probability'], best['probability_error'])} that the star was born in it, "
+                f"{field_text}; kinematic age {_age_text(best['age_yr'])}.")
+    if best["n_encounters"] == 0 and best["probability"] < 0.05:
+        return (f"No association is favoured: no draw of the star came within the radius criterion of any "
+                f"candidate inside its age; {field_text}.")
+    return (f"No association is favoured: the most probable, {best['name']}, has probability "
+            f"{_prob_text(best['probability'], best['probability_error'])}, below the {PROBABILITY_THRESHOLD:.2g} "
+            f"threshold; {field_text}.")

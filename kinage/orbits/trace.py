@@ -21,20 +21,20 @@ from ..astrometry import AstrometricSolution
 from ..errors import InputError
 from ..kinematics import distance_prior as make_distance_prior
 from ..kinematics import draw_star, rotated_proper_motions, velocity_prior as make_velocity_prior
-from ..params import get
+from ..params.registry import galaxy_pair
 from ..progress import progress_bar
-from .closest import CoarseStar, CoarseTracks, closest_approach, coarse_columns
+from .chunks import chunk_rows, integrate_associations, run_draws
+from .control import control_draws_needed
 from .frames import solar_frame
-from .integrate import integrate_orbits, time_grid
-from .plane import plane_crossing_age
+from .integrate import integration_cores, time_grid
 from .result import TraceResult
+from .probability import DEFAULT_FIELD_PRIOR, check_field_prior
 from .statistics import rank_associations, summarise_association, verdict
 
 __all__ = ["trace", "CHUNK_BYTES"]
 
-#: cap on the bytes of one chunk's galpy orbit array
+#: cap on the bytes of one chunk's orbit arrays (galpy's and the Cartesian copy searched)
 CHUNK_BYTES = 256e6
-_N_TRACKS = 100  # star and association draws kept for figures
 
 
 def _settings(scenario, samples, potential):
@@ -52,15 +52,25 @@ def _settings(scenario, samples, potential):
         "m": int(tr.get("association_samples")),
         "max_age": tr.value("max_age", "Myr"),
         "time_steps": int(tr.get("time_steps")),
-        "potential": get("potential", pot_name, where="[trace] potential"),
-        "solar": get("solar_parameters", tr.get("solar_parameters"), where="[trace] solar_parameters"),
+        **_galaxy(pot_name, tr.get("solar_parameters")),
         "velocity_prior": make_velocity_prior(tr.get("velocity_prior")),
         "distance_prior": make_distance_prior(tr.get("distance_prior"), tr.value("distance_prior_scale", "pc")),
         "factor": float(tr.get("encounter_radius_factor")),
         "tolerance": tr.value("age_tolerance", "Myr"),
         "control_runs": int(tr.get("control_runs")),
+        "control_error": float(tr.get("control_error")),
+        "integration_tolerance": float(tr.get("integration_tolerance")),
         "chunk_size": int(tr.get("chunk_size")),
+        "field_prior": check_field_prior(tr.get("field_prior", DEFAULT_FIELD_PRIOR)),
     }
+
+
+def _galaxy(pot_name, solar_name):
+    """Potential and Sun of one Galaxy (the potential's own Sun unless named); warns on a mismatch."""
+    pot, solar, mismatch = galaxy_pair(pot_name, solar_name)
+    if mismatch:
+        warnings.warn(f"[trace] {mismatch}", UserWarning, stacklevel=4)
+    return {"potential": pot, "solar": solar, "warnings": [mismatch[0].upper() + mismatch[1:] + "."] if mismatch else []}
 
 
 def _rng_and_seed(scenario, rng):
@@ -71,57 +81,6 @@ def _rng_and_seed(scenario, rng):
     if isinstance(rng, (int, np.integer)):
         return np.random.default_rng(int(rng)), int(rng)
     return np.random.default_rng(rng), None
-
-
-def _integrate_tracks(pos, vel, times, pset, cols, rows_cap, method):
-    parts, failed = [], {}
-    for a in range(0, len(pos), rows_cap):
-        b = min(a + rows_cap, len(pos))
-        bundle = integrate_orbits(pos[a:b], vel[a:b], times, pset, method=method)
-        failed.update({a + i: r for i, r in bundle.failed.items()})
-        parts.append(CoarseTracks.from_bundle(bundle, cols))
-    return CoarseTracks.concatenate(parts), failed
-
-
-def _run_draws(draws, frame, times, cols, pset, assoc, adraws, rows_cap, method, bar, keep_plane, keep_tracks):
-    """Integrate star(-like) draws chunk by chunk and find closest approaches to every association."""
-    n, na, m = draws.n, adraws.n_assoc, adraws.m
-    d = np.full((na, n), np.nan, np.float32)
-    tau = np.full((na, n), np.nan, np.float32)
-    edge = np.zeros((na, n), bool)
-    birth = {}
-    plane = np.full(n, np.nan) if keep_plane else None
-    tracks = None
-    failed = {}
-    pos_all, vel_all = draws.galactocentric(frame)
-    for a in range(0, n, rows_cap):
-        b = min(a + rows_cap, n)
-        bundle = integrate_orbits(pos_all[a:b], vel_all[a:b], times, pset, method=method)
-        bad = np.zeros(b - a, bool)
-        for i, r in bundle.failed.items():
-            failed[a + i] = r
-            bad[i] = True
-        coarse = bundle.positions(cols)
-        if keep_tracks and tracks is None:
-            tracks = coarse[:_N_TRACKS].copy()
-        prep = CoarseStar(coarse, a, m)
-        del coarse
-        idx = np.arange(a, b)
-        for j in range(na):
-            pair = j * m + idx % m
-            ca = closest_approach(bundle, None, assoc, pair, k_coarse=prep.argmin(assoc.pos32[j * m:(j + 1) * m]))
-            d[j, a:b] = ca["dmin_pc"]
-            tau[j, a:b] = ca["tau_myr"]
-            edge[j, a:b] = ca["edge"]
-            near = np.flatnonzero(ca["dmin_pc"] < 5 * adraws.radius_pc[j])
-            if near.size:
-                birth.setdefault(j, []).append((idx[near], ca["pos_kpc"][near]))
-        if keep_plane:
-            plane[a:b] = plane_crossing_age(bundle, cols)
-            plane[a:b][bad] = np.nan
-        bar.update(b - a)
-    birth = {j: (np.concatenate([p[0] for p in v]), np.concatenate([p[1] for p in v])) for j, v in birth.items()}
-    return {"dmin": d, "tau": tau, "edge": edge, "failed": failed, "plane": plane, "tracks": tracks, "birth": birth}
 
 
 def trace(scenario, *, solution=None, rng=None, samples=None, potential=None, progress=False,
@@ -166,22 +125,31 @@ def trace(scenario, *, solution=None, rng=None, samples=None, potential=None, pr
                       radial_velocity=star.value("radial_velocity", "km/s"),
                       radial_velocity_error=star.value("radial_velocity_error", "km/s"))
     adraws = draw_associations(table, cfg["m"], assoc_rng)
-    n_control = cfg["n"] if cfg["control_runs"] > 0 else 0
     times = time_grid(cfg["max_age"], cfg["time_steps"])
-    cols = coarse_columns(len(times))
-    rows_cap = max(1, min(cfg["chunk_size"], int(CHUNK_BYTES // (len(times) * 48))))
+    cols = np.arange(len(times))
+    cores = integration_cores()
+    rows_cap = chunk_rows(cfg["n"], len(times), cfg["chunk_size"], CHUNK_BYTES, cores)
+    run = {"times": times, "pset": cfg["potential"], "tolerance": cfg["integration_tolerance"], "method": method,
+           "rows_cap": rows_cap, "cores": cores}
     apos, avel = adraws.galactocentric(frame)
-    assoc, afailed = _integrate_tracks(apos, avel, times, cfg["potential"], cols, rows_cap, method)
-    with progress_bar(cfg["n"] + n_control, desc="tracing", enabled=progress) as bar:
-        main = _run_draws(draws, frame, times, cols, cfg["potential"], assoc, adraws, rows_cap, method, bar,
-                          keep_plane=True, keep_tracks=True)
-        ctrl = None
-        if n_control:
-            cdraws = rotated_proper_motions(draws, control_rng, frame=frame, velocity_prior=cfg["velocity_prior"])
-            ctrl = _run_draws(cdraws, frame, times, cols, cfg["potential"], assoc, adraws, rows_cap, method, bar,
-                              keep_plane=False, keep_tracks=False)
+    assoc, afailed = integrate_associations(apos, avel, times, cfg["potential"], tolerance=run["tolerance"],
+                                            method=method, rows_cap=rows_cap)
+    n_max_control = cfg["n"] if cfg["control_runs"] > 0 else 0
+    with progress_bar(cfg["n"], desc="tracing", enabled=progress) as bar:
+        pos, vel = draws.galactocentric(frame)
+        main = run_draws(pos, vel, assoc=assoc, adraws=adraws, bar=bar, keep_plane=True, keep_tracks=True, **run)
+    ctrl = None
+    n_control = 0
+    if n_max_control:
+        # control draws for all star draws (so the numbers do not depend on how many are used),
+        # integrated only as far as the chance rate's precision needs ([trace] control_error)
+        cdraws = rotated_proper_motions(draws, control_rng, frame=frame, velocity_prior=cfg["velocity_prior"])
+        cpos, cvel = cdraws.galactocentric(frame)
+        ctrl = control_draws_needed(cpos, cvel, run, assoc, adraws, afailed, cfg, n_max_control,
+                                    progress=progress)
+        n_control = ctrl["dmin"].shape[1]
     summaries = _summaries(cfg, adraws, afailed, draws, main, ctrl)
-    ranked, favoured = rank_associations(summaries)
+    ranked, favoured, field = rank_associations(summaries, field_prior=cfg["field_prior"])
     failed = [{"index": int(i), "kind": "star", "reason": r} for i, r in sorted(main["failed"].items())]
     if ctrl is not None:
         failed += [{"index": int(i), "kind": "control", "reason": r} for i, r in sorted(ctrl["failed"].items())]
@@ -192,7 +160,8 @@ def trace(scenario, *, solution=None, rng=None, samples=None, potential=None, pr
                       f"(first: draw {failed[0]['index']}, {failed[0]['reason']})", RuntimeWarning, stacklevel=2)
     return TraceResult.build(
         scenario=scenario, cfg=cfg, seed=seed, frame=frame, draws=draws, adraws=adraws, ranked=ranked,
-        favoured=favoured, verdict=verdict(ranked, favoured, control_available=ctrl is not None),
+        favoured=favoured, verdict=verdict(ranked, favoured, control_available=ctrl is not None, field=field),
+        field=field,
         failed=failed, main=main, assoc=assoc, times=times, cols=cols, n_control=n_control, solution=solution)
 
 
@@ -216,7 +185,7 @@ def _summaries(cfg, adraws, afailed, draws, main, ctrl):
         s = summarise_association(name, adraws.radius_pc[j], adraws.age_myr[j], main["dmin"][j].astype(float),
                                   main["tau"][j].astype(float), main["edge"][j], valid, draws.radial_velocity,
                                   factor=cfg["factor"], tolerance_myr=cfg["tolerance"], control=control,
-                                  control_runs=cfg["control_runs"])
+                                  control_runs=cfg["control_runs"], distance_pc=draws.distance_pc)
         s["_index"] = j
         out.append(s)
     return out

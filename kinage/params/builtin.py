@@ -41,22 +41,25 @@ _builtin(ParameterSet(
 ))
 
 # --- Galactic potentials ------------------------------------------------------
-# values: galpy (name of the galpy object), ro_kpc and vo_kms (its natural units)
+# values: galpy (name of the galpy object), ro_kpc and vo_kms (its natural units),
+# solar_parameters (name of the solar parameter set that goes with the model: the
+# same R0 and a circular speed at the Sun equal to vo; used when the scenario names
+# none, see kinage.params.registry.galaxy_pair)
 _builtin(ParameterSet(
     "potential", "MWPotential2014",
-    {"galpy": "MWPotential2014", "ro_kpc": 8.0, "vo_kms": 220.0},
+    {"galpy": "MWPotential2014", "ro_kpc": 8.0, "vo_kms": 220.0, "solar_parameters": "galpy-default"},
     references=("Bovy 2015, ApJS 216, 29 (galpy; MWPotential2014, vc = 220 km/s at 8 kpc)",),
     description="bulge + Miyamoto-Nagai disc + NFW halo fitted to Milky Way data",
 ))
 _builtin(ParameterSet(
     "potential", "McMillan17",
-    {"galpy": "McMillan17", "ro_kpc": 8.21, "vo_kms": 233.1},
+    {"galpy": "McMillan17", "ro_kpc": 8.21, "vo_kms": 233.1, "solar_parameters": "mcmillan17"},
     references=("McMillan 2017, MNRAS 465, 76", "Bovy 2015, ApJS 216, 29 (galpy implementation)"),
     description="McMillan (2017) best-fitting Milky Way mass model",
 ))
 _builtin(ParameterSet(
     "potential", "none",
-    {"galpy": None, "ro_kpc": 8.0, "vo_kms": 220.0},
+    {"galpy": None, "ro_kpc": 8.0, "vo_kms": 220.0, "solar_parameters": "galpy-default"},
     references=(),
     description="no forces: straight lines in the Galactocentric rest frame",
 ))

@@ -19,7 +19,18 @@ from types import MappingProxyType
 
 from ..errors import InputError
 
-__all__ = ["ParameterSet", "register", "get", "available", "KINDS"]
+__all__ = ["ParameterSet", "register", "get", "available", "KINDS", "galaxy_pair", "galaxy_mismatch",
+           "R0_TOLERANCE_KPC", "VC_TOLERANCE_KMS", "SOLAR_PECULIAR_V_KMS", "DEFAULT_SOLAR_PARAMETERS"]
+
+#: a Sun whose R0 differs from the potential's by more than this is inconsistent with it, kpc
+#: (common practice, no source: ~ the spread of modern R0 measurements)
+R0_TOLERANCE_KPC = 0.05
+#: ... or whose circular speed (v_sun_y - V_pec) differs from the potential's by more than this, km/s
+VC_TOLERANCE_KMS = 2.0
+#: the Sun's peculiar motion towards Galactic rotation (Schoenrich, Binney & Dehnen 2010, MNRAS 403, 1829), km/s
+SOLAR_PECULIAR_V_KMS = 12.24
+#: Sun used with a potential set that names none
+DEFAULT_SOLAR_PARAMETERS = "astropy-v4.0"
 
 KINDS = ("solar_parameters", "potential", "velocity_prior", "distance_prior", "cooling_model")
 
@@ -114,6 +125,74 @@ def available(kind):
     """Names of the registered sets of one kind."""
     _load_builtins()
     return sorted(p.name for p in _REGISTRY[kind].values())
+
+
+def galaxy_mismatch(potential, solar):
+    """Why a potential set and a solar parameter set do not describe the same Galaxy (None when they do).
+
+    A potential with forces fixes the Sun's distance from the centre (its
+    ``ro_kpc``) and the circular speed there (its ``vo_kms``, the speed at
+    ``ro`` in galpy's natural units; Bovy 2015, ApJS 216, 29).  The solar set
+    is consistent with it when its ``r0_kpc`` agrees within
+    :data:`R0_TOLERANCE_KPC` and its circular speed ``v_sun_y - 12.24 km/s``
+    (Schoenrich et al. 2010 peculiar V) within :data:`VC_TOLERANCE_KMS`.
+    The force-free potential ('none') goes with any Sun.
+
+    Parameters
+    ----------
+    potential, solar : ParameterSet
+
+    Returns
+    -------
+    str or None
+        One sentence naming both sets and the numbers that differ.
+    """
+    v = potential.values
+    if v.get("galpy") is None and v.get("object") is None:
+        return None
+    if "ro_kpc" not in v or "vo_kms" not in v:
+        return None
+    ro, vo = float(v["ro_kpc"]), float(v["vo_kms"])
+    r0 = float(solar["r0_kpc"])
+    vc = float(solar["v_sun_kms"][1]) - SOLAR_PECULIAR_V_KMS
+    if abs(r0 - ro) <= R0_TOLERANCE_KPC and abs(vc - vo) <= VC_TOLERANCE_KMS:
+        return None
+    own = v.get("solar_parameters")
+    hint = f"; the set that goes with it is '{own}'" if own else ""
+    return (f"solar parameters '{solar.name}' (R0 = {r0:.3f} kpc, circular speed {vc:.1f} km/s) do not match "
+            f"potential '{potential.name}' (R0 = {ro:.3f} kpc, circular speed {vo:.1f} km/s){hint}, so the "
+            "Sun does not move on a circular orbit of that potential")
+
+
+def galaxy_pair(potential_name, solar_name=None, *, where_potential="[trace] potential",
+                where_solar="[trace] solar_parameters"):
+    """The potential set and the solar parameter set of one consistent Galaxy.
+
+    Parameters
+    ----------
+    potential_name : str
+    solar_name : str or None
+        None: the solar set the potential names (``values['solar_parameters']``;
+        galpy's defaults R0 = 8 kpc, vc = 220 km/s and the Schoenrich et al.
+        2010 solar motion for MWPotential2014, McMillan 2017's R0 = 8.21 kpc,
+        vc = 233.1 km/s for McMillan17), else :data:`DEFAULT_SOLAR_PARAMETERS`.
+
+    Returns
+    -------
+    potential, solar : ParameterSet
+    mismatch : str or None
+        :func:`galaxy_mismatch` of an explicitly chosen pair (None for the
+        potential's own Sun).  A potential set naming no Sun gets the default
+        Sun and the check.
+    """
+    pot = potential_name if isinstance(potential_name, ParameterSet) else get("potential", potential_name,
+                                                                                 where=where_potential)
+    if solar_name is None:
+        own = pot.values.get("solar_parameters")
+        solar = get("solar_parameters", own or DEFAULT_SOLAR_PARAMETERS, where=where_solar)
+        return pot, solar, None if own else galaxy_mismatch(pot, solar)
+    solar = get("solar_parameters", solar_name, where=where_solar)
+    return pot, solar, galaxy_mismatch(pot, solar)
 
 
 _LOADED = False
