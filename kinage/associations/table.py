@@ -97,13 +97,33 @@ class AssociationTable:
         """Values of one numeric column, ndarray in its default unit."""
         return np.array([getattr(a, name) for a in self.associations], float)
 
+    def table(self):
+        """The associations as an astropy QTable with units (default units of :data:`COLUMNS`)."""
+        from astropy.table import QTable
+
+        t = QTable()
+        t["name"] = self.names
+        for col, unit in COLUMNS.items():
+            t[col] = self.column(col) * u.Unit(unit)
+        t.meta["name"] = self.source
+        return t
+
+    def to_dict(self):
+        """JSON-ready form: the source and one dict per association (default units)."""
+        from dataclasses import asdict
+
+        return {"source": self.source, "associations": [asdict(a) for a in self.associations]}
+
 
 def read_associations(path):
-    """Read an association table (ECSV or CSV).
+    """Read an association table (ECSV or CSV), or validate one already in memory.
 
     Parameters
     ----------
-    path : str or Path
+    path : str or Path, or astropy Table / QTable, or AssociationTable
+        A file name; a Table or QTable (columns with units are converted, plain
+        columns are taken in the default units); an AssociationTable is
+        returned as it is.
 
     Returns
     -------
@@ -116,6 +136,10 @@ def read_associations(path):
     """
     from astropy.table import Table
 
+    if isinstance(path, AssociationTable):
+        return path
+    if isinstance(path, Table):
+        return associations_from_table(path, source=str(path.meta.get("name", "table")))
     path = Path(path)
     if not path.is_file():
         raise InputError("[trace] associations", f"file not found: {path}")
@@ -131,11 +155,29 @@ def _cell(table, col, i):
     v = table[col][i]
     if np.ma.is_masked(v):
         return np.nan
+    if isinstance(v, u.Quantity):  # QTable cell: the column's unit is applied through its factor
+        return v.value
     return v
 
 
 def associations_from_table(table, source="table"):
-    """Validate an astropy Table (or anything ``Table(...)`` accepts) as associations."""
+    """Validate an astropy Table or QTable (or anything ``Table(...)`` accepts) as associations.
+
+    Columns with units (Table column units or QTable Quantity columns) are
+    converted to the default units of :data:`COLUMNS`; plain columns are taken
+    in those units.
+
+    Examples
+    --------
+    >>> import astropy.units as u
+    >>> from astropy.table import QTable
+    >>> t = QTable({"name": ["Vela Nova 9"], "ra": [201.5] * u.deg, "dec": [-41.2] * u.deg,
+    ...             "distance": [0.41] * u.kpc, "pm_ra_cosdec": [-3.1] * u.mas / u.yr,
+    ...             "pm_dec": [-2.2] * u.mas / u.yr, "radial_velocity": [4.0] * u.km / u.s,
+    ...             "radius": [18.0] * u.pc, "age": [6.5] * u.Myr})
+    >>> associations_from_table(t)[0].distance
+    410.0
+    """
     from astropy.table import Table
 
     table = Table(table) if not isinstance(table, Table) else table

@@ -1,0 +1,414 @@
+"""Python front doors: the few functions a notebook needs, each also ``kinage.<name>``.
+
+Every front door takes a :class:`~kinage.io.scenario.Scenario`, a path of a
+scenario file or a mapping of tables (as :func:`scenario_from_dict` takes),
+returns the stage's result object (``to_dict()``, ``summary()``,
+``plot(kind=None, ax=None)``, ``write_products(out_dir)``) and raises each
+warning the result records as a :class:`~kinage.warnings.KinageWarning`
+subclass (and logs it on ``logging.getLogger("kinage")``).
+
+Examples
+--------
+>>> import astropy.units as u
+>>> from astropy.coordinates import SkyCoord
+>>> import kinage
+>>> coord = SkyCoord(ra=148.31 * u.deg, dec=-23.72 * u.deg, distance=510 * u.pc,
+...                  pm_ra_cosdec=21.0 * u.mas / u.yr, pm_dec=-9.5 * u.mas / u.yr)
+>>> star = kinage.star_from_skycoord(coord, name="Invented-1", spin_period=0.6271 * u.s,
+...                                  spin_period_derivative=2.1e-15, distance_error=40 * u.pc)
+>>> star["distance"], star["pm_dec"]
+(<Quantity 510. pc>, <Quantity -9.5 mas / yr>)
+>>> scenario = kinage.scenario_from_dict({"star": star, "ages": {"braking_index": 3}})
+>>> scenario.star.spin_period
+<Quantity 0.6271 s>
+"""
+
+from pathlib import Path
+
+from .errors import InputError
+from .warnings import AgesWarning, FitWarning, ForecastWarning, KinageWarning, emit
+
+__all__ = ["load_scenario", "scenario_from_dict", "star_from_skycoord", "as_scenario", "forecast", "simulate",
+           "fit", "trace", "compare_ages", "run"]
+
+_PLACEHOLDER = "<in-memory association table>"
+
+
+# ------------------------------------------------------------------ scenarios
+def load_scenario(path, **kwargs):
+    """Read and validate a scenario TOML file (see :func:`kinage.io.scenario.load_scenario`).
+
+    Parameters
+    ----------
+    path : str or Path
+
+    Returns
+    -------
+    Scenario
+    """
+    from .io.scenario import load_scenario as _load
+
+    return _load(path, **kwargs)
+
+
+def _plain(value, key):
+    """A Python value the scenario reader understands, from numpy / astropy objects."""
+    import astropy.units as u
+    import numpy as np
+    from astropy.time import Time
+
+    if isinstance(value, Path):
+        return str(value)
+    if isinstance(value, np.bool_):
+        return bool(value)
+    if isinstance(value, np.integer):
+        return int(value)
+    if isinstance(value, np.floating):
+        return float(value)
+    if isinstance(value, Time):
+        return [t for t in value] if not value.isscalar else value
+    if key is None:
+        return value
+    if isinstance(value, u.Quantity):
+        if key.kind == "floats":  # e.g. [ages] masses (solar masses)
+            unit = u.solMass if key.name == "masses" else u.dimensionless_unscaled
+            return [float(x) for x in np.atleast_1d(value.to_value(unit))]
+        if key.kind == "float" and value.isscalar:
+            unit = 1 / u.yr if key.name == "visits_per_year" else u.dimensionless_unscaled
+            try:
+                return float(value.to_value(unit))
+            except u.UnitConversionError:
+                raise InputError(f"[{key.name}]", f"expected a number in {unit.to_string() or 'dimensionless units'}"
+                                 f" (got {value})") from None
+        if key.kind == "int" and value.isscalar and value.unit == u.dimensionless_unscaled:
+            return int(value.value)
+    if isinstance(value, np.ndarray) and not isinstance(value, u.Quantity):
+        return value.tolist()
+    return value
+
+
+def _is_table(obj):
+    from astropy.table import Table
+
+    from .associations.table import AssociationTable
+
+    return isinstance(obj, (Table, AssociationTable))
+
+
+def scenario_from_dict(mapping, base_dir=".", source=None, **kwargs):
+    """Validate a scenario given as a mapping of tables.
+
+    Parameters
+    ----------
+    mapping : dict
+        ``{"star": {...}, "campaign": {...}, "trace": {...}, "ages": {...}}``
+        (and optionally ``"title"``).  Values may be numbers in the documented
+        unit (``kinage keys``), strings with units (``"4.2 mas"``), astropy
+        ``Quantity``, ``Angle`` or ``Time`` objects, numpy scalars or Paths.
+        ``trace.associations`` may be a path, an astropy ``Table`` or
+        ``QTable``, or an :class:`~kinage.associations.AssociationTable`: an
+        in-memory table needs no file.  ``trace.associations`` may also be left
+        out and given to :func:`trace` instead.
+    base_dir : str or Path
+        Folder against which relative paths resolve.
+    source : str, optional
+        Name used in error messages.
+
+    Returns
+    -------
+    Scenario
+
+    Raises
+    ------
+    ScenarioError
+        Listing every problem, each naming its table and key.
+    """
+    from .associations.table import read_associations
+    from .io.scenario import scenario_from_dict as _from_dict
+    from .io.schema import SCHEMA
+
+    if not isinstance(mapping, dict):
+        return _from_dict(mapping, base_dir=base_dir, source=source, **kwargs)
+    raw, assoc = {}, None
+    for table, content in mapping.items():
+        if isinstance(content, dict) and table in SCHEMA:
+            keys = SCHEMA[table]
+            raw[table] = {}
+            for name, value in content.items():
+                if table == "trace" and name == "associations" and _is_table(value):
+                    assoc = read_associations(value)
+                    raw[table][name] = _PLACEHOLDER
+                    continue
+                base = name[:-len("_error")] if name.endswith("_error") and name not in keys else name
+                raw[table][name] = _plain(value, keys.get(base))
+        else:
+            raw[table] = content
+    allow = set(kwargs.pop("allow_missing", ()))
+    deferred = "trace" in raw and isinstance(raw["trace"], dict) and "associations" not in raw["trace"]
+    if deferred:  # the table may come with kinage.trace(..., associations=...)
+        raw["trace"]["associations"] = _PLACEHOLDER
+    if assoc is not None or deferred:
+        allow.add("trace.associations")
+    scn = _from_dict(raw, base_dir=base_dir, source=source, allow_missing=tuple(allow), **kwargs)
+    if assoc is not None or deferred:
+        scn = scn.replace(trace=scn.trace.replace(associations=assoc))
+        if deferred:
+            raw["trace"].pop("associations", None)
+    return scn
+
+
+def as_scenario(scenario):
+    """A Scenario from a Scenario, a scenario file path or a mapping of tables."""
+    from .io.scenario import Scenario
+
+    if isinstance(scenario, Scenario):
+        return scenario
+    if isinstance(scenario, (str, Path)):
+        return load_scenario(scenario)
+    if isinstance(scenario, dict):
+        return scenario_from_dict(scenario)
+    raise InputError("scenario", f"expected a Scenario, a scenario file path or a dict of tables "
+                     f"(got {type(scenario).__name__})")
+
+
+def star_from_skycoord(coord, **values):
+    """The ``[star]`` table from an astropy ``SkyCoord``.
+
+    Parameters
+    ----------
+    coord : astropy.coordinates.SkyCoord
+        Scalar, any frame (converted to ICRS).  Its distance (if it has one)
+        becomes ``distance``, its proper motions ``pm_ra_cosdec`` / ``pm_dec``,
+        its radial velocity ``radial_velocity`` and its ``obstime`` ``epoch``.
+    **values
+        Further ``[star]`` keys: errors (``distance_error``, ``pm_dec_error``,
+        ...), ``parallax`` when the SkyCoord has no distance, ``name``, spin
+        (``spin_period``, ``spin_period_derivative``), ``temperature``, ...
+        Values given here win over the SkyCoord's.
+
+    Returns
+    -------
+    dict
+        Validated ``[star]`` mapping with Quantities, ready for
+        :func:`scenario_from_dict` as ``{"star": ...}``.
+
+    Raises
+    ------
+    InputError
+        When ``coord`` is not a scalar SkyCoord, or a value is invalid.
+    """
+    import astropy.units as u
+    from astropy.coordinates import SkyCoord, UnitSphericalRepresentation
+
+    if not isinstance(coord, SkyCoord):
+        raise InputError("coord", f"expected an astropy SkyCoord (got {type(coord).__name__})")
+    if not coord.isscalar:
+        raise InputError("coord", f"expected one position (got a SkyCoord of shape {coord.shape})")
+    icrs = coord.icrs
+    star = {"ra": icrs.ra.to(u.deg), "dec": icrs.dec.to(u.deg)}
+    data = coord.data
+    if not isinstance(data, UnitSphericalRepresentation) and icrs.distance.unit.physical_type == "length":
+        star["distance"] = icrs.distance.to(u.pc)
+    if "s" in data.differentials:
+        diff = icrs.data.differentials["s"]
+        if hasattr(diff, "d_lon_coslat") or hasattr(diff, "d_lon"):
+            star["pm_ra_cosdec"] = icrs.pm_ra_cosdec.to(u.mas / u.yr)
+            star["pm_dec"] = icrs.pm_dec.to(u.mas / u.yr)
+        if hasattr(diff, "d_distance"):
+            star["radial_velocity"] = icrs.radial_velocity.to(u.km / u.s)
+    if coord.obstime is not None:
+        star["epoch"] = coord.obstime
+    if "parallax" in values and "distance" in star and "distance" not in values:
+        star.pop("distance")  # an explicit parallax replaces the SkyCoord's distance
+    star.update(values)
+    scenario_from_dict({"star": star}, source="star_from_skycoord")  # validate now, naming the key
+    return star
+
+
+# ------------------------------------------------------------------ stages
+def _warn(result, category):
+    emit(getattr(result, "warnings", None) or [], category, stacklevel=4)
+    return result
+
+
+def forecast(scenario, *, progress=False, **kwargs):
+    """Forecast what a timing campaign measures (:func:`kinage.timing.forecast`).
+
+    Parameters
+    ----------
+    scenario : Scenario, path or dict
+        Needs ``[star]`` ra, dec (and spin for photon TOA errors) and ``[campaign]``.
+    progress : bool
+        Show a progress bar (a widget in Jupyter).
+    **kwargs
+        Passed on (e.g. ``method``).
+
+    Returns
+    -------
+    ForecastResult
+    """
+    from .timing import forecast as _forecast
+
+    return _warn(_forecast(as_scenario(scenario), progress=progress, **kwargs), ForecastWarning)
+
+
+def simulate(scenario, *, rng=None, **kwargs):
+    """Simulate arrival times for the scenario's campaign (:func:`kinage.timing.simulate_toas`).
+
+    Returns
+    -------
+    SimulationResult
+        Its ``table`` is a TOA table :func:`fit` accepts.
+    """
+    from .timing import simulate_toas
+
+    return _warn(simulate_toas(as_scenario(scenario), rng=rng, **kwargs), FitWarning)
+
+
+def fit(toas, scenario, **kwargs):
+    """Fit arrival times (:func:`kinage.timing.fit_toas`).
+
+    Parameters
+    ----------
+    toas : str, Path or astropy Table
+        A TOA file (ECSV / CSV) or a table with columns ``mjd`` and ``error``.
+    scenario : Scenario, path or dict
+        ``[star]`` starting values and spin; ``[campaign]`` noise and priors.
+
+    Returns
+    -------
+    FitResult
+    """
+    from .timing import fit_toas
+
+    return _warn(fit_toas(toas, as_scenario(scenario), **kwargs), FitWarning)
+
+
+def _with_associations(scn, associations):
+    """The scenario with its [trace] table holding an in-memory AssociationTable."""
+    from .associations.table import read_associations
+
+    if associations is None:
+        if scn.trace is None or scn.trace.get("associations") is None:
+            raise InputError("[trace] associations", "no association table: give associations=<path, Table or "
+                             "QTable> or [trace] associations")
+        return scn, read_associations(scn.trace.get("associations"))
+    table = read_associations(associations)
+    if scn.trace is None:
+        raw = {k: v for k, v in (scn.raw or {}).items() if k != "trace"}
+        raw.setdefault("star", {})
+        raw["trace"] = {"associations": table}
+        base = scn.path.parent if scn.path is not None else "."
+        scn = scenario_from_dict(raw, base_dir=base).replace(path=scn.path, sha256=scn.sha256)
+    else:
+        scn = scn.replace(trace=scn.trace.replace(associations=table))
+    return scn, table
+
+
+def trace(scenario, associations=None, *, solution=None, rng=None, samples=None, potential=None, progress=False,
+          **kwargs):
+    """Trace the star back to candidate birth associations (:func:`kinage.orbits.trace`).
+
+    Parameters
+    ----------
+    scenario : Scenario, path or dict
+        ``[star]`` astrometry; ``[trace]`` settings (defaults when absent).
+    associations : str, Path, astropy Table, QTable or AssociationTable, optional
+        The candidate associations; default ``[trace] associations``.  No file
+        is needed for a table.
+    solution : AstrometricSolution or FitResult, optional
+        Astrometry to trace (a fit result is combined with the ``[star]``
+        values); default the ``[star]`` values.
+    rng : numpy.random.Generator | int | None
+        Default ``[trace] seed`` (1 when absent).
+    samples : int, optional
+        Overrides ``[trace] samples``.
+    potential : str, optional
+        Overrides ``[trace] potential``.
+    progress : bool
+        Show a progress bar (a widget in Jupyter).
+
+    Returns
+    -------
+    TraceResult
+    """
+    from .orbits import trace as _trace
+    from .pipeline import solution_for_trace
+
+    scn, table = _with_associations(as_scenario(scenario), associations)
+    if solution is not None and hasattr(solution, "solution") and not hasattr(solution, "covariance"):
+        solution = solution_for_trace(scn, solution)
+    return _trace(scn, solution=solution, rng=rng, samples=samples, potential=potential, progress=progress,
+                  associations=table, **kwargs)
+
+
+def compare_ages(scenario, trace_result=None, *, kinematic_age=None, rng=None, **kwargs):
+    """Compare the kinematic, spin-down and cooling ages (:func:`kinage.ages.compare_ages`).
+
+    Parameters
+    ----------
+    scenario : Scenario, path or dict
+        ``[star]`` spin and temperature; ``[ages]`` settings (defaults when absent).
+    trace_result : TraceResult, optional
+        Its favoured association's encounter times give the kinematic age
+        (else its plane-crossing times).
+    kinematic_age : Quantity or ndarray (yr), optional
+        Kinematic-age samples (a scalar is one exact value) instead.
+    rng : numpy.random.Generator | int | None
+
+    Returns
+    -------
+    AgesResult
+    """
+    import numpy as np
+
+    from ._units import to_plain
+    from .ages import compare_ages as _compare
+    from .pipeline import kinematic_age_input
+
+    scn = as_scenario(scenario)
+    if kinematic_age is not None:
+        samples = np.atleast_1d(np.asarray(to_plain(kinematic_age, "yr", "kinematic_age"), float))
+        label = kwargs.pop("kinematic_age_source", "given to kinage.compare_ages")
+    else:
+        samples, label = kinematic_age_input(scn, trace_result)
+        label = kwargs.pop("kinematic_age_source", label)
+    result = _compare(scn, kinematic_age_samples=samples, kinematic_age_source=label, rng=rng, **kwargs)
+    return _warn(result, AgesWarning)
+
+
+def run(scenario, out_dir, *, seed=None, samples=None, progress=False, report=True, products=True, log=None):
+    """Run every stage the scenario asks for and write results, figures and a report.
+
+    Parameters
+    ----------
+    scenario : Scenario, path or dict
+    out_dir : str or Path
+        Created if needed; ``results.json``, one folder per stage, ``report.html``.
+    seed : int, optional
+        Overrides ``[trace] seed``.
+    samples : int, optional
+        Overrides ``[trace] samples``.
+    progress : bool
+    report, products : bool
+        Write the report / each stage's tables and figures.
+    log : callable, optional
+        Called with one line per stage (default: the ``kinage`` logger).
+
+    Returns
+    -------
+    RunResult
+        ``stages`` maps stage names to results; a failed stage is named in
+        ``failed`` and raised as a :class:`KinageWarning`.
+    """
+    from .pipeline import run_pipeline
+    from .warnings import logger
+
+    scn = as_scenario(scenario)
+    result = run_pipeline(scn, out_dir, seed=seed, samples=samples, progress=progress, report=report,
+                          products=products, log=log or logger.info)
+    for stage, res in result.stages.items():
+        category = {"forecast": ForecastWarning, "fit": FitWarning, "ages": AgesWarning}.get(stage, KinageWarning)
+        emit(getattr(res, "warnings", None) or [], category)
+    emit([f"stage '{s}' failed: {m}" for s, m in result.failed.items()], KinageWarning)
+    return result
