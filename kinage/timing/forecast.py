@@ -26,13 +26,16 @@ from . import inputs
 from .gls import covariance_from_fisher, fisher_matrix
 from .model import TimeGrid, TimingModel
 from .noise import NoiseModel
-from .plan import SunWindow, make_plan, regular_epochs
+from .plan import SCHEDULES, SunWindow, make_plan, regular_epochs, schedule_of
 from .priors import prior_solution
 from .forecast_result import ForecastResult
 
-__all__ = ["forecast", "astrometric_covariance", "pm_error_along"]
+__all__ = ["forecast", "astrometric_covariance", "pm_error_along", "compare_schedules", "schedule_warnings",
+           "ALIAS_FACTOR"]
 
 _YEAR_D = 365.25
+#: warn when the even plan's parallax error exceeds the optimised one by more than this factor
+ALIAS_FACTOR = 2.0
 
 
 def astrometric_covariance(model, grid, toa_errors, campaign, span_s=None, method="woodbury", astro=None):
@@ -82,12 +85,16 @@ def pm_error_along(cov, direction):
     return float(np.sqrt(direction @ c @ direction))
 
 
-def _full_plan(scenario, ra, dec, max_b):
-    """Plan at the scenario's own baseline, and the regular plan out to ``max_b`` for the sweep."""
+def _full_plan(scenario, ra, dec, max_b, direction=None):
+    """Plan at the scenario's own baseline, the regular plan out to ``max_b`` for the sweep, and the window."""
     c = scenario.campaign
     angle = c.value("sun_avoidance", "deg", 45.0)
     plan = table_errors = None
+    schedule = schedule_of(c)
     if c.get("toas") is not None and c.get("dates") is None and c.get("start") is None:
+        if schedule != "even":
+            raise InputError("[campaign] schedule", f"'{schedule}' needs start, baseline and visits_per_year; "
+                             "the plan here is taken from the TOA table")
         plan, table_errors = _plan_from_toas(c, angle)
     elif c.get("dates") is not None:
         plan = make_plan(c, ra, dec)
@@ -101,12 +108,12 @@ def _full_plan(scenario, ra, dec, max_b):
         vpy = c.get("visits_per_year")
         top = max(max_b, c.value("baseline", "yr"))
         window = SunWindow.compute(ra, dec, angle, start, start + top * _YEAR_D)
-        plan = make_plan(c, ra, dec, window=window)
+        plan = make_plan(c, ra, dec, window=window, direction=direction)
     # the sweep keeps at most 120 visits a year; a denser cadence is represented by fewer visits with
     # proportionally smaller errors (same information N / sigma^2 per year)
     vpy_sweep = min(vpy, 120.0)
     nominal = regular_epochs(start, top, vpy_sweep)
-    return plan, window.shift(nominal), nominal, vpy_sweep, table_errors, np.sqrt(vpy_sweep / vpy)
+    return plan, window.shift(nominal), nominal, vpy_sweep, table_errors, np.sqrt(vpy_sweep / vpy), window
 
 
 def _plan_from_toas(c, angle):
@@ -120,7 +127,7 @@ def _plan_from_toas(c, angle):
     mjd = tab["mjd"].tdb.to_value("mjd", "float")
     exp = u.Quantity(tab["exposure"]).to_value(u.s) if "exposure" in tab.colnames else np.full(mjd.size, np.nan)
     plan = ObservingPlan(mjd, exp, np.zeros(mjd.size), (mjd[-1] - mjd[0]) / _YEAR_D, angle,
-                         ["plan taken from the TOA table"])
+                         ["plan taken from the TOA table"], schedule="dates")
     return plan, u.Quantity(tab["error"]).to_value(u.s)
 
 
@@ -151,7 +158,9 @@ def forecast(scenario, *, progress=False, method="woodbury"):
     max_b = c.value("max_baseline", "yr", 20.0)
     target_sig = c.get("target_significance", 3.0)
 
-    plan, sweep_mjd, sweep_nominal, vpy, table_errors, sweep_scale = _full_plan(scenario, ra, dec, max_b)
+    motion = inputs.expected_proper_motion(scenario)
+    plan, sweep_mjd, sweep_nominal, vpy, table_errors, sweep_scale, window = _full_plan(
+        scenario, ra, dec, max_b, motion.direction)
     warnings += plan.notes
     if plan.n_visits <= model.n_parameters:
         raise InputError("[campaign] baseline",
@@ -166,7 +175,6 @@ def forecast(scenario, *, progress=False, method="woodbury"):
         warnings.append(f"a visit detects the pulsation at only {photon['detection_sigma_per_visit']:.1f} sigma "
                         f"(expected Z^2_{photon['harmonics']} = {photon['expected_z2']:.1f}): too short to detect "
                         "the pulse, so no TOA exists; the errors below assume TOAs anyway")
-    motion = inputs.expected_proper_motion(scenario)
     if motion.note:
         warnings.append(motion.note)
     astro0 = _scenario_astro(star)
@@ -175,6 +183,11 @@ def forecast(scenario, *, progress=False, method="woodbury"):
     solution = AstrometricSolution(epoch, ra, dec, astro0, cov, source="forecast")
     sig_pm = pm_error_along(cov, motion.direction)
     pm_sig = motion.pm_masyr / sig_pm if motion.pm_masyr is not None else None
+    schedules = None
+    if plan.schedule != "dates":
+        schedules = compare_schedules(c, model, plan, cov, errors, motion, window, ra, dec, epoch, method,
+                                      np.nan_to_num(astro0))
+        warnings += schedule_warnings(schedules, plan.schedule)
 
     sweep = _baseline_sweep(model, c, star, sweep_mjd, sweep_nominal, errors * sweep_scale, motion, vpy, max_b,
                             progress)
@@ -197,7 +210,7 @@ def forecast(scenario, *, progress=False, method="woodbury"):
         solution=solution, plan=plan, toa_errors=errors, photon=photon, motion=motion,
         pm_error_along_motion=sig_pm, pm_significance=pm_sig, target_significance=target_sig,
         max_baseline_yr=max_b, baseline_needed_yr=needed, sweep=sweep, reverse=reverse,
-        phase_connection=conn, combined=combined, warnings=warnings,
+        phase_connection=conn, combined=combined, warnings=warnings, schedules=schedules,
         parameter_sets=list(motion.parameter_sets), red_noise=c.value("red_noise_amplitude", None, 0.0) > 0,
     )
 
@@ -305,3 +318,82 @@ def _reverse_out(out, k, errors, plan, c):
     out["photon_factor"] = float(1 / k**2)
     out["exposure_needed_s"] = float(exp0 / k**2) if np.isfinite(exp0) and c.get("toa_error") is None else None
     return out
+
+
+def compare_schedules(c, model, plan, cov, errors, motion, window, ra, dec, epoch, method="woodbury", astro=None):
+    """Errors of the three schedules with the same visits, TOA errors and noise.
+
+    The scenario's own plan keeps its covariance ``cov``; the other schedules
+    are built by :func:`kinage.timing.plan.make_plan` on the same Sun window
+    and evaluated with the full noise model (red noise included).
+
+    Returns
+    -------
+    dict
+        schedule name -> ``parallax_error_mas``, ``pm_error_along_motion_masyr``,
+        ``pm_significance``, ``n_visits``, ``span_yr``, ``mjd`` (list of visit MJDs, TDB).
+    """
+    out = {}
+    for name in SCHEDULES:
+        if name == plan.schedule:
+            p, cv = plan, cov
+        else:
+            try:
+                p = make_plan(c, ra, dec, window=window, direction=motion.direction, schedule=name)
+                grid = TimeGrid.from_times(p.times, epoch)
+                cv = astrometric_covariance(model, grid, errors, c, method=method, astro=astro)
+            except Exception as exc:  # noqa: BLE001 - an alternative that cannot be built is reported, not fatal
+                out[name] = {"error": str(exc)}
+                continue
+        spm = pm_error_along(cv, motion.direction)
+        out[name] = {
+            "parallax_error_mas": float(np.sqrt(cv[4, 4])),
+            "pm_error_along_motion_masyr": spm,
+            "pm_significance": motion.pm_masyr / spm if motion.pm_masyr is not None else None,
+            "n_visits": p.n_visits,
+            "span_yr": p.span_yr,
+            "mjd": [float(m) for m in p.mjd],
+        }
+    return out
+
+
+def _date_ranges(mjd):
+    """Visit days of one year as readable ranges ('2028-03-18 to 03-21, 2028-09-15')."""
+    from astropy.time import Time
+
+    days = np.sort(np.asarray(mjd, float))
+    groups = np.split(days, np.flatnonzero(np.diff(days) > 10) + 1)
+    parts = []
+    for g in groups:
+        a, b = (Time(g[0], format="mjd", scale="tdb").isot[:10], Time(g[-1], format="mjd", scale="tdb").isot[:10])
+        parts.append(a if a == b else f"{a} to {b[5:]}")
+    return ", ".join(parts)
+
+
+def schedule_warnings(schedules, current):
+    """Warnings when the scenario's schedule loses much against the optimised ones."""
+    out = []
+    ev, px = schedules.get("even", {}), schedules.get("parallax", {})
+    if current == "even" and "parallax_error_mas" in ev and "parallax_error_mas" in px:
+        ratio = ev["parallax_error_mas"] / px["parallax_error_mas"]
+        if ratio > ALIAS_FACTOR:
+            mjd = np.asarray(px["mjd"])
+            first = mjd[mjd < ev["mjd"][0] + _YEAR_D]
+            out.append(f"the evenly spaced visits give a parallax error {_times(ratio)} larger than the same number "
+                       f"of visits placed near the parallax extremes (schedule = \"parallax\"; in the first year on "
+                       f"{_date_ranges(first)}, and near the same days in later years): the even cadence samples "
+                       "the half-yearly parallax signature near its zero crossings")
+    mo = schedules.get("motion", {})
+    if current == "even" and "pm_error_along_motion_masyr" in ev and "pm_error_along_motion_masyr" in mo:
+        ratio = ev["pm_error_along_motion_masyr"] / mo["pm_error_along_motion_masyr"]
+        if ratio > ALIAS_FACTOR:
+            out.append(f"the evenly spaced visits give a proper-motion error {_times(ratio)} larger than the same "
+                       "number of visits placed for the motion (schedule = \"motion\")")
+    return out
+
+
+def _times(ratio):
+    """'2.4 times', '40 times', 'more than a thousand times'."""
+    if ratio >= 1000:
+        return "more than a thousand times"
+    return f"{ratio:.2g} times" if ratio < 10 else f"{ratio:.0f} times"

@@ -6,6 +6,7 @@ from pathlib import Path
 import numpy as np
 
 from ..astrometry import PARAMETERS, AstrometricSolution
+from .._results import ResultDisplay
 from ..io.results import atomic_path
 from .inputs import ExpectedMotion
 from .plan import ObservingPlan
@@ -23,8 +24,8 @@ TIMING_ASSUMPTIONS = [
 ]
 
 
-@dataclass
-class ForecastResult:
+@dataclass(repr=False)
+class ForecastResult(ResultDisplay):
     """Forecast astrometric precision of a timing campaign.
 
     Attributes
@@ -47,6 +48,9 @@ class ForecastResult:
         TOA error / exposure needed for the target proper-motion error.
     combined : AstrometricSolution or None
         Forecast combined with the external prior, when one is given.
+    schedules : dict or None
+        Errors of the 'even', 'parallax' and 'motion' schedules with the same visits
+        (:func:`kinage.timing.forecast.compare_schedules`); None for explicit dates or a TOA table.
     """
 
     solution: AstrometricSolution
@@ -66,6 +70,7 @@ class ForecastResult:
     warnings: list = field(default_factory=list)
     parameter_sets: list = field(default_factory=list)
     red_noise: bool = False
+    schedules: dict | None = None
     assumptions: list = field(default_factory=lambda: list(TIMING_ASSUMPTIONS) + [
         "Fisher (Cramér–Rao) errors of the linearised model: reached by a fit only at high signal-to-noise",
         "photon-limited TOA error from the Cramér–Rao bound of the pulse phase (Ray et al. 2011, ApJS 194, 17)",
@@ -105,44 +110,30 @@ class ForecastResult:
             "visits_moved_for_sun": int(np.count_nonzero(self.plan.shift_days)),
             "sweep": {k: np.asarray(v).tolist() for k, v in self.sweep.items()},
             "warnings": list(self.warnings),
+            "schedule": self.plan.schedule,
+            "schedules": self.schedules,
+            "constrained": self.constrained(),
         }
         if self.combined is not None:
             out["sigma_with_prior"] = self.combined.sigma_dict()
         return out
 
+    def constrained(self):
+        """Whether timing's errors are within what the linearised model can mean.
+
+        Returns
+        -------
+        dict
+            ``proper_motion``, ``parallax``, ``position`` -> bool (see :mod:`kinage.timing.forecast_words`).
+        """
+        from .forecast_words import constrained
+
+        return constrained(self.solution.sigma_dict(), self.pm_error_along_motion)
+
     def summary(self):
-        sig = self.solution.sigma_dict()
-        s = (f"With {self.plan.n_visits} visits over {self.plan.span_yr:.1f} yr and a median TOA error of "
-             f"{self.toa_error_s * 1e3:.3g} ms, timing gives a proper-motion error of "
-             f"{sig['pm_ra_cosdec_masyr']:.3g} (ra*cos dec) / {sig['pm_dec_masyr']:.3g} (dec) mas/yr "
-             f"and a parallax error of {sig['parallax_mas']:.3g} mas.")
-        if self.pm_significance is None:
-            return s + " The expected proper motion is unknown (no distance), so no significance is given."
-        ok = self.pm_significance >= self.target_significance
-        s += (f" The expected motion of {self.motion.pm_masyr:.3g} mas/yr would be detected at "
-              f"{self.pm_significance:.2g} sigma" if ok else
-              f" The expected motion of {self.motion.pm_masyr:.3g} mas/yr would reach only "
-              f"{self.pm_significance:.2g} sigma")
-        if ok:
-            s += f" (target {self.target_significance:g} sigma reached)."
-        elif self.baseline_needed_yr is None:
-            s += f"; no baseline up to {self.max_baseline_yr:g} yr reaches {self.target_significance:g} sigma at this cadence"
-        else:
-            s += f"; {self.target_significance:g} sigma needs a baseline of {self.baseline_needed_yr:.1f} yr"
-        factor = self.reverse.get("photon_factor")
-        if not ok and factor is not None:
-            s += (f", or TOA errors of {self.reverse['toa_error_needed_s'] * 1e3:.3g} ms ({factor:.3g} times more "
-                  "photons per visit) at this baseline"
-                  + (f" ({self.reverse['exposure_needed_s'] / 1e3:.3g} ks per visit)."
-                     if self.reverse.get("exposure_needed_s") else "."))
-        elif not ok:
-            s += "."
-        photon = self.photon or {}
-        if photon.get("detectable") is False:
-            s = (f"Each visit detects the pulsation at only {photon['detection_sigma_per_visit']:.2g} sigma "
-                 f"(expected Z^2_{photon.get('harmonics', 2)} = {photon['expected_z2']:.3g}), so no TOA can be "
-                 "measured with this plan; the numbers that follow assume TOAs anyway. ") + s
-        return s
+        from .forecast_words import forecast_summary
+
+        return forecast_summary(self)
 
     def sweep_table(self):
         """The baseline sweep as an astropy Table with units."""
@@ -168,12 +159,16 @@ class ForecastResult:
         t["exposure"] = self.plan.exposure * u.s
         t["toa_error"] = self.toa_errors * u.s
         t["sun_shift"] = self.plan.shift_days * u.d
+        t["date"] = self.plan.times.isot
         t.meta["time_scale"] = "tdb"
+        t.meta["schedule"] = self.plan.schedule
+        t.meta["sun_avoidance_deg"] = self.plan.sun_avoidance_deg
         return t
 
     def write_products(self, out_dir):
-        """Write forecast_sweep.ecsv, forecast_plan.ecsv and forecast_baseline.png."""
-        from .plots import forecast_figure
+        """Write forecast_sweep.ecsv, forecast_plan.ecsv, forecast_baseline.png and forecast_plan.png."""
+        from ..report.style import save_figure
+        from .plots import forecast_figure, plan_figure
 
         out = Path(out_dir)
         out.mkdir(parents=True, exist_ok=True)
@@ -182,5 +177,6 @@ class ForecastResult:
             with atomic_path(out / name) as tmp:
                 tab.write(tmp, format="ascii.ecsv", overwrite=True)
             paths.append(out / name)
-        paths.append(Path(forecast_figure(self, out / "forecast_baseline.png")))
+        for name, draw in (("forecast_baseline.png", forecast_figure), ("forecast_plan.png", plan_figure)):
+            paths.append(Path(save_figure(draw(self), out / name)))
         return paths

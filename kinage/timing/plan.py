@@ -9,6 +9,14 @@ astropy's :func:`~astropy.coordinates.get_sun` and compared with the source's
 ICRS position.  Regular visits that fall inside the exclusion window move to
 the nearest allowed day (a day not already taken by another visit); explicit
 dates inside it are an error that names them.
+
+``schedule`` chooses where the visits of a start/baseline plan go:
+``"even"`` (the regular cadence above), ``"parallax"`` (minimum parallax
+error) or ``"motion"`` (minimum proper-motion error along the expected
+direction of motion, direction-averaged when unknown).  The optimised
+schedules keep the even plan's number of visits in every campaign year, put
+each visit at 00:00 TDB of a Sun-allowed day (one visit a day) and marginalise
+every other timing parameter; the optimiser is :mod:`kinage.timing.design`.
 """
 
 from dataclasses import dataclass, field
@@ -18,10 +26,15 @@ import numpy as np
 from astropy.time import Time
 
 from ..errors import InputError
+from .design import SCHEDULES, exchange_design, year_blocks
 
-__all__ = ["ObservingPlan", "SunWindow", "sun_separation", "regular_epochs", "make_plan"]
+__all__ = ["ObservingPlan", "SunWindow", "sun_separation", "regular_epochs", "make_plan", "optimised_epochs",
+           "schedule_of", "schedule_combinations", "candidate_rows", "SUN_MARGIN_DEG", "SCHEDULES"]
 
 _YEAR_D = 365.25
+#: optimised visits keep this much more than the Sun-avoidance angle, deg (common practice, no source:
+#: covers the ~0.01 deg differences between ways of computing the Sun's direction)
+SUN_MARGIN_DEG = 0.05
 
 
 def sun_separation(mjd_tdb, ra_deg, dec_deg):
@@ -67,6 +80,8 @@ class SunWindow:
     angle_deg: float
     mjd: np.ndarray
     allowed: np.ndarray
+    separation_deg: np.ndarray | None = None
+    _rows: dict = field(default_factory=dict, repr=False, compare=False)
 
     @classmethod
     def compute(cls, ra_deg, dec_deg, angle_deg, mjd_start, mjd_stop):
@@ -75,7 +90,23 @@ class SunWindow:
         if angle_deg <= 0:
             return cls(ra_deg, dec_deg, angle_deg, grid, np.ones(grid.size, bool))
         sep = sun_separation(grid, ra_deg, dec_deg)
-        return cls(ra_deg, dec_deg, angle_deg, grid, sep >= angle_deg)
+        return cls(ra_deg, dec_deg, angle_deg, grid, sep >= angle_deg, sep)
+
+    def safe(self, margin_deg=SUN_MARGIN_DEG):
+        """Days at least ``angle + margin`` from the Sun (all days when there is no constraint)."""
+        if self.separation_deg is None:
+            return self.allowed.copy()
+        return self.separation_deg >= self.angle_deg + margin_deg
+
+    def check_cadence(self, start_mjd, visits_per_year):
+        """InputError when a year from ``start_mjd`` has fewer allowed days than visits."""
+        day0 = np.floor(start_mjd)
+        year = (self.mjd >= day0) & (self.mjd < day0 + 365)
+        n_ok = int(np.count_nonzero(self.allowed[year]))
+        if n_ok < np.ceil(visits_per_year - 1e-9):
+            raise InputError("[campaign] visits_per_year",
+                             f"{visits_per_year:g} visits a year but only {n_ok} days a year keep "
+                             f"{self.angle_deg:g} deg from the Sun: lower visits_per_year or sun_avoidance")
 
     def shift(self, mjd):
         """Move epochs to the nearest allowed, not yet used day; returns new MJDs.
@@ -131,6 +162,9 @@ class ObservingPlan:
     requested_baseline_yr : float
         Baseline asked for (the span of explicit dates when dates are given).
     sun_avoidance_deg : float
+    notes : list of str
+    schedule : str
+        ``'even'``, ``'parallax'``, ``'motion'`` or ``'dates'`` (explicit dates or a TOA table).
     """
 
     mjd: np.ndarray
@@ -139,6 +173,7 @@ class ObservingPlan:
     requested_baseline_yr: float
     sun_avoidance_deg: float
     notes: list = field(default_factory=list)
+    schedule: str = "even"
 
     @property
     def n_visits(self):
@@ -161,7 +196,20 @@ def regular_epochs(start_mjd, baseline_yr, visits_per_year):
     return start_mjd + np.arange(n) * _YEAR_D / visits_per_year
 
 
-def make_plan(campaign, ra_deg, dec_deg, *, baseline_yr=None, window=None):
+def schedule_of(campaign):
+    """The ``[campaign] schedule`` name, checked (InputError naming the key otherwise)."""
+    name = campaign.get("schedule") or "even"
+    name = str(name).strip().lower()
+    if name not in SCHEDULES:
+        raise InputError("[campaign] schedule", f"expected one of {', '.join(repr(n) for n in SCHEDULES)} "
+                         f"(got {campaign.get('schedule')!r})")
+    if name != "even" and campaign.get("dates") is not None:
+        raise InputError("[campaign] schedule", f"'{name}' places the visits itself, but explicit dates are given: "
+                         "remove schedule or dates")
+    return name
+
+
+def make_plan(campaign, ra_deg, dec_deg, *, baseline_yr=None, window=None, direction=None, schedule=None):
     """The observing plan a ``[campaign]`` section describes.
 
     Parameters
@@ -174,11 +222,19 @@ def make_plan(campaign, ra_deg, dec_deg, *, baseline_yr=None, window=None):
         Override the baseline (used by the baseline sweep), years.
     window : SunWindow, optional
         A precomputed constraint covering the plan (saves recomputation).
+    direction : ndarray, optional
+        Unit vector (ra*cos dec, dec) of the expected motion, for ``schedule = "motion"``
+        (direction-averaged when None).
+    schedule : str, optional
+        Override ``[campaign] schedule``.
 
     Returns
     -------
     ObservingPlan
     """
+    name = schedule_of(campaign) if schedule is None else schedule
+    if name not in SCHEDULES:
+        raise InputError("[campaign] schedule", f"expected one of {', '.join(SCHEDULES)} (got {name!r})")
     angle = campaign.value("sun_avoidance", "deg", 45.0)
     exposure = campaign.value("exposure", "s", np.nan)
     dates = campaign.get("dates")
@@ -195,7 +251,7 @@ def make_plan(campaign, ra_deg, dec_deg, *, baseline_yr=None, window=None):
                 raise InputError("[campaign] dates",
                                  f"the source is closer than {angle:g} deg to the Sun on {shown}")
         span = (mjd[-1] - mjd[0]) / _YEAR_D
-        return ObservingPlan(mjd, np.full(mjd.size, exposure), np.zeros(mjd.size), span, angle)
+        return ObservingPlan(mjd, np.full(mjd.size, exposure), np.zeros(mjd.size), span, angle, schedule="dates")
     start = campaign.get("start")
     vpy = campaign.get("visits_per_year")
     if start is None or vpy is None:
@@ -210,6 +266,14 @@ def make_plan(campaign, ra_deg, dec_deg, *, baseline_yr=None, window=None):
     nominal = regular_epochs(float(start.tdb.mjd), baseline_yr, vpy)
     if window is None:
         window = SunWindow.compute(ra_deg, dec_deg, angle, nominal[0], nominal[-1])
+    window.check_cadence(nominal[0], vpy)
+    if name != "even":
+        mjd = optimised_epochs(name, ra_deg, dec_deg, nominal, baseline_yr, window,
+                               spin_terms=int(campaign.get("spin_terms", 2)), direction=direction)
+        what = "parallax error" if name == "parallax" else "proper-motion error along the expected motion"
+        notes = [f"visits placed to minimise the {what} ({mjd.size} visits, as many per year as the even plan)"]
+        return ObservingPlan(mjd, np.full(mjd.size, exposure), np.zeros(mjd.size), float(baseline_yr), angle, notes,
+                             schedule=name)
     mjd = window.shift(nominal)
     order = np.argsort(mjd)
     shift = (mjd - nominal)[order]
@@ -218,3 +282,66 @@ def make_plan(campaign, ra_deg, dec_deg, *, baseline_yr=None, window=None):
         notes.append(f"{int(np.count_nonzero(shift))} of {mjd.size} visits moved by up to "
                      f"{np.max(np.abs(shift)):.0f} d to keep {angle:g} deg from the Sun")
     return ObservingPlan(mjd[order], np.full(mjd.size, exposure), shift, float(baseline_yr), angle, notes)
+
+
+def schedule_combinations(schedule, direction, n_parameters):
+    """C matrix (p, k) of the schedule's criterion tr(C^T Cov C).
+
+    Parameter order of :mod:`kinage.timing.model`: ra, dec, pm_ra_cosdec, pm_dec, parallax, spin terms.
+    """
+    cmat = np.zeros((n_parameters, 1 if schedule == "parallax" or direction is not None else 2))
+    if schedule == "parallax":
+        cmat[4, 0] = 1.0
+    elif direction is not None:
+        cmat[2:4, 0] = np.asarray(direction, float) / np.hypot(*direction)
+    else:  # direction-averaged: (var_ra + var_dec) / 2
+        cmat[2, 0] = cmat[3, 1] = np.sqrt(0.5)
+    return cmat
+
+
+def candidate_rows(ra_deg, dec_deg, mjd, spin_terms=2):
+    """Timing design-matrix rows (s per parameter unit) at candidate epochs, MJD (TDB).
+
+    The spin frequency only scales the spin columns, so it does not change any
+    marginalised astrometric error; a unit frequency is used.
+    """
+    from .model import TimeGrid, TimingModel
+
+    model = TimingModel(ra_deg, dec_deg, 1.0, 0.0, 0.0, spin_terms)
+    mid = Time(np.round(0.5 * (mjd[0] + mjd[-1])), format="mjd", scale="tdb")
+    grid = TimeGrid.from_times(Time(mjd, format="mjd", scale="tdb"), mid)
+    return model.design_matrix(grid, model.start_vector())
+
+
+def optimised_epochs(schedule, ra_deg, dec_deg, nominal, baseline_yr, window, *, spin_terms=2, direction=None,
+                     rng=None):
+    """Visit epochs (MJD TDB, sorted) of an optimised schedule.
+
+    Parameters
+    ----------
+    schedule : {'parallax', 'motion'}
+    ra_deg, dec_deg : float, degrees
+    nominal : ndarray
+        The even plan's epochs, MJD (TDB): they fix the start and the visits per campaign year.
+    baseline_yr : float, yr
+    window : SunWindow
+    spin_terms : int
+    direction : ndarray or None
+        Expected direction of motion (ra*cos dec, dec).
+    rng : numpy.random.Generator | int | None
+        Random starts of the exchange algorithm (default: fixed seed).
+    """
+    start = float(nominal[0])
+    stop = start + baseline_yr * _YEAR_D
+    keep = (window.mjd >= np.ceil(start)) & (window.mjd <= stop) & window.safe()
+    cand = window.mjd[keep]
+    n_years = max(1, int(np.ceil(baseline_yr - 1e-9)))
+    block, counts = year_blocks(cand, nominal, start, n_years)
+    key = (float(cand[0]), float(cand[-1]), cand.size, spin_terms)
+    if key not in window._rows:  # the design rows are shared by the schedules built on one window
+        window._rows.clear()
+        window._rows[key] = candidate_rows(ra_deg, dec_deg, cand, spin_terms)
+    rows = window._rows[key]
+    cmat = schedule_combinations(schedule, direction, rows.shape[1])
+    res = exchange_design(rows, cmat, block, counts, rng=rng)
+    return cand[res.chosen]

@@ -153,7 +153,8 @@ def test_prior_reduces_errors():
 def test_products_written(tmp_path):
     res = forecast(_scenario())
     paths = res.write_products(tmp_path)
-    assert {p.name for p in paths} == {"forecast_sweep.ecsv", "forecast_plan.ecsv", "forecast_baseline.png"}
+    assert {p.name for p in paths} == {"forecast_sweep.ecsv", "forecast_plan.ecsv", "forecast_baseline.png",
+                                       "forecast_plan.png"}
     assert all(p.stat().st_size > 0 for p in paths)
     write_json(tmp_path / "f.json", res.to_dict())
 
