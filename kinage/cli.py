@@ -76,6 +76,9 @@ def build_parser():
 
     p = verb("forecast")
     p.add_argument("scenario", type=Path, help="scenario file with [star] and [campaign]")
+    p.add_argument("--compare-schedules", action="store_true",
+                   help="also print the parallax and proper-motion errors of the 'even', 'parallax' and 'motion' "
+                        "schedules with the same visits")
     _common(p)
 
     p = verb("simulate")

@@ -49,7 +49,32 @@ def cmd_forecast(args):
     _require_table(scenario, "campaign", "forecast")
     from .timing import forecast
 
-    return _finish(args, forecast(scenario, progress=_progress(args)), scenario, "forecast", seed=args.seed)
+    result = forecast(scenario, progress=_progress(args))
+    if getattr(args, "compare_schedules", False) and result.schedules is None:
+        raise InputError("--compare-schedules", "needs a plan from [campaign] start, baseline and visits_per_year "
+                         "(this one has explicit dates or a TOA table)")
+    status = _finish(args, result, scenario, "forecast", seed=args.seed)
+    if getattr(args, "compare_schedules", False):
+        print(_schedule_table(result))
+    return status
+
+
+def _schedule_table(result):
+    """The three schedules' errors as a small text table."""
+    def num(x):
+        return "n/a" if x is None else (f"{x:.2g}" if abs(x) < 1e3 else f"{x:.2e}")
+
+    lines = [f"{'schedule':<10} {'parallax error (mas)':>21} {'pm error along motion (mas/yr)':>31} "
+             f"{'pm significance':>16}"]
+    for name, row in result.schedules.items():
+        mark = " *" if name == result.plan.schedule else ""
+        if "error" in row:
+            lines.append(f"{name + mark:<10} not available: {row['error']}")
+            continue
+        lines.append(f"{name + mark:<10} {num(row['parallax_error_mas']):>21} "
+                     f"{num(row['pm_error_along_motion_masyr']):>31} {num(row['pm_significance']):>16}")
+    lines.append(f"(* this scenario's schedule; {result.plan.n_visits} visits each, same TOA errors)")
+    return "\n".join(lines)
 
 
 def cmd_simulate(args):
