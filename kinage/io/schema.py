@@ -90,6 +90,8 @@ _STAR = [
     Key("spin_period_derivative", "quantity", "s/s", error=True, doc="spin period derivative (dimensionless, s/s)"),
     Key("temperature", "quantity", "K", error=True, positive=True, doc="redshifted surface temperature as seen at infinity (K, or eV as kT)"),
     Key("luminosity", "quantity", "erg/s", error=True, positive=True, doc="redshifted bolometric thermal luminosity"),
+    Key("dispersion_measure", "quantity", "pc / cm3", default=0.0, nonnegative=True, upper=1e4,
+        doc="dispersion measure, starting value of the fit (used with a TOA 'frequency' column)"),
 ]
 
 _CAMPAIGN = [
@@ -122,6 +124,18 @@ _CAMPAIGN = [
     Key("prior_pm_dec", "quantity", "mas/yr", error=True, doc="external proper-motion measurement to combine with timing"),
     Key("prior_parallax", "quantity", "mas", error=True, doc="external parallax measurement to combine with timing"),
     Key("harmonics", "int", default=2, lower=1, upper=20, doc="number of harmonics n of the Z^2_n test"),
+    # where the TOAs are referred to (kinage.timing.reference; the TOA table's metadata may carry the same keys)
+    Key("toa_reference", "str", default="geocentre", choices=("geocentre", "site", "barycentre"),
+        doc="where the TOAs are referred to: 'geocentre' (TDB at the Earth's centre), 'site' (a telescope at "
+            "site_longitude/latitude/height) or 'barycentre' (TDB, barycentred for barycentred_ra/dec)"),
+    Key("site_longitude", "quantity", "deg", lower=-180, upper=360, doc="telescope longitude, east positive (geodetic WGS84)"),
+    Key("site_latitude", "quantity", "deg", lower=-90, upper=90, doc="telescope latitude (geodetic WGS84)"),
+    Key("site_height", "quantity", "m", lower=-1000, upper=100000, doc="telescope height above the WGS84 ellipsoid"),
+    Key("barycentred_ra", "quantity", "deg", lower=0, upper=360, doc="right ascension (ICRS, degrees) the TOAs were barycentred for"),
+    Key("barycentred_dec", "quantity", "deg", lower=-90, upper=90, doc="declination (ICRS, degrees) the TOAs were barycentred for"),
+    Key("ephemeris", "str", default="builtin",
+        doc="solar-system ephemeris: 'builtin' (astropy's ERFA model) or the path of a JPL file read through astropy "
+            "(needs jplephem); nothing downloads"),
 ]
 
 _TRACE = [

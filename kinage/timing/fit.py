@@ -4,11 +4,26 @@ Starting from the scenario's values (position offsets 0, its proper motion
 and parallax or 0, spin from ``[star]``), each iteration evaluates the full
 model's residuals R and design matrix M and takes the GLS step
 -(M^T C^-1 M)^-1 M^T C^-1 R (:mod:`kinage.timing.gls`) with the scenario's
-white + red noise covariance.  Pulses are numbered once, from the starting
-model after aligning its phase zero with the TOAs (phase connection is
-assumed).  The fit has converged when every step is below 1e-3 of its
-parameter's standard error; otherwise it raises
-:class:`~kinage.errors.ConvergenceError` carrying the last result.
+white + red noise covariance.  Times and phases are carried in double-double
+precision and the spin parameters as offsets from the starting values
+(:mod:`kinage.timing.model`), so the steps shrink to ~1e-6 of the errors.
+The observer geometry (Earth, site, Sun), the time grid and the noise model
+are computed once.  Pulses are numbered once, from the starting model after
+aligning its phase zero with the TOAs (phase connection is assumed).
+
+The fit has converged when the largest step is below ``STEP_TOLERANCE`` of
+its parameter's standard error, or when chi-square stopped decreasing within
+its numerical noise.  Otherwise it raises
+:class:`~kinage.errors.ConvergenceError` whose ``last_result`` holds the last
+iterate (``converged`` False) with a warning that names the likely cause: a
+cycle-count problem (residuals beyond a quarter of the spin period), a
+numerical floor (steps stopped shrinking at small residuals) or slow
+convergence from a distant start.
+
+TOAs may be referred to the geocentre, a telescope site or the barycentre
+(:mod:`kinage.timing.reference`); an optional ``frequency`` column adds the
+dispersion delay and, with more than one frequency, a fitted
+dispersion-measure offset.
 
 An external prior (``prior_pm_ra_cosdec`` etc. in ``[campaign]``) is combined
 with the timing solution (:mod:`kinage.timing.priors`); the result then has
@@ -32,9 +47,13 @@ from .forecast_result import TIMING_ASSUMPTIONS
 from .gls import gls_step
 from .model import TimeGrid, TimingModel
 from .priors import prior_solution
-from .toas import read_toas, validate_toas
+from .reference import TOAReference, resolve_reference
+from .toas import check_fit_table, frequency_column, read_toas, site_times, validate_toas
 
-__all__ = ["fit_toas", "FitResult"]
+__all__ = ["fit_toas", "FitResult", "STEP_TOLERANCE"]
+
+#: converged when every step is below this fraction of its parameter's error
+STEP_TOLERANCE = 1e-3
 
 
 @dataclass
@@ -54,6 +73,10 @@ class FitResult:
     n_toas, n_parameters : int
     converged : bool
     iterations : int
+    final_step_sigma : float
+        Largest |step| / sigma of the last iteration.
+    reference : TOAReference
+        Where the TOAs are referred to.
     mjd, residuals_s, errors_s, signature_s : ndarray
         TOA epochs (MJD TDB, float for plotting), post-fit residuals, effective
         errors and the fitted astrometric delay at each TOA (s).
@@ -73,6 +96,8 @@ class FitResult:
     errors_s: np.ndarray
     signature_s: np.ndarray
     signature_grid: tuple | None = None
+    final_step_sigma: float = float("nan")
+    reference: TOAReference = field(default_factory=TOAReference)
     warnings: list = field(default_factory=list)
     parameter_sets: list = field(default_factory=list)
     assumptions: list = field(default_factory=lambda: list(TIMING_ASSUMPTIONS) + [
@@ -100,8 +125,13 @@ class FitResult:
             "n_parameters": self.n_parameters,
             "converged": self.converged,
             "iterations": self.iterations,
+            "final_step_sigma": self.final_step_sigma,
+            "toa_reference": self.reference.kind,
+            "ephemeris": self.reference.ephemeris,
             "spin": {k: v for k, v in self.parameters.items() if k in ("phase", "freq", "freq_dot", "freq_ddot")},
             "spin_sigma": {k: v for k, v in self.parameter_errors.items() if k in ("phase", "freq", "freq_dot", "freq_ddot")},
+            "dispersion_measure": self.parameters.get("dispersion_measure"),
+            "dispersion_measure_sigma": self.parameter_errors.get("dispersion_measure"),
             "residuals": {"rms_us": float(np.sqrt(np.mean(r**2)) * 1e6),
                           "weighted_rms_us": float(np.sqrt(np.sum(w * r**2) / np.sum(w)) * 1e6),
                           "max_abs_us": float(np.max(np.abs(r)) * 1e6), "n": int(r.size)},
@@ -134,6 +164,7 @@ class FitResult:
         t["error"] = self.errors_s * u.s
         t["astrometric_delay"] = self.signature_s * u.s
         t.meta["time_scale"] = "tdb"
+        t.meta["toa_reference"] = self.reference.kind
         t.meta["note"] = "mjd rounded to float64 for plotting; residuals are exact"
         return t
 
@@ -148,16 +179,18 @@ class FitResult:
         return [out / "fit_residuals.ecsv", Path(residual_figure(self, out / "fit_residuals.png"))]
 
 
-def fit_toas(toas, scenario, *, max_iter=20, method="woodbury"):
+def fit_toas(toas, scenario, *, max_iter=30, method="woodbury"):
     """Fit a TOA table by iterated generalised least squares.
 
     Parameters
     ----------
     toas : astropy.table.Table or str or Path
-        TOA table (see :mod:`kinage.timing.toas`).
+        TOA table (see :mod:`kinage.timing.toas`); its metadata may carry the
+        reference keys of :mod:`kinage.timing.reference`.
     scenario : Scenario
-        ``[star]`` gives the starting values and spin; ``[campaign]`` (optional)
-        the noise model, ``spin_terms`` and any external prior.
+        ``[star]`` gives the starting values, spin and ``dispersion_measure``;
+        ``[campaign]`` (optional) the noise model, ``spin_terms``, the TOA
+        reference keys and any external prior.
     max_iter : int
         Maximum number of linearisation steps.
     method : {'woodbury', 'dense'}
@@ -168,27 +201,31 @@ def fit_toas(toas, scenario, *, max_iter=20, method="woodbury"):
 
     Raises
     ------
+    InputError
+        Bad table values or reference keys (naming the row, column or key).
     ConvergenceError
         When the steps do not settle within ``max_iter`` (``last_result``
-        holds the last iterate, marked not converged).
+        holds the last iterate, marked not converged, with the likely cause).
     """
+    where = str(toas) if isinstance(toas, (str, Path)) else "TOA table"
     tab = read_toas(toas) if isinstance(toas, (str, Path)) else validate_toas(toas)
     star = scenario.star
     c = scenario.campaign
+    reference = resolve_reference(c, tab.meta, where)
     if c is None:
         c = _DefaultCampaign()
     ra, dec = star.value("ra", "deg"), star.value("dec", "deg")
     if ra is None or dec is None:
         raise InputError("[star] ra", "position (ra, dec) is required to fit TOAs")
     freq, freq_dot, _ = inputs.spin_from_star(star, required=True, where="fitting TOAs")
-    model = TimingModel(ra, dec, freq, freq_dot, 0.0, int(c.get("spin_terms", 2)))
-    times = tab["mjd"].tdb
-    n = len(tab)
-    p = model.n_parameters
-    if n <= p:
-        raise InputError("TOA table", f"need more TOAs than fitted parameters ({n} TOAs for {p} parameters)")
+    f_mhz = frequency_column(tab, where)
+    multi = f_mhz is not None and np.unique(f_mhz).size > 1
+    dm0 = _dispersion_measure(star)
+    model = TimingModel(ra, dec, freq, freq_dot, 0.0, int(c.get("spin_terms", 2)), dm0, multi)
+    check_fit_table(tab, where, model.n_parameters)
+    times = site_times(tab, reference) if reference.kind == "site" else tab["mjd"].tdb
     epoch = star.get("epoch") or Time(np.round(0.5 * (times[0].to_value("mjd", "float") + times[-1].to_value("mjd", "float"))), format="mjd", scale="tdb")
-    grid = TimeGrid.from_times(times, epoch)
+    grid = TimeGrid.from_times(times, epoch, reference, f_mhz)  # geometry computed once
     errors = u.Quantity(tab["error"]).to_value(u.s)
     noise = noise_from_campaign(c, grid.seconds, errors)
     astro0 = [0.0, 0.0, star.value("pm_ra_cosdec", "mas/yr", 0.0), star.value("pm_dec", "mas/yr", 0.0),
@@ -196,59 +233,95 @@ def fit_toas(toas, scenario, *, max_iter=20, method="woodbury"):
     if astro0[4] is None:
         d = star.value("distance", "pc")
         astro0[4] = 1000.0 / d if d else 0.0
-    theta = model.start_vector(astro0)
-    phi = model.phase(grid, theta)[0]
-    frac = phi - np.round(phi)
+    theta = model.start_vector(astro0, offsets=True)
+    ph, pl, _, _ = model.phase_dd(grid, theta, offsets=True)
+    frac = (ph - np.round(ph)) + pl
     theta[5] = -np.angle(np.mean(np.exp(2j * np.pi * frac))) / (2 * np.pi)  # align phase zero
-    pulses = model.pulse_numbers(grid, theta)
+    pulses = model.pulse_numbers(grid, theta, offsets=True)
 
-    last = None
+    history = []
+    cov = None
+    tol = _chi2_noise(grid.seconds.size)
     for it in range(1, max_iter + 1):
-        resid = model.residuals(grid, theta, pulses)
-        design = model.design_matrix(grid, theta, pulses)
+        resid = model.residuals(grid, theta, pulses, offsets=True)
+        design = model.design_matrix(grid, theta, pulses, offsets=True)
         try:
-            step, cov, _ = gls_step(design, resid, noise, method)
+            step, cov, chi2 = gls_step(design, resid, noise, method)
         except ConvergenceError as exc:
+            last = None if not history else _result(model, grid, theta, pulses, noise, method, c, epoch, tab,
+                                                    history, cov, reference, False)
             raise ConvergenceError(str(exc), last_result=last) from None
         if not np.all(np.isfinite(step)):
-            raise ConvergenceError("the fit diverged (non-finite step)", last_result=last)
-        theta = theta + step
+            raise ConvergenceError("the fit diverged (non-finite step)")
         sig = np.sqrt(np.diag(cov))
-        done = bool(np.all(np.abs(step) <= 1e-3 * sig))
-        last = _result(model, grid, theta, pulses, noise, method, star, c, epoch, tab, it, done)
-        if done:
-            return last
-    raise ConvergenceError(f"the timing fit did not converge in {max_iter} iterations "
-                           "(phase connection lost or a bad starting model?)", last_result=last)
+        step_sigma = float(np.max(np.abs(step) / sig))
+        theta = theta + step
+        history.append((chi2, step_sigma))
+        # chi2 is evaluated before each step: equal chi2 on two iterations means the last step changed nothing
+        flat = it >= 3 and abs(history[-2][0] - chi2) <= tol * max(chi2, 1.0) and step_sigma < 0.1
+        if step_sigma <= STEP_TOLERANCE or flat:
+            return _result(model, grid, theta, pulses, noise, method, c, epoch, tab, history, cov, reference, True)
+    last = _result(model, grid, theta, pulses, noise, method, c, epoch, tab, history, cov, reference, False)
+    raise ConvergenceError(f"the timing fit did not converge in {max_iter} iterations: {last.warnings[-1]}",
+                           last_result=last)
 
 
-def _result(model, grid, theta, pulses, noise, method, star, c, epoch, tab, it, converged):
-    resid = model.residuals(grid, theta, pulses)
-    design = model.design_matrix(grid, theta, pulses)
-    _, cov, chi2 = gls_step(design, resid, noise, method)
+def _dispersion_measure(star):
+    try:
+        return float(star.value("dispersion_measure", "pc / cm3", 0.0) or 0.0)
+    except (AttributeError, KeyError):
+        return 0.0
+
+
+def _chi2_noise(n):
+    """Relative numerical noise of chi-square: a few float64 roundings per TOA (common practice, no source)."""
+    return max(1e-12 * n, 1e-10)
+
+
+def _diagnosis(history, resid, period):
+    """Plain-words cause of a non-converged fit."""
+    steps = np.array([h[1] for h in history])
+    worst = float(np.max(np.abs(resid)))
+    if worst > 0.25 * period:
+        return (f"residuals reach {worst / period:.2f} of the spin period (more than a quarter), so some pulses are "
+                "probably misnumbered: a cycle-count problem (gaps too long for the starting spin or position, or a "
+                "wrong starting model); give better starting values in [star] or add TOAs that bridge the gaps")
+    if steps.size >= 4 and steps[-1] > 0.3 * np.min(steps[:-1]):
+        return (f"the steps stopped shrinking at {steps[-1]:.2g} sigma while the residuals stay below a quarter of "
+                "the period: a numerical floor (strongly correlated parameters or badly conditioned data), not a "
+                "phase-connection problem; the last iterate is probably usable")
+    return (f"the steps were still shrinking ({steps[-1]:.2g} sigma at the last iteration): the start is far from the "
+            "solution; raise the iteration limit or start nearer")
+
+
+def _result(model, grid, theta, pulses, noise, method, c, epoch, tab, history, cov, reference, converged):
+    resid = model.residuals(grid, theta, pulses, offsets=True)
+    chi2 = float(noise.quadratic(resid, method=method))
     names = model.parameter_names
+    values = model.absolute(theta)
     sig = np.sqrt(np.diag(cov))
-    timing = AstrometricSolution(epoch, model.ra_deg, model.dec_deg, theta[:5], cov[:5, :5], source="timing")
+    timing = AstrometricSolution(epoch, model.ra_deg, model.dec_deg, values[:5], cov[:5, :5], source="timing")
     prior = prior_solution(c, timing)
     solution = timing.combine(prior, source="timing+prior") if prior is not None else timing
-    warnings = []
-    period = 1.0 / theta[6]
+    warnings = list(grid.notes)
+    period = 1.0 / values[6]
     if np.max(np.abs(resid)) > 0.25 * period:
         warnings.append("residuals exceed a quarter of the spin period: the pulse numbering may be wrong")
     if not converged:
-        warnings.append("not converged")
-    sig_toa = model.astro_partials(grid) @ theta[:5]
+        warnings.append("not converged: " + _diagnosis(history, resid, period))
+    sig_toa = model.astro_partials(grid) @ values[:5]
     mjd = tab["mjd"].tdb.to_value("mjd", "float")
     dense = np.linspace(mjd[0], mjd[-1], 600)
     dgrid = TimeGrid.from_times(Time(dense, format="mjd", scale="tdb"), epoch)
-    dsig = model.astro_partials(dgrid) @ theta[:5]
+    dsig = model.astro_partials(dgrid) @ values[:5]
     return FitResult(
         solution=solution, timing_solution=timing,
-        parameters={k: float(v) for k, v in zip(names, theta)},
+        parameters={k: float(v) for k, v in zip(names, values)},
         parameter_errors={k: float(v) for k, v in zip(names, sig)},
-        chi2=float(chi2), n_toas=grid.seconds.size, n_parameters=theta.size, converged=converged,
-        iterations=it, mjd=mjd, residuals_s=resid, errors_s=np.sqrt(noise.white_var), signature_s=sig_toa,
-        signature_grid=(dense, dsig), warnings=warnings,
+        chi2=chi2, n_toas=grid.seconds.size, n_parameters=theta.size, converged=converged,
+        iterations=len(history), mjd=mjd, residuals_s=resid, errors_s=np.sqrt(noise.white_var),
+        signature_s=sig_toa, signature_grid=(dense, dsig), final_step_sigma=float(history[-1][1]),
+        reference=reference, warnings=warnings,
     )
 
 

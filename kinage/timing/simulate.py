@@ -1,8 +1,10 @@
 """Simulate TOAs from the timing model with white and red noise.
 
 For each visit the exact arrival time of the nearest whole pulse is found by
-Newton iteration on the full model (spin phase of the injected parameters at
-t + D(t), with the Earth's position recomputed at each step), then noise is
+Newton iteration on the full model in double-double precision (spin phase
+of the injected parameters at t + D(t), with the observer's position
+recomputed at each step; TOAs at the geocentre, a site or the barycentre as
+``[campaign] toa_reference`` says), then noise is
 added: white noise of variance (s sigma)^2 + q^2 (``error_scale`` s,
 ``added_error`` q) and a red-noise realisation from the power law of
 :mod:`kinage.timing.noise`.  The table's ``error`` column holds the quoted
@@ -14,7 +16,7 @@ at a random position angle; the scenario's parallax (or 1/distance), else 0;
 spin from ``[star]``.  ``inject`` overrides any of them.
 """
 
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 from pathlib import Path
 
 import astropy.units as u
@@ -25,8 +27,10 @@ from ..errors import InputError
 from . import inputs
 from .forecast import noise_from_campaign
 from .forecast_result import TIMING_ASSUMPTIONS
+from . import precision
 from .model import ASTRO_PARAMETERS, TimeGrid, TimingModel
 from .plan import make_plan
+from .reference import resolve_reference
 from .toas import write_toas
 
 __all__ = ["simulate_toas", "SimulationResult"]
@@ -91,7 +95,7 @@ def _injected(scenario, rng, inject):
         d = star.value("distance", "pc")
         plx = 1000.0 / d if d else 0.0
     vals = {"ra": 0.0, "dec": 0.0, "pm_ra_cosdec": float(pra), "pm_dec": float(pdec), "parallax": float(plx),
-            "freq": freq, "freq_dot": freq_dot}
+            "freq": freq, "freq_dot": freq_dot, "dispersion_measure": _star_dm(star)}
     for k, v in (inject or {}).items():
         if k not in vals:
             raise InputError("inject", f"unknown parameter '{k}' (expected one of {', '.join(vals)})")
@@ -99,19 +103,32 @@ def _injected(scenario, rng, inject):
     return vals
 
 
-def simulate_toas(scenario, *, rng=None, inject=None):
+def _star_dm(star):
+    try:
+        return float(star.value("dispersion_measure", "pc / cm3", 0.0) or 0.0)
+    except (AttributeError, KeyError):
+        return 0.0
+
+
+def simulate_toas(scenario, *, rng=None, inject=None, frequency_mhz=None):
     """Draw a TOA table for the scenario's campaign.
 
     Parameters
     ----------
     scenario : Scenario
-        Needs ``[star]`` ra, dec, spin_period and a ``[campaign]`` plan.
+        Needs ``[star]`` ra, dec, spin_period and a ``[campaign]`` plan; the
+        ``[campaign]`` TOA reference keys choose where the TOAs are referred to
+        (written into the table's metadata, so that a fit reads them back).
     rng : numpy.random.Generator | int | None
         Random numbers (an int is a seed, recorded in the table meta).
     inject : dict, optional
         Override injected values: keys ``ra``, ``dec`` (mas offsets),
         ``pm_ra_cosdec``, ``pm_dec`` (mas/yr), ``parallax`` (mas), ``freq``
-        (Hz), ``freq_dot`` (Hz/s).
+        (Hz), ``freq_dot`` (Hz/s), ``dispersion_measure`` (pc cm^-3).
+    frequency_mhz : float or sequence, optional
+        Observing frequencies, MHz, cycled over the visits; adds a
+        ``frequency`` column and the dispersion delay of ``[star]
+        dispersion_measure``.
 
     Returns
     -------
@@ -120,27 +137,37 @@ def simulate_toas(scenario, *, rng=None, inject=None):
     c = scenario.campaign
     if c is None:
         raise InputError("[campaign]", "required to simulate TOAs")
+    reference = resolve_reference(c, None, "the simulated table")
     seed = rng if isinstance(rng, (int, np.integer)) else None
     rng = np.random.default_rng(rng)
     star = scenario.star
     ra, dec = star.value("ra", "deg"), star.value("dec", "deg")
     vals = _injected(scenario, rng, inject)
-    model = TimingModel(ra, dec, vals["freq"], vals["freq_dot"], 0.0, int(c.get("spin_terms", 2)))
     plan = make_plan(c, ra, dec)
+    freq_col = None
+    if frequency_mhz is not None:
+        f = np.atleast_1d(np.asarray(frequency_mhz, float))
+        if f.size == 0 or np.any(~np.isfinite(f)) or np.any(f <= 0):
+            raise InputError("frequency_mhz", "positive observing frequencies in MHz")
+        freq_col = np.resize(f, plan.mjd.size)
+    multi = freq_col is not None and np.unique(freq_col).size > 1
+    model = TimingModel(ra, dec, vals["freq"], vals["freq_dot"], 0.0, int(c.get("spin_terms", 2)),
+                        vals["dispersion_measure"], multi)
     epoch = star.get("epoch") or _mid(plan.mjd)
     errors, _ = inputs.visit_errors(scenario, plan.exposure)
-    theta = model.start_vector([vals[k] for k in ASTRO_PARAMETERS])
+    theta = model.start_vector([vals[k] for k in ASTRO_PARAMETERS], offsets=True)
     theta[5] = rng.uniform(0, 1)  # arbitrary phase zero
-    grid = TimeGrid.from_times(plan.times, epoch)
-    pulses = model.pulse_numbers(grid, theta)
-    sec = grid.seconds.copy()
-    for _ in range(5):  # Newton on the arrival time of pulse N (Earth moved each step)
-        phi, tau, (freq, freq_dot, freq_ddot) = model.phase(grid, theta)
-        sec = sec - (phi - pulses) / (freq + tau * (freq_dot + tau * freq_ddot / 2))
-        grid = TimeGrid(epoch, sec, TimeGrid.from_times(epoch + sec * u.s, epoch).earth)
-    noise = noise_from_campaign(c, sec, errors)
-    sec = sec + noise.draw(rng)
-    times = epoch + sec * u.s
+    grid = TimeGrid.from_times(plan.times, epoch, reference, freq_col)
+    pulses = model.pulse_numbers(grid, theta, offsets=True)
+    hi, lo = grid.seconds, grid.seconds_lo
+    for _ in range(5):  # Newton on the arrival time of pulse N (observer geometry moved each step)
+        ph, pl, tau, (freq, freq_dot, freq_ddot) = model.phase_dd(grid, theta, offsets=True)
+        frac = (ph - pulses) + pl
+        hi, lo = precision.dd_add_float(hi, lo, -frac / (freq + tau * (freq_dot + tau * freq_ddot / 2)))
+        grid = _grid_at(epoch, hi, lo, reference, freq_col)
+    noise = noise_from_campaign(c, hi, errors)
+    hi, lo = precision.dd_add_float(hi, lo, noise.draw(rng))
+    times = (epoch + hi * u.s) + lo * u.s
     times = times.tdb
     times.format = "mjd"
     times.out_subfmt = "str"
@@ -148,12 +175,23 @@ def simulate_toas(scenario, *, rng=None, inject=None):
     tab["mjd"] = times
     tab["error"] = errors * u.s
     tab["exposure"] = plan.exposure * u.s
+    if freq_col is not None:
+        tab["frequency"] = freq_col * u.MHz
+    where = {"geocentre": "geocentric", "site": "site (topocentric TDB)", "barycentre": "barycentred"}[reference.kind]
     tab.meta.update({"time_scale": "tdb", "seed": seed, "epoch_mjd_tdb": float(epoch.tdb.mjd),
                      "injected": {k: float(v) for k, v in vals.items()},
-                     "note": "mjd: geocentric arrival times, TDB, full-precision decimal MJD"})
+                     "note": f"mjd: {where} arrival times, TDB, full-precision decimal MJD"})
+    tab.meta.update(reference.to_meta())
     motion = inputs.expected_proper_motion(scenario) if star.get("pm_ra_cosdec") is None else None
     sets = list(motion.parameter_sets) if motion is not None else []
     return SimulationResult(tab, vals, seed, sets)
+
+
+def _grid_at(epoch, hi, lo, reference, freq_col):
+    """Grid whose times are epoch + (hi + lo) s exactly, geometry evaluated there."""
+    grid = TimeGrid.from_jd(np.full(hi.size, epoch.tdb.jd1), epoch.tdb.jd2 + (hi + lo) / 86400.0, epoch,
+                            reference, freq_col)
+    return replace(grid, seconds=hi, seconds_lo=lo)
 
 
 def _mid(mjd):

@@ -15,10 +15,21 @@ ECSV (preferred) or CSV with one row per TOA:
     TOA uncertainty; with a unit in ECSV, else seconds.
 ``exposure`` (optional)
     Exposure of the visit; with a unit in ECSV, else seconds.
+``frequency`` (optional)
+    Observing frequency; with a unit in ECSV, else MHz.  Enables the
+    dispersion delay (:mod:`kinage.timing.delays`).
 
-Rows must be sorted by time with no duplicates; NaN, missing values and
-errors <= 0 are rejected with an :class:`~kinage.errors.InputError` naming
-the row (1-based, data rows) and the column.
+The metadata may carry the TOA reference keys (``toa_reference``,
+``site_longitude``, ... : :mod:`kinage.timing.reference`).  For
+``toa_reference = 'site'`` the times are at the site; a scale other than TDB
+is converted with the site's location (:func:`site_times`).
+
+Rows must be sorted by time with no duplicates; NaN, missing values,
+errors <= 0, MJDs outside 1965-2100 (MJD 39000-88069, the range of the
+built-in ephemeris) and frequencies that are not positive are rejected with
+an :class:`~kinage.errors.InputError` naming the row (1-based, data rows)
+and the column.  A fit also needs more TOAs than parameters spread over more
+than a day (:func:`check_fit_table`).
 """
 
 from pathlib import Path
@@ -31,7 +42,11 @@ from astropy.time import Time
 from ..errors import InputError
 from ..io.results import atomic_path
 
-__all__ = ["read_toas", "write_toas", "validate_toas", "toa_times"]
+__all__ = ["read_toas", "write_toas", "validate_toas", "toa_times", "check_fit_table", "frequency_column",
+           "site_times", "MJD_RANGE"]
+
+#: plausible TOA dates: 1965 (before the first pulsar) to 2100 (end of the built-in ephemeris)
+MJD_RANGE = (39000.0, 88069.0)
 
 _SCALES = ("tdb", "tt", "utc", "tai", "tcb", "tcg")
 
@@ -80,6 +95,7 @@ def validate_toas(tab, where="TOA table"):
     if scale not in _SCALES:
         raise InputError(f"{where} meta time_scale", f"expected one of {', '.join(_SCALES)} (got {scale!r})")
     times = _parse_times(tab["mjd"], scale, where)
+    _check_range(times, where)
     err = _column_seconds(tab, "error", where)
     bad = np.flatnonzero(~(err > 0))
     if bad.size:
@@ -93,9 +109,77 @@ def validate_toas(tab, where="TOA table"):
         if name not in out.colnames:
             out[name] = tab[name]
     out.meta.update({k: v for k, v in tab.meta.items() if k != "__serialized_columns__"})
+    out.meta.setdefault("time_scale_input", scale)
     out.meta["time_scale"] = "tdb"
+    if "frequency" in tab.colnames:
+        out["frequency"] = frequency_column(tab, where) * u.MHz
     _check_order(out["mjd"], where)
     return out
+
+
+def _check_range(times, where):
+    mjd = times.to_value("mjd", "float")
+    bad = np.flatnonzero((mjd < MJD_RANGE[0]) | (mjd > MJD_RANGE[1]))
+    if bad.size:
+        i = bad[0]
+        raise InputError(f"{where} row {i + 1}, column 'mjd'",
+                         f"MJD {mjd[i]:.6f} is outside the plausible range {MJD_RANGE[0]:.0f}-{MJD_RANGE[1]:.0f} "
+                         "(1965-2100); is the column a Julian date, or in seconds?")
+
+
+def frequency_column(tab, where="TOA table"):
+    """Observing frequencies in MHz (None without a ``frequency`` column); zeros, NaN, negatives rejected."""
+    if "frequency" not in tab.colnames:
+        return None
+    col = tab["frequency"]
+    if getattr(col, "mask", None) is not None and np.any(col.mask):
+        i = int(np.flatnonzero(col.mask)[0])
+        raise InputError(f"{where} row {i + 1}, column 'frequency'", "missing value (observing frequency in MHz)")
+    try:
+        x = np.asarray(col, float)
+    except (TypeError, ValueError):
+        raise InputError(f"{where} column 'frequency'", "expected numbers (observing frequency in MHz)") from None
+    unit = getattr(col, "unit", None)
+    if unit not in (None, ""):
+        try:
+            x = (x * u.Unit(unit)).to_value(u.MHz, equivalencies=u.spectral())
+        except (u.UnitConversionError, ValueError):
+            raise InputError(f"{where} column 'frequency'", f"expected a frequency unit such as MHz (got {unit})") from None
+    bad = np.flatnonzero(~(np.isfinite(x) & (x > 0)))
+    if bad.size:
+        i = bad[0]
+        raise InputError(f"{where} row {i + 1}, column 'frequency'",
+                         f"must be a positive observing frequency in MHz (got {x[i]!r})")
+    return x
+
+
+def check_fit_table(tab, where, n_parameters):
+    """Checks a fit needs beyond :func:`validate_toas`: enough TOAs, over more than one day."""
+    n = len(tab)
+    if n <= n_parameters:
+        raise InputError(where, f"need more TOAs than fitted parameters ({n} TOAs for {n_parameters} parameters)")
+    t = tab["mjd"]
+    span_d = (t[-1] - t[0]).to_value(u.d)
+    if span_d < 1.0:
+        raise InputError(f"{where} column 'mjd'",
+                         f"all {n} TOAs fall within one day ({span_d * 24:.2g} h): position, proper motion and "
+                         "parallax need TOAs spread over months to years")
+
+
+def site_times(tab, reference):
+    """TDB arrival times at the site: a non-TDB input scale is converted with the site's location (astropy)."""
+    t = tab["mjd"]
+    scale = str(tab.meta.get("time_scale_input", "tdb")).lower()
+    if scale == "tdb":
+        return t.tdb
+    import warnings
+
+    from .geometry import iers_offline
+
+    given = getattr(t.tdb, scale)  # back to the scale the table was written in (exact round trip)
+    with iers_offline(), warnings.catch_warnings():
+        warnings.filterwarnings("ignore", module="erfa")
+        return Time(given.jd1, given.jd2, format="jd", scale=scale, location=reference.location()).tdb
 
 
 def _parse_times(col, scale, where):
