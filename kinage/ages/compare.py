@@ -12,6 +12,7 @@ from pathlib import Path
 
 import numpy as np
 
+from .._results import ResultDisplay
 from ..io.results import interval
 from .cooling_age import cooling_age
 from .draws import draw_kinematic_age, draw_spin, read_settings
@@ -36,8 +37,8 @@ def _short(iv):
     return {k: iv.get(k) for k in ("median", "lo68", "hi68")} if iv else dict(_EMPTY)
 
 
-@dataclass
-class AgesResult:
+@dataclass(repr=False)
+class AgesResult(ResultDisplay):
     """All ages of one star, their uncertainties and verdicts (see :meth:`to_dict`)."""
 
     star: str

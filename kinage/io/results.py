@@ -19,7 +19,8 @@ import numpy as np
 
 from .._version import __version__
 
-__all__ = ["atomic_write", "atomic_path", "write_json", "provenance", "to_jsonable", "interval"]
+__all__ = ["atomic_write", "atomic_path", "write_json", "provenance", "to_jsonable", "interval", "versions",
+           "command_line", "VERSIONED"]
 
 
 @contextlib.contextmanager
@@ -112,6 +113,40 @@ def interval(samples, weights=None):
             "lo95": float(q[3]), "hi95": float(q[4]), "n": int(x.size)}
 
 
+#: distributions whose versions every result records
+VERSIONED = ("kinage", "numpy", "astropy", "galpy", "scipy", "matplotlib", "dask", "distributed")
+
+
+def versions():
+    """Versions of Python, kinage and the libraries results depend on (read without importing them).
+
+    Returns
+    -------
+    dict
+        ``python``, ``kinage``, ``numpy``, ``astropy``, ``galpy``, ``scipy``, ...;
+        ``None`` for a library that is not installed.
+    """
+    from importlib import metadata
+
+    out = {"python": platform.python_version(), "platform": platform.platform(terse=True)}
+    for name in VERSIONED:
+        try:
+            out[name] = __version__ if name == "kinage" else metadata.version(name)
+        except metadata.PackageNotFoundError:
+            out[name] = None
+    return out
+
+
+def command_line():
+    """The command line of this process (``sys.argv`` joined with shell quoting)."""
+    import shlex
+    import sys
+
+    argv = list(sys.argv) or [""]
+    argv[0] = os.path.basename(argv[0]) or "python"
+    return shlex.join(argv)
+
+
 def provenance(*, scenario=None, seed=None, parameter_sets=(), input_files=(), command=None):
     """The provenance block recorded in every JSON result.
 
@@ -126,6 +161,13 @@ def provenance(*, scenario=None, seed=None, parameter_sets=(), input_files=(), c
         Further files to hash.
     command : str, optional
         The command line verb.
+
+    Returns
+    -------
+    dict
+        ``kinage_version``, ``command``, ``command_line`` (this process's
+        ``sys.argv``), ``seed``, ``created_utc``, ``python``, ``versions``
+        (:func:`versions`), ``parameter_sets``, ``input_sha256``.
     """
     from .scenario import file_sha256
 
@@ -142,9 +184,11 @@ def provenance(*, scenario=None, seed=None, parameter_sets=(), input_files=(), c
     return {
         "kinage_version": __version__,
         "command": command,
+        "command_line": command_line(),
         "seed": seed,
         "created_utc": datetime.datetime.now(datetime.timezone.utc).isoformat(timespec="seconds"),
         "python": platform.python_version(),
+        "versions": versions(),
         "parameter_sets": list(seen.values()),
         "input_sha256": hashes,
     }

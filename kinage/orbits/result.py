@@ -4,6 +4,7 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
+from .._results import ResultDisplay
 from ..io.results import interval
 from .probability import DEFAULT_FIELD_PRIOR, MODEL_TEXT, PROBABILITY_THRESHOLD
 
@@ -12,8 +13,8 @@ __all__ = ["TraceResult"]
 _MAX_FAILED_LISTED = 1000
 
 
-@dataclass
-class TraceResult:
+@dataclass(repr=False)
+class TraceResult(ResultDisplay):
     """Outcome of :func:`kinage.orbits.trace`.
 
     Attributes
@@ -100,15 +101,17 @@ class TraceResult:
 
         Returns
         -------
-        ndarray, yr
+        Quantity, yr
         """
+        import astropy.units as u
+
         if name is None:
             if self.favoured is None and (favoured_only or not self.associations):
-                return np.empty(0)
+                return np.empty(0) * u.yr
             name = self.favoured or self.associations[0]["name"]
         j = self.data["index"][name]
         mask = self.data["masks"][name]
-        return self.data["main"]["tau"][j][mask].astype(float) * 1e6
+        return self.data["main"]["tau"][j][mask].astype(float) * 1e6 * u.yr
 
     def plane_crossing_age_samples(self):
         """Plane-crossing ages (yr) of the star draws that crossed within the window."""

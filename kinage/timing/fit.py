@@ -40,6 +40,7 @@ from astropy.time import Time
 
 from ..astrometry import AstrometricSolution
 from ..errors import ConvergenceError, InputError
+from .._results import ResultDisplay
 from ..io.results import atomic_path
 from . import inputs
 from .forecast import noise_from_campaign
@@ -56,8 +57,8 @@ __all__ = ["fit_toas", "FitResult", "STEP_TOLERANCE"]
 STEP_TOLERANCE = 1e-3
 
 
-@dataclass
-class FitResult:
+@dataclass(repr=False)
+class FitResult(ResultDisplay):
     """A timing fit.
 
     Attributes

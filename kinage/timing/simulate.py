@@ -23,6 +23,7 @@ import astropy.units as u
 import numpy as np
 from astropy.table import Table
 
+from .._results import ResultDisplay
 from ..errors import InputError
 from . import inputs
 from .forecast import noise_from_campaign
@@ -36,8 +37,8 @@ from .toas import write_toas
 __all__ = ["simulate_toas", "SimulationResult"]
 
 
-@dataclass
-class SimulationResult:
+@dataclass(repr=False)
+class SimulationResult(ResultDisplay):
     """Simulated TOAs.
 
     Attributes

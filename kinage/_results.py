@@ -1,0 +1,411 @@
+"""Notebook display for result objects: ``plot(kind=None, ax=None)``, a short ``repr`` and ``_repr_html_``.
+
+Result classes inherit :class:`ResultDisplay` and name their figures in
+``_plot_kinds`` (kind -> ``"module:function"`` of a drawing function owned by
+the stage, or ``"adapter:name"`` for one of the small adapters below) and their
+key numbers in ``_key_numbers()``.
+
+Drawing functions follow one contract: ``func(result, path=None, *, ax=None)``
+(stage-specific positional arguments allowed) draws into ``ax`` when given
+(otherwise a new figure), saves a PNG only when ``path`` is given, and returns
+the Figure.  For a drawing function that still takes only ``(result, path)``
+and uses :func:`kinage.report.style.new_figure` / ``save_figure``, this module
+redirects those two helpers while it runs, so the figure is drawn into the
+given Axes (a multi-panel figure splits the Axes' area) and returned instead of
+saved.  File writing stays in ``write_products``.
+"""
+
+import importlib
+import inspect
+import threading
+
+__all__ = ["ResultDisplay", "draw"]
+
+_LOCK = threading.RLock()
+
+
+def _table(self):
+    """The result's main table as an astropy QTable (columns with units).
+
+    Forecast: the baseline sweep; fit: the residuals; trace: one row per
+    association (best first); ages: each age with its 68% interval.
+    """
+    from astropy.table import QTable
+
+    from .errors import InputError
+
+    func = TABLES.get(type(self).__name__)
+    if func is None:
+        raise InputError("table", f"{type(self).__name__} has no table")
+    return QTable(func(self))
+
+
+class ResultDisplay:
+    """Mixin: ``plot``, ``__repr__`` and ``_repr_html_`` from ``_plot_kinds`` and ``_key_numbers``."""
+
+    #: kind -> "module:function" (first kind is the default); empty: the registry below by class name
+    _plot_kinds = {}
+
+    def _kinds(self):
+        return self._plot_kinds or PLOTS.get(type(self).__name__, {})
+
+    def _key_numbers(self):
+        """(label, text) pairs of the few numbers that describe the result."""
+        func = KEY_NUMBERS.get(type(self).__name__)
+        return func(self) if func else []
+
+    def __init_subclass__(cls, **kwargs):
+        super().__init_subclass__(**kwargs)
+        # a result whose dataclass has a field named 'table' keeps it (the method would become its default)
+        if "table" not in getattr(cls, "__annotations__", {}) and "table" not in vars(cls):
+            cls.table = _table
+
+    def plot(self, kind=None, ax=None, **kwargs):
+        """Draw one of the result's figures.
+
+        Parameters
+        ----------
+        kind : str, optional
+            One of ``plot_kinds()``; default the first.
+        ax : matplotlib.axes.Axes, optional
+            Draw into this Axes (a multi-panel figure splits its area);
+            default a new figure.
+        **kwargs
+            Passed to the drawing function (e.g. ``name=`` of an association).
+
+        Returns
+        -------
+        matplotlib.figure.Figure
+        """
+        from .errors import InputError
+
+        kinds = self.plot_kinds()
+        if not kinds:
+            raise InputError("plot", f"{type(self).__name__} has no figures")
+        kind = kinds[0] if kind is None else kind
+        if kind not in kinds:
+            raise InputError("plot kind", f"expected one of {', '.join(map(repr, kinds))} (got {kind!r})")
+        return draw(self._kinds()[kind], self, ax=ax, **kwargs)
+
+    def plot_kinds(self):
+        """The figure kinds :meth:`plot` draws, default first."""
+        return [k for k, spec in self._kinds().items() if _available(spec)]
+
+    def _safe_numbers(self):
+        try:
+            return [(str(k), str(v)) for k, v in self._key_numbers() if v is not None]
+        except Exception:  # noqa: BLE001 - a repr must never fail
+            return []
+
+    def __repr__(self):
+        nums = self._safe_numbers()
+        body = "; ".join(f"{k} {v}" for k, v in nums)
+        return f"<{type(self).__name__}{': ' + body if body else ''}>"
+
+    def _repr_html_(self):
+        from html import escape
+
+        rows = "".join(f"<tr><th style='text-align:left'>{escape(k)}</th><td style='text-align:left'>{escape(v)}"
+                       "</td></tr>" for k, v in self._safe_numbers())
+        try:
+            summary = self.summary()
+        except Exception:  # noqa: BLE001
+            summary = ""
+        return (f"<div><strong>{escape(type(self).__name__)}</strong>"
+                f"<table>{rows}</table><p>{escape(summary)}</p></div>")
+
+
+# ------------------------------------------------------------------ drawing
+def _available(spec):
+    try:
+        _resolve(spec)
+    except (ImportError, AttributeError, KeyError):
+        return False
+    return True
+
+
+def _resolve(spec):
+    if callable(spec):
+        return spec
+    if isinstance(spec, tuple):  # alternatives, first available wins
+        for alt in spec[:-1]:
+            if _available(alt):
+                return _resolve(alt)
+        return _resolve(spec[-1])
+    mod, _, name = spec.partition(":")
+    if mod == "adapter":
+        return globals()[f"_adapt_{name}"]
+    return getattr(importlib.import_module(mod), name)
+
+
+def draw(spec, *args, ax=None, **kwargs):
+    """Call a drawing function (``"module:function"`` or callable) so that it returns a Figure.
+
+    Parameters
+    ----------
+    spec : str or callable
+    *args
+        Positional arguments of the drawing function (the result first).
+    ax : matplotlib.axes.Axes, optional
+
+    Returns
+    -------
+    matplotlib.figure.Figure
+    """
+    func = _resolve(spec)
+    if getattr(func, "_kinage_adapter", False):
+        return func(*args, ax=ax, **kwargs)
+    params = inspect.signature(func).parameters
+    if "ax" in params:  # the owner's function follows the contract
+        if "path" in params and "path" not in kwargs:
+            kwargs["path"] = None
+        out = func(*args, ax=ax, **kwargs)
+        return _figure_of(out, ax)
+    if "fig" in params:  # a multi-panel figure: draw into a subfigure in the Axes' slot
+        target = top = None
+        if ax is not None:
+            top = ax.figure
+            target = top.add_subfigure(ax.get_subplotspec())
+            ax.remove()
+        out = func(*args, fig=target, **kwargs)
+        return top if top is not None else _figure_of(out, None)
+    with _redirect(func, ax) as box:
+        out = func(*args, **({"path": None} if "path" in params else {}), **kwargs)
+    return box.get("fig") or _figure_of(out, ax)
+
+
+def _figure_of(out, ax):
+    from matplotlib.figure import Figure
+
+    if isinstance(out, Figure):
+        return out
+    if ax is not None:
+        return ax.figure
+    if hasattr(out, "figure") and isinstance(out.figure, Figure):
+        return out.figure
+    raise TypeError("the drawing function returned no Figure")
+
+
+class _redirect:
+    """Temporarily route the module's new_figure / save_figure through the given Axes."""
+
+    def __init__(self, func, ax):
+        self.module = inspect.getmodule(func)
+        self.ax = ax
+        self.box = {}
+        self.saved = {}
+
+    def __enter__(self):
+        _LOCK.acquire()
+        g = vars(self.module)
+        for name in ("new_figure", "save_figure"):
+            if name in g:
+                self.saved[name] = g[name]
+        original_new = self.saved.get("new_figure")
+        ax, box = self.ax, self.box
+
+        def new_figure(ncols=1, nrows=1, width="column", aspect=0.75, **kw):
+            if ax is None:
+                fig, axes = original_new(ncols, nrows, width=width, aspect=aspect, **kw)
+            else:
+                fig, axes = ax.figure, _split(ax, nrows, ncols, **kw)
+            box["fig"] = fig
+            return fig, axes
+
+        def save_figure(fig, path=None):
+            box["fig"] = fig
+            return fig
+
+        if original_new is not None:
+            g["new_figure"] = new_figure
+        if "save_figure" in self.saved:
+            g["save_figure"] = save_figure
+        return box
+
+    def __exit__(self, *exc):
+        g = vars(self.module)
+        g.update(self.saved)
+        _LOCK.release()
+        return False
+
+
+def _split(ax, nrows, ncols, sharex=False, sharey=False, **_):
+    """Axes for an nrows x ncols figure inside the area of ``ax`` (``ax`` itself when 1 x 1)."""
+    import numpy as np
+
+    if nrows * ncols == 1:
+        return ax
+    fig = ax.figure
+    spec = ax.get_subplotspec() if hasattr(ax, "get_subplotspec") else None
+    axes = []
+    if spec is not None:
+        grid = spec.subgridspec(nrows, ncols)
+        ax.remove()
+        for i in range(nrows):
+            for j in range(ncols):
+                share = {"sharex": axes[0]} if sharex and axes else {}
+                if sharey and axes:
+                    share["sharey"] = axes[0]
+                axes.append(fig.add_subplot(grid[i, j], **share))
+    else:  # a free-standing Axes: divide its box
+        x0, y0, w, h = ax.get_position().bounds
+        ax.remove()
+        for i in range(nrows):
+            for j in range(ncols):
+                rect = (x0 + j * w / ncols, y0 + (nrows - 1 - i) * h / nrows, w / ncols * 0.9, h / nrows * 0.85)
+                axes.append(fig.add_axes(rect))
+    arr = np.array(axes, dtype=object).reshape(nrows, ncols)
+    return arr.ravel() if 1 in (nrows, ncols) else arr
+
+
+# ------------------------------------------------------------------ adapters
+def _adapter(func):
+    func._kinage_adapter = True
+    return func
+
+
+@_adapter
+def _adapt_trace(result, kind, ax=None, name=None):
+    """Trace figures drawn by kinage.orbits.products (the association: ``name`` or the best one)."""
+    products = importlib.import_module("kinage.orbits.products")
+    names = {"sky": ("sky_figure", "_sky"), "dmin_tau": ("dmin_tau_figure", "_dmin_tau"),
+             "tau_hist": ("tau_hist_figure", "_tau_hist"), "birth": ("birth_figure", "_birth_xyz")}[kind]
+    func = next((getattr(products, n) for n in names if hasattr(products, n)), None)
+    if func is None:
+        raise NotImplementedError(f"kinage.orbits.products has no figure for {kind!r}")
+    args = [result]
+    if kind != "sky":
+        s = result.best() if name is None else next((a for a in result.associations if a["name"] == name), None)
+        if s is None:
+            from .errors import InputError
+
+            raise InputError("name", f"no association {name!r} in this result" if name else "no associations")
+        args.append(s)
+    return draw(func, *args, ax=ax)
+
+
+for _kind in ("sky", "dmin_tau", "tau_hist", "birth"):
+    globals()[f"_adapt_trace_{_kind}"] = _adapter(
+        lambda result, ax=None, name=None, _k=_kind: _adapt_trace(result, _k, ax=ax, name=name))
+
+
+@_adapter
+def _adapt_ages_ladder(result, ax=None):
+    plots = importlib.import_module("kinage.ages.plots")
+    return draw(plots.plot_age_ladder, result.ladder_rows(), ax=ax, title=f"Ages of {result.star}")
+
+
+@_adapter
+def _adapt_ages_cooling(result, ax=None):
+    from .errors import InputError
+
+    plots = importlib.import_module("kinage.ages.plots")
+    c = result.cooling
+    if c is None:
+        raise InputError("plot kind", "no cooling age was computed (no temperature or luminosity)")
+    temp = (c.observed, c.observed_error) if c.quantity == "temperature" else None
+    return draw(plots.plot_cooling_curves, c.curves, ax=ax, temperature=temp,
+                kinematic=result.kinematic.get("interval"),
+                title=f"Cooling curves ({c.model}) and {result.star}")
+
+
+# ------------------------------------------------------------------ key numbers
+def fmt(value, unit="", digits=3):
+    """``value`` with ``digits`` significant digits and a unit ('n/a' for None / NaN)."""
+    import math
+
+    if value is None or (isinstance(value, float) and not math.isfinite(value)):
+        return None
+    return f"{value:.{digits}g} {unit}".strip()
+
+
+def _first(d, *keys):
+    for k in keys:
+        if isinstance(d, dict) and d.get(k) is not None:
+            return d[k]
+    return None
+
+
+def _forecast_numbers(r):
+    sig = r.solution.sigma_dict()
+    return [("visits", r.plan.n_visits), ("span", fmt(r.plan.span_yr, "yr")),
+            ("median TOA error", fmt(r.toa_error_s * 1e3, "ms")),
+            ("sigma_pm", fmt(sig.get("pm_ra_cosdec_masyr"), "") and
+             f"{sig['pm_ra_cosdec_masyr']:.3g} / {sig['pm_dec_masyr']:.3g} mas/yr (ra*cos dec / dec)"),
+            ("sigma_parallax", fmt(sig.get("parallax_mas"), "mas")),
+            ("pm significance", fmt(r.pm_significance, "sigma", 2)),
+            ("baseline needed", fmt(r.baseline_needed_yr, "yr"))]
+
+
+def _fit_numbers(r):
+    v, s = r.solution.values_dict(), r.solution.sigma_dict()
+    return [("TOAs", r.n_toas),
+            ("pm_ra_cosdec", f"{v['pm_ra_cosdec_masyr']:.4g} +/- {s['pm_ra_cosdec_masyr']:.2g} mas/yr"),
+            ("pm_dec", f"{v['pm_dec_masyr']:.4g} +/- {s['pm_dec_masyr']:.2g} mas/yr"),
+            ("parallax", f"{v['parallax_mas']:.4g} +/- {s['parallax_mas']:.2g} mas"),
+            ("reduced chi2", fmt(r.chi2_reduced, "", 3)), ("converged", r.converged)]
+
+
+def _simulation_numbers(r):
+    d = r.to_dict()
+    return [("TOAs", d["n_toas"]), ("median TOA error", fmt(d["toa_error_s"] * 1e3, "ms")),
+            ("span", fmt(d["span_yr"], "yr")), ("seed", d["seed"])]
+
+
+def _trace_numbers(r):
+    out = [("star", r.star_name), ("samples", r.n_samples), ("favoured", r.favoured or "none")]
+    best = r.best()
+    if best is not None:
+        out.append(("top association", best.get("name")))
+        p = _first(best, "probability")
+        if isinstance(p, dict):
+            p = _first(p, "value", "median", "p")
+        out.append(("probability", fmt(p, "", 2) if isinstance(p, float) else None))
+        out.append(("encounter fraction", fmt(_first(best, "encounter_fraction"), "", 2)))
+        age = _first(best, "age_yr") or {}
+        out.append(("kinematic age", fmt(age.get("median") / 1e6, "Myr") if age.get("median") else None))
+    return out
+
+
+def _ages_numbers(r):
+    kin = (r.kinematic or {}).get("interval") or {}
+    cool = r.cooling.pooled if r.cooling is not None else {}
+    return [("star", r.star), ("kinematic age", fmt(kin.get("median") and kin["median"] / 1e6, "Myr")),
+            ("characteristic age", fmt(r.values.get("characteristic_age_yr") and
+                                       r.values["characteristic_age_yr"] / 1e6, "Myr")),
+            ("cooling age", fmt(cool.get("median") and cool["median"] / 1e6, "Myr"))]
+
+
+def _trace_table(r):
+    from .orbits.products import association_table
+
+    return association_table(r)
+
+
+def _ages_table(r):
+    import astropy.units as u
+    import numpy as np
+
+    rows = r.ladder_rows()
+    cols = {"age": [lab for lab, _ in rows]}
+    for k in ("median", "lo68", "hi68"):
+        cols[k] = np.array([np.nan if (iv is None or iv.get(k) is None) else iv[k] for _, iv in rows]) * u.yr
+    return cols
+
+
+#: result class name -> kind -> drawing function ("module:function" or "adapter:name"); first kind is the default
+PLOTS = {
+    "ForecastResult": {"baseline": "kinage.timing.plots:forecast_figure", "plan": "kinage.timing.plots:plan_figure"},
+    "FitResult": {"residuals": "kinage.timing.plots:residual_figure"},
+    "TraceResult": {"sky": ("kinage.orbits.trace_figures:plot_sky", "adapter:trace_sky"),
+                    "dmin_tau": ("kinage.orbits.trace_figures:plot_dmin_tau", "adapter:trace_dmin_tau"),
+                    "dmin_control": "kinage.orbits.trace_figures:plot_dmin_control",
+                    "tau_hist": ("kinage.orbits.trace_figures:plot_tau_hist", "adapter:trace_tau_hist"),
+                    "plane_crossing": "kinage.orbits.trace_figures:plot_plane_crossing",
+                    "birth": ("kinage.orbits.trace_figures:plot_birth_xyz", "adapter:trace_birth")},
+    "AgesResult": {"ladder": "adapter:ages_ladder", "cooling": "adapter:ages_cooling"},
+}
+KEY_NUMBERS = {"ForecastResult": _forecast_numbers, "FitResult": _fit_numbers, "SimulationResult": _simulation_numbers,
+               "TraceResult": _trace_numbers, "AgesResult": _ages_numbers}
+TABLES = {"ForecastResult": lambda r: r.sweep_table(), "FitResult": lambda r: r.residual_table(),
+          "SimulationResult": lambda r: r.table, "TraceResult": _trace_table, "AgesResult": _ages_table}
