@@ -101,10 +101,18 @@ def cmd_simulate(args):
 
 def cmd_fit(args):
     scenario = load_scenario(args.scenario)
-    from .timing import fit_toas, read_toas
+    from .errors import ConvergenceError
+    from .timing import fit_toas
 
-    toas = read_toas(args.toas)
-    result = fit_toas(toas, scenario)
+    try:
+        result = fit_toas(Path(args.toas), scenario)  # the path names the file in error messages
+    except ConvergenceError as exc:
+        if exc.last_result is None:
+            raise
+        # the last iterate is still written (converged: false, with the likely cause); exit status 1
+        _finish(args, exc.last_result, scenario, "fit", seed=args.seed, extra_files=[args.toas])
+        print(f"kinage fit: not converged: {exc}", file=sys.stderr)
+        return 1
     return _finish(args, result, scenario, "fit", seed=args.seed, extra_files=[args.toas])
 
 
