@@ -21,7 +21,8 @@ Technometrics 22, 315): for each visit the best replacement among the free
 candidate days of its year is found for all candidates at once with the
 rank-two (Sherman-Morrison-Woodbury) update of M^-1, and taken when it lowers
 the criterion.  Sweeps repeat until no exchange helps; a few starts (the even
-plan and random plans) guard against a local optimum.
+plan and random plans) guard against a local optimum; the search stops when
+three starts agree on the best design.
 """
 
 from dataclasses import dataclass
@@ -52,12 +53,15 @@ class DesignResult:
         Exchange sweeps of the best start.
     exchanges : int
         Accepted exchanges over all starts.
+    scale : ndarray
+        Column scaling s used inside (``value`` is the criterion of rows / s with C / s).
     """
 
     chosen: np.ndarray
     value: float
     sweeps: int
     exchanges: int
+    scale: np.ndarray | None = None
 
 
 def criterion(rows, cmat):
@@ -155,7 +159,8 @@ def _improve(x, cmat, block, chosen, max_sweeps):
     return np.sort(chosen), value, sweeps, exchanges
 
 
-def exchange_design(rows, cmat, block, counts, start=None, *, n_random=2, max_sweeps=40, rng=None):
+def exchange_design(rows, cmat, block, counts, start=None, *, n_random=2, agree=3, kicks=8, kick_size=3,
+                    max_sweeps=40, rng=None):
     """c-optimal exact design by exchange (see module docstring).
 
     Parameters
@@ -170,7 +175,12 @@ def exchange_design(rows, cmat, block, counts, start=None, *, n_random=2, max_sw
     start : ndarray of int, optional
         A starting design (indices); default: evenly spread in each block.
     n_random : int
-        Additional random starts.
+        Additional random starts (at most).
+    agree : int
+        Stop once this many starts have ended at the same best criterion.
+    kicks, kick_size : int
+        Iterated local search after the starts: ``kicks`` times, move ``kick_size`` visits of the best
+        design at random within their year and descend again.
     rng : numpy.random.Generator | int | None
         Random starts (default seed 0, so the design is reproducible).
 
@@ -196,22 +206,39 @@ def exchange_design(rows, cmat, block, counts, start=None, *, n_random=2, max_sw
                              f"campaign year {b + 1} has {m.size} allowed days for {n} visits: lower the cadence "
                              "or the Sun-avoidance angle")
     starts = []
-    if start is not None:
+    if start is not None and np.all(np.bincount(block[start], minlength=counts.size) == counts):
         starts.append(np.asarray(start, int).copy())
     starts.append(np.concatenate([m[np.round(np.linspace(0, m.size - 1, n)).astype(int)] if n else m[:0]
                                   for m, n in zip(members, counts)]))
     for _ in range(n_random):
         starts.append(np.concatenate([rng.choice(m, n, replace=False) for m, n in zip(members, counts)]))
-    best, total = None, 0
+    best, total, hits = None, 0, 0
     for s0 in starts:
         if np.unique(s0).size != s0.size:
             continue
         chosen, value, sweeps, exchanges = _improve(x, cm, block, s0.copy(), max_sweeps)
         total += exchanges
-        if best is None or value < best.value:
+        if best is not None and abs(value - best.value) <= 1e-9 * best.value:
+            hits += 1
+        elif best is None or value < best.value:
+            best, hits = DesignResult(chosen, value, sweeps, 0), 1
+        if hits >= agree:  # this many starts ended at the same best design: take it
+            break
+    # iterated local search: kick the best design (a few visits moved at random within their year) and
+    # descend again; keep what improves (common practice for exchange heuristics, no source)
+    for _ in range(kicks if best is not None and np.isfinite(best.value) else 0):
+        trial = best.chosen.copy()
+        for slot in rng.choice(trial.size, min(kick_size, trial.size), replace=False):
+            free = np.setdiff1d(members[block[trial[slot]]], trial)
+            if free.size:
+                trial[slot] = rng.choice(free)
+        chosen, value, sweeps, exchanges = _improve(x, cm, block, trial, max_sweeps)
+        total += exchanges
+        if value < best.value * (1 - _REL_TOL):
             best = DesignResult(chosen, value, sweeps, 0)
     if best is None or not np.isfinite(best.value):
         raise InputError("[campaign] schedule", "no schedule within the Sun-allowed days constrains every "
                          "timing parameter: add visits or lengthen the baseline")
     best.exchanges = total
+    best.scale = scale
     return best

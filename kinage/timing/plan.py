@@ -26,7 +26,7 @@ import numpy as np
 from astropy.time import Time
 
 from ..errors import InputError
-from .design import SCHEDULES, exchange_design, year_blocks
+from .design import SCHEDULES, criterion, exchange_design, year_blocks
 
 __all__ = ["ObservingPlan", "SunWindow", "sun_separation", "regular_epochs", "make_plan", "optimised_epochs",
            "schedule_of", "schedule_combinations", "candidate_rows", "SUN_MARGIN_DEG", "SCHEDULES"]
@@ -343,5 +343,26 @@ def optimised_epochs(schedule, ra_deg, dec_deg, nominal, baseline_yr, window, *,
         window._rows[key] = candidate_rows(ra_deg, dec_deg, cand, spin_terms)
     rows = window._rows[key]
     cmat = schedule_combinations(schedule, direction, rows.shape[1])
-    res = exchange_design(rows, cmat, block, counts, rng=rng)
+    even = window.shift(nominal)
+    res = exchange_design(rows, cmat, block, counts, start=_nearest_free(cand, block, even, start), rng=rng)
+    # the even plan itself is a candidate answer: an optimised schedule is never worse than it
+    even_value = criterion(candidate_rows(ra_deg, dec_deg, np.sort(even), spin_terms) / res.scale, cmat / res.scale[:, None])
+    if even_value <= res.value:
+        return np.sort(even)
     return cand[res.chosen]
+
+
+def _nearest_free(cand, block, epochs, start):
+    """Candidate indices nearest to ``epochs``, one per epoch, in the epoch's campaign year."""
+    n_years = block.max() + 1
+    eb = np.clip(np.floor((np.asarray(epochs) - start) / _YEAR_D + 1e-12).astype(int), 0, n_years - 1)
+    free = np.ones(cand.size, bool)
+    out = []
+    for t, b in zip(epochs, eb):
+        idx = np.flatnonzero((block == b) & free)
+        if idx.size == 0:
+            return None
+        k = idx[np.argmin(np.abs(cand[idx] - t))]
+        free[k] = False
+        out.append(k)
+    return np.array(out)
