@@ -22,7 +22,7 @@ _EXAMPLES = {
     "trace": "kinage trace star.toml --samples 5000 --json trace.json --out trace/",
     "ages": "kinage ages star.toml --trace-json trace.json --json ages.json --out ages/",
     "run": "kinage run star.toml --out results/",
-    "demo": "kinage demo --out kinage-demo/",
+    "demo": "kinage demo --case radio --out kinage-demo/",
     "batch": "kinage batch stars.ecsv --scenario template.toml --out population/ --workers 2",
     "keys": "kinage keys trace",
     "parameter-sets": "kinage parameter-sets velocity_prior",
@@ -35,7 +35,7 @@ _HELP = {
     "trace": "trace the star and candidate birth associations back in time",
     "ages": "compare kinematic, spin-down and cooling ages",
     "run": "run every stage the scenario asks for and write a report",
-    "demo": "copy the bundled invented scenario to a folder and run it end to end",
+    "demo": "copy a bundled invented demo case to a folder and run it end to end (--list shows the cases)",
     "batch": "run many stars from a table with one scenario template",
     "keys": "list the scenario keys of a table with units and defaults",
     "parameter-sets": "list the named parameter sets and their references",
@@ -56,9 +56,16 @@ def _common(p, *, json=True, out=True, seed=True):
     g.add_argument("--debug", action="store_true", help="show the full traceback of an unexpected error")
 
 
+class _Parser(argparse.ArgumentParser):
+    """An argument parser whose usage errors are one line (exit status 2), like every other input error."""
+
+    def error(self, message):
+        self.exit(2, f"{self.prog}: error: {' '.join(str(message).split())} (see '{self.prog} --help')\n")
+
+
 def build_parser():
     """The argument parser with all verbs."""
-    parser = argparse.ArgumentParser(
+    parser = _Parser(
         prog="kinage",
         description=textwrap.dedent("""\
             Timing astrometry, birthplace tracing and age comparison for isolated neutron stars.
@@ -110,6 +117,8 @@ def build_parser():
     _common(p)
 
     p = verb("demo")
+    p.add_argument("--list", action="store_true", help="list the demo cases, one line each, name first")
+    p.add_argument("--case", metavar="NAME", help="which demo case to run (default: xray; see --list)")
     p.add_argument("--samples", type=int, metavar="N", help="Monte Carlo draws of the star (default: the demo's)")
     _common(p)
 
@@ -141,10 +150,21 @@ def main(argv=None):
     from .progress import set_quiet
 
     set_quiet(getattr(args, "quiet", False) or not sys.stderr.isatty())
-    from . import commands
+    from .interrupts import EXIT_SIGINT, EXIT_SIGTERM, Terminated, interrupt_guard
 
     try:
-        return getattr(commands, "cmd_" + args.verb.replace("-", "_"))(args) or 0
+        with interrupt_guard(f"kinage {args.verb}"):
+            from . import commands
+            from .io.options import check_arguments
+
+            check_arguments(args)  # every option checked before anything is read, created or run
+            command = getattr(commands, "cmd_" + args.verb.replace("-", "_"))
+            if getattr(args, "out", None) is not None and args.verb in _SINGLE_STAGE:
+                from .io.rundir import output_lock
+
+                with output_lock(args.out):  # one command at a time per output folder
+                    return command(args) or 0
+            return command(args) or 0
     except InputError as exc:
         for line in _problem_lines(exc):
             print(f"kinage {args.verb}: error: {line}", file=sys.stderr)
@@ -152,16 +172,21 @@ def main(argv=None):
     except (ConvergenceError, StageError, KinageError) as exc:
         print(f"kinage {args.verb}: failed: {exc}", file=sys.stderr)
         return 1
-    except KeyboardInterrupt:
-        print(f"kinage {args.verb}: interrupted; every file written is complete (unfinished work is discarded)",
+    except KeyboardInterrupt as exc:
+        how = "terminated (SIGTERM)" if isinstance(exc, Terminated) else "interrupted"
+        print(f"kinage {args.verb}: {how}; every file written is complete (unfinished work is discarded)",
               file=sys.stderr)
-        return 130
+        return EXIT_SIGTERM if isinstance(exc, Terminated) else EXIT_SIGINT
     except Exception as exc:  # noqa: BLE001
         if getattr(args, "debug", False):
             raise
         print(f"kinage {args.verb}: unexpected error ({type(exc).__name__}: {exc}); "
               "rerun with --debug for the traceback and please report it", file=sys.stderr)
         return 1
+
+
+#: verbs that write --out themselves (run, demo and batch lock and stage their folders in pipeline / batch)
+_SINGLE_STAGE = ("forecast", "simulate", "fit", "trace", "ages")
 
 
 def _problem_lines(exc):

@@ -1,7 +1,6 @@
 """What each command-line verb does (argument parsing lives in :mod:`kinage.cli`)."""
 
 import json
-import shutil
 import sys
 import time
 from pathlib import Path
@@ -29,7 +28,10 @@ def _require_table(scenario, table, verb):
 def _finish(args, result, scenario, verb, seed=None, extra_files=()):
     """Shared tail of the single-stage verbs: products, JSON, summary."""
     if getattr(args, "out", None):
-        files = result.write_products(args.out)
+        from .io.rundir import staged_files
+
+        with staged_files(args.out) as work:  # an interrupted write leaves --out as it was
+            files = result.write_products(work)
         _say(args, f"wrote {len(files)} files to {args.out}")
     if getattr(args, "json", None):
         prov = provenance(scenario=scenario, seed=seed, parameter_sets=getattr(result, "parameter_sets", []),
@@ -124,6 +126,9 @@ def cmd_trace(args):
 
     if args.samples is not None and args.samples < 1:
         raise InputError("--samples", f"must be a positive whole number (got {args.samples})")
+    from .io.limits import check_resources
+
+    check_resources(scenario, samples=args.samples)
     seed = scenario_seed(scenario, args.seed)
     result = trace(scenario, solution=solution_for_trace(scenario), rng=stage_seed(seed, "trace"),
                    samples=args.samples, potential=args.potential, progress=_progress(args))
@@ -153,20 +158,30 @@ def _ages_from_trace_json(path):
     import numpy as np
 
     try:
-        data = json.loads(Path(path).read_text())
+        data = json.loads(Path(path).read_text(encoding="utf-8"))
     except (OSError, ValueError) as exc:
         raise InputError("--trace-json", f"cannot read a JSON trace result from {path} ({exc})") from None
+    if not isinstance(data, dict):
+        raise InputError("--trace-json", f"{path} holds a JSON {type(data).__name__}, not the object (with "
+                                         "'associations' and 'favoured') that 'kinage trace --json' writes")
+    data = data.get("trace", data) if isinstance(data.get("trace"), dict) else data  # a 'kinage run' JSON too
     assocs = data.get("associations") or []
     fav = data.get("favoured")
-    best = next((a for a in assocs if a.get("name") == fav), None)
+    if not isinstance(assocs, list):
+        raise InputError("--trace-json", f"{path}: 'associations' is not a list")
+    best = next((a for a in assocs if isinstance(a, dict) and a.get("name") == fav), None)
     if best is None:
         raise InputError("--trace-json", f"{path} names no favoured association, so it gives no kinematic age")
-    age = best.get("age_yr") or {}
-    if age.get("median") is None:
-        raise InputError("--trace-json", f"{path}: association {fav} has no age")
+    age = best.get("age_yr") if isinstance(best.get("age_yr"), dict) else {}
+    try:
+        med, lo, hi = (float(age[k]) for k in ("median", "lo68", "hi68"))
+    except (KeyError, TypeError, ValueError):
+        raise InputError("--trace-json", f"{path}: association {fav} has no age (median, lo68, hi68)") from None
+    if not (np.isfinite([med, lo, hi]).all() and 0 < lo <= med <= hi <= 1.38e10):
+        raise InputError("--trace-json", f"{path}: association {fav} has an implausible age interval "
+                                         f"(median {med:g}, 68% {lo:g}-{hi:g} yr)")
     # the JSON keeps the 68% interval, not the samples: rebuild a two-sided normal from it
     rng = np.random.default_rng(0)
-    med, lo, hi = age["median"], age["lo68"], age["hi68"]
     z = rng.normal(size=4000)
     return np.where(z < 0, med + z * (med - lo), med + z * (hi - med)), f"trace JSON: association {fav}"
 
@@ -194,25 +209,44 @@ def _run_and_report(args, scenario, out):
 
 
 def demo_folder():
-    """The bundled demo data folder (``data_demo/`` beside the package)."""
-    here = Path(__file__).resolve().parent
-    for cand in (here.parent / "data_demo", here / "data_demo"):
-        if (cand / "scenario.toml").is_file():
-            return cand
-    raise InputError("demo", "the bundled demo data (data_demo/scenario.toml) was not found; "
-                     "install kinage from its source folder (pip install -e .)")
+    """The bundled demo data folder (see :func:`kinage.demo.demo_folder`)."""
+    from .demo import demo_folder as _folder
+
+    return _folder()
 
 
 def cmd_demo(args):
-    src = demo_folder()
+    """``kinage demo``: list the invented cases, or copy one to ``--out`` and run it end to end."""
+    from .demo import copy_case, get_case, list_lines
+
+    if getattr(args, "list", False):
+        for line in list_lines():
+            print(line)
+        return 0
+    case = get_case(getattr(args, "case", None))
     out = Path(args.out or "kinage-demo")
-    out.mkdir(parents=True, exist_ok=True)
-    for f in src.iterdir():
-        if f.is_file() and f.suffix in (".toml", ".ecsv", ".csv", ".md"):
-            shutil.copy2(f, out / f.name)
-    _say(args, f"copied the invented demo scenario to {out}/")
+    copy_case(case, out)
+    _say(args, f"copied the invented demo case '{case.name}' to {out}/")
+    if case.kind == "batch":
+        return _demo_batch(args, case, out)
     scenario = load_scenario(out / "scenario.toml")
     return _run_and_report(args, scenario, out / "results")
+
+
+def _demo_batch(args, case, out):
+    import argparse
+
+    from .batch import run_batch
+    from .report.population import write_population_report
+
+    t0 = time.perf_counter()
+    bargs = argparse.Namespace(stars=out / case.files[0], scenario=out / case.files[1], out=out / "results",
+                               seed=args.seed, samples=getattr(args, "samples", None), force=False,
+                               quiet=getattr(args, "quiet", False), scheduler=None, workers=2)
+    status = run_batch(bargs)
+    report = write_population_report(out / "results", command=f"kinage demo --case {case.name}")
+    _say(args, f"finished in {time.perf_counter() - t0:.1f} s; report: {report}")
+    return status
 
 
 def cmd_batch(args):

@@ -54,8 +54,12 @@ def plan_stages(scenario):
     return stages
 
 
-def preflight(scenario):
+def preflight(scenario, samples=None):
     """Read and validate every table the planned stages need, before any stage runs.
+
+    Also checks the resources the run would need against the limits of
+    :mod:`kinage.io.limits` (memory for draws x time steps, work), with
+    ``samples`` overriding ``[trace] samples``.
 
     Returns
     -------
@@ -78,6 +82,9 @@ def preflight(scenario):
         from .associations import read_associations
 
         loaded["associations"] = read_associations(scenario.trace.associations)
+    from .io.limits import check_resources
+
+    check_resources(scenario, samples=samples, n_associations=len(loaded.get("associations") or ()) or None)
     return loaded
 
 
@@ -209,7 +216,7 @@ def scenario_seed(scenario, seed=None):
 
 
 def run_pipeline(scenario, out_dir, *, seed=None, samples=None, progress=False, report=True, products=True,
-                 log=None):
+                 log=None, isolate=True):
     """Run every stage the scenario asks for and write results, figures and a report.
 
     Parameters
@@ -229,6 +236,13 @@ def run_pipeline(scenario, out_dir, *, seed=None, samples=None, progress=False, 
         Write each stage's tables and figures (``results.json`` is always written).
     log : callable, optional
         Called with one line of text per stage.
+    isolate : bool
+        Lock ``out_dir`` against a second run and write into a fresh staging
+        folder that replaces ``out_dir`` as a whole only when the run
+        completes (a failed stage completes the run; results.json names it).
+        An interrupted run leaves the previous ``out_dir`` untouched.
+        ``False`` writes straight into ``out_dir`` (batch tasks, which stage
+        each star themselves).
 
     Returns
     -------
@@ -237,9 +251,28 @@ def run_pipeline(scenario, out_dir, *, seed=None, samples=None, progress=False, 
         and on disk.
     """
     log = log or (lambda line: None)
-    inputs = preflight(scenario)  # a bad table stops the run here, before any stage or output
+    if samples is not None and not 1 <= int(samples):
+        raise InputError("samples", f"must be a positive whole number (got {samples})")
+    inputs = preflight(scenario, samples=samples)  # a bad table stops the run here, before any stage or output
     out_dir = Path(out_dir)
-    out_dir.mkdir(parents=True, exist_ok=True)
+    if not isolate:
+        out_dir.mkdir(parents=True, exist_ok=True)
+        return _run_into(scenario, out_dir, inputs, seed=seed, samples=samples, progress=progress, report=report,
+                         products=products, log=log)
+    from .io.rundir import check_replaceable, output_lock, staged_folder
+
+    check_replaceable(out_dir)
+    with output_lock(out_dir), staged_folder(out_dir) as work:
+        run = _run_into(scenario, work, inputs, seed=seed, samples=samples, progress=progress, report=report,
+                        products=products, log=log)
+    final = Path(out_dir).absolute()
+    run.files = [final / Path(f).relative_to(work) if Path(f).is_relative_to(work) else f for f in run.files]
+    run.out_dir = final
+    return run
+
+
+def _run_into(scenario, out_dir, inputs, *, seed, samples, progress, report, products, log):
+    """The stages, writing into ``out_dir`` (see :func:`run_pipeline`)."""
     seed = scenario_seed(scenario, seed)
     run = RunResult(scenario, out_dir, seed, plan_stages(scenario))
     json_path = out_dir / "results.json"

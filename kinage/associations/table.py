@@ -42,6 +42,36 @@ REQUIRED = ("name", "ra", "dec", "distance", "pm_ra_cosdec", "pm_dec", "radial_v
 OPTIONAL = ("distance_error", "pm_ra_cosdec_error", "pm_dec_error", "radial_velocity_error", "ra_error", "dec_error",
             "age_error")
 _POSITIVE = ("distance", "radius", "age")
+#: physical ranges of a row: column -> (low, high, low open, high open, reason)
+_RANGES = {
+    "ra": (0.0, 360.0, False, True, "right ascension is an angle in [0, 360) deg"),
+    "dec": (-90.0, 90.0, False, False, "declination is an angle in [-90, 90] deg"),
+    "distance": (1.0, 1e5, False, False, "a Galactic association lies between 1 pc and 100 kpc"),
+    "age": (0.0, 13_800.0, True, False, "no association is older than the Galaxy (13.8 Gyr)"),
+    "radius": (0.0, 1e4, True, False, "an association is smaller than 10 kpc"),
+    "pm_ra_cosdec": (-1e5, 1e5, False, False, "no star moves 100 arcsec/yr across the sky"),
+    "pm_dec": (-1e5, 1e5, False, False, "no star moves 100 arcsec/yr across the sky"),
+    "radial_velocity": (-5000.0, 5000.0, False, False, "no association moves faster than ~1000 km/s"),
+}
+_MAX_NAME = 200
+_MAX_ROWS = 100_000
+
+
+def _range_problem(col, x):
+    if col not in _RANGES:
+        return None
+    lo, hi, lo_open, hi_open, why = _RANGES[col]
+    if x < lo or x > hi or (lo_open and x == lo) or (hi_open and x == hi):
+        span = f"{'(' if lo_open else '['}{lo:g}, {hi:g}{')' if hi_open else ']'} {COLUMNS[col]}"
+        return f"must be in {span}: {why} (got {x:g} {COLUMNS[col]})"
+    return None
+
+
+def _shown(v):
+    if hasattr(v, "item") and getattr(v, "ndim", None) == 0:
+        v = v.item()
+    text = repr(v)
+    return text if len(text) <= 60 else text[:60] + "..."
 
 
 @dataclass(frozen=True)
@@ -187,6 +217,8 @@ def associations_from_table(table, source="table"):
                          + "; required: " + ", ".join(REQUIRED))
     if len(table) == 0:
         raise InputError(source, "the association table has no rows")
+    if len(table) > _MAX_ROWS:
+        raise InputError(source, f"{len(table):,} rows, above the limit of {_MAX_ROWS:,} associations")
     factors = {}
     for col, unit in COLUMNS.items():
         if col not in table.colnames:
@@ -203,6 +235,9 @@ def associations_from_table(table, source="table"):
         name = "" if name is None or (isinstance(name, float) and np.isnan(name)) else str(name).strip()
         if not name:
             raise InputError(f"{where}, column 'name'", "every association needs a name (got an empty value)")
+        if len(name) > _MAX_NAME:
+            raise InputError(f"{where}, column 'name'", f"names are at most {_MAX_NAME} characters long "
+                                                        f"(got {len(name)} characters)")
         if name in seen:
             raise InputError(f"{where}, column 'name'", f"duplicate name '{name}' (also in row {seen[name] + 1})")
         seen[name] = i
@@ -216,19 +251,19 @@ def associations_from_table(table, source="table"):
                 x = float(raw) * factors[col]
             except (TypeError, ValueError):
                 raise InputError(f"{where}, column '{col}'", f"association '{name}': expected a number in "
-                                 f"{COLUMNS[col]} (got {raw!r})") from None
+                                 f"{COLUMNS[col]} (got {_shown(raw)})") from None
             if not np.isfinite(x):
                 raise InputError(f"{where}, column '{col}'", f"association '{name}': missing or non-finite value "
-                                 f"(got {raw}); expected a number in {COLUMNS[col]}")
+                                 f"(got {_shown(raw)}); expected a number in {COLUMNS[col]}")
             if col in _POSITIVE and x <= 0:
                 raise InputError(f"{where}, column '{col}'", f"association '{name}': must be positive "
                                  f"(got {x:g} {COLUMNS[col]})")
             if col.endswith("_error") and x < 0:
                 raise InputError(f"{where}, column '{col}'", f"association '{name}': must be >= 0 "
                                  f"(got {x:g} {COLUMNS[col]})")
+            problem = _range_problem(col, x)
+            if problem:
+                raise InputError(f"{where}, column '{col}'", f"association '{name}': {problem}")
             vals[col] = x
-        if not -90.0 <= vals["dec"] <= 90.0:
-            raise InputError(f"{where}, column 'dec'", f"association '{name}': must be in [-90, 90] deg "
-                             f"(got {vals['dec']:g})")
         rows.append(Association(name=name, **vals))
     return AssociationTable(tuple(rows), source)

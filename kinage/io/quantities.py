@@ -12,7 +12,25 @@ from astropy.time import Time
 
 from ..errors import InputError
 
-__all__ = ["parse_quantity", "parse_time", "format_quantity"]
+__all__ = ["parse_quantity", "parse_time", "format_quantity", "shown"]
+
+_MAX_TEXT = 200  # longest value string parsed (astropy's unit parser is slow on huge strings)
+
+
+def shown(value, limit=60):
+    """``repr`` of a value for messages: numpy scalars as plain Python, long values cut.
+
+    >>> import numpy as np
+    >>> shown(np.str_("abc")), shown(np.float64(0.5))
+    ("'abc'", '0.5')
+    """
+    if hasattr(value, "item") and getattr(value, "ndim", None) == 0:
+        value = value.item()
+    if isinstance(value, (list, tuple)):
+        text = "[" + ", ".join(shown(v, limit) for v in value[:5]) + (", ..." if len(value) > 5 else "") + "]"
+    else:
+        text = repr(value)
+    return text if len(text) <= limit else f"{text[:limit]}... ({len(text)} characters)"
 
 
 def format_quantity(q):
@@ -52,6 +70,8 @@ def parse_quantity(value, unit, where, *, allow_array=False):
     expected = f"a number in {unit.to_string() or 'dimensionless units'} or a string with a unit of {_physical(unit)}"
     if isinstance(value, bool):
         raise InputError(where, f"expected {expected} (got {value!r})")
+    if isinstance(value, str) and len(value) > _MAX_TEXT:
+        raise InputError(where, f"expected {expected} (got a string of {len(value)} characters)")
     if allow_array and isinstance(value, (list, tuple)):
         parts = [parse_quantity(v, unit, f"{where}[{i}]") for i, v in enumerate(value)]
         return u.Quantity(parts)
@@ -64,12 +84,12 @@ def parse_quantity(value, unit, where, *, allow_array=False):
         try:
             q = u.Quantity(text)
         except (TypeError, ValueError):
-            raise InputError(where, f"expected {expected} (got {value!r}, which is not a number with a unit)") from None
+            raise InputError(where, f"expected {expected} (got {shown(value)}, which is not a number with a unit)") from None
         if q.unit == u.dimensionless_unscaled and unit != u.dimensionless_unscaled:
             # a bare number written as a string: take the default unit
             q = q.value * unit
     else:
-        raise InputError(where, f"expected {expected} (got {type(value).__name__} {value!r})")
+        raise InputError(where, f"expected {expected} (got {type(value).__name__} {shown(value)})")
     if not q.isscalar and not allow_array:
         raise InputError(where, f"expected a single value (got {len(q)} values)")
     try:
@@ -116,14 +136,14 @@ def parse_time(value, where, *, scale="tdb"):
     if isinstance(value, Time):
         return value
     if isinstance(value, bool):
-        raise InputError(where, f"expected an MJD number or an ISO date like '2027-03-01' (got {value!r})")
+        raise InputError(where, f"expected an MJD number or an ISO date like '2027-03-01' (got {shown(value)})")
     if isinstance(value, (int, float)):
         if not math.isfinite(value) or not (0 < value < 200000):
             raise InputError(where, f"expected an MJD between 0 and 200000 (got {value!r})")
         return Time(float(value), format="mjd", scale=scale)
     if hasattr(value, "isoformat"):  # TOML dates and datetimes
         value = value.isoformat()
-    if isinstance(value, str):
+    if isinstance(value, str) and len(value) <= _MAX_TEXT:
         text = value.strip()
         try:
             if text.upper().startswith("MJD"):
@@ -133,4 +153,4 @@ def parse_time(value, where, *, scale="tdb"):
             return Time(text, format="isot" if "T" in text else "iso", scale=scale)
         except (ValueError, TypeError):
             pass
-    raise InputError(where, f"expected an MJD number or an ISO date like '2027-03-01' (got {value!r})")
+    raise InputError(where, f"expected an MJD number or an ISO date like '2027-03-01' (got {shown(value)})")

@@ -18,6 +18,8 @@ Examples
 
 import difflib
 import hashlib
+import math
+import os
 import tomllib
 from dataclasses import dataclass, field
 from pathlib import Path
@@ -26,8 +28,15 @@ import astropy.units as u
 from astropy.coordinates import Angle
 
 from ..errors import InputError, ScenarioError
-from .quantities import format_quantity, parse_quantity, parse_time
+from .quantities import format_quantity, parse_quantity, parse_time, shown
 from .schema import SCHEMA, TOP_LEVEL_KEYS, Key
+
+#: most visits (TOAs) a campaign may plan: the timing matrices grow as visits x parameters
+MAX_VISITS = 100_000
+#: G M_sun / c^2 in km (IAU 2015 nominal solar mass parameter)
+_GM_SUN_C2_KM = 1.4766250
+#: plausible epochs: MJD 15020 (1900-01-01) to 124593 (2200-01-01)
+MJD_RANGE = (15020.0, 124593.0)
 
 __all__ = ["Section", "Scenario", "load_scenario", "scenario_from_dict", "file_sha256"]
 
@@ -180,10 +189,15 @@ def load_scenario(path, *, allow_missing=()):
     ScenarioError
         Listing every problem, each naming its table and key.
     """
-    path = Path(path)
-    if not path.is_file():
-        raise ScenarioError([InputError("scenario", f"file not found: {path}")])
-    data = path.read_bytes()
+    from .paths import check_input_file
+
+    try:
+        path = check_input_file(path, "scenario", what="scenario file")
+        data = path.read_bytes()
+    except InputError as exc:
+        raise ScenarioError([exc]) from None
+    except OSError as exc:
+        raise ScenarioError([InputError("scenario", f"cannot read {path} ({exc.strerror or exc})")]) from None
     try:
         raw = tomllib.loads(data.decode("utf-8"))
     except UnicodeDecodeError:
@@ -220,11 +234,18 @@ def scenario_from_dict(raw, base_dir=".", source=None, *, allow_missing=()):
     for key, val in raw.items():
         if key in TOP_LEVEL_KEYS:
             if not isinstance(val, str):
-                problems.append(InputError(key, f"expected a string (got {val!r})"))
+                problems.append(InputError(key, f"expected a string (got {shown(val)})"))
+            elif len(val) > _MAX_TEXT:
+                problems.append(InputError(key, f"longer than {_MAX_TEXT} characters (got {len(val)})"))
             continue
         if key not in SCHEMA:
-            problems.append(InputError(f"[{key}]", "unknown table" + _suggest(key, list(SCHEMA) + list(TOP_LEVEL_KEYS))
-                                       + "; expected one of [star], [campaign], [trace], [ages]"))
+            if isinstance(val, dict):
+                problems.append(InputError(f"[{_short(key)}]", "unknown table" + _suggest(key, list(SCHEMA))
+                                           + "; expected one of [star], [campaign], [trace], [ages]"))
+            else:
+                problems.append(InputError(_short(key), "unknown top-level key" + _suggest(key, TOP_LEVEL_KEYS)
+                                           + "; only 'title' and 'description' may stand above the tables "
+                                             "[star], [campaign], [trace], [ages]"))
             continue
         if not isinstance(val, dict):
             problems.append(InputError(f"[{key}]", f"expected a table of keys (got {type(val).__name__})"))
@@ -233,7 +254,11 @@ def scenario_from_dict(raw, base_dir=".", source=None, *, allow_missing=()):
     if "star" not in raw:
         problems.append(InputError("[star]", "missing table: every scenario describes one star"))
     if not problems:
+        _resolve_distance(sections, problems)
+    if not problems:
         _cross_checks(sections, problems)
+    if not problems:
+        _physical_checks(sections, problems)
     if problems:
         raise ScenarioError(problems, source=source)
     return Scenario(
@@ -246,8 +271,22 @@ def scenario_from_dict(raw, base_dir=".", source=None, *, allow_missing=()):
     )
 
 
+_MAX_TEXT = 10_000  # title / description
+_MAX_NAME = 200  # a string value without its own max_length
+_MAX_PATH = 4096
+
+
+def _short(name, limit=60):
+    """A name as shown in a message: cut when absurdly long."""
+    name = str(name)
+    return name if len(name) <= limit else f"{name[:limit]}... ({len(name)} characters)"
+
+
 def _suggest(name, choices):
-    close = difflib.get_close_matches(name, choices, n=1, cutoff=0.5)
+    """' (did you mean X?)' only for a genuinely close match (a typo, not a different word)."""
+    if len(name) > 64:
+        return ""
+    close = difflib.get_close_matches(name, list(choices), n=1, cutoff=0.8)
     return f" (did you mean '{close[0]}'?)" if close else ""
 
 
@@ -256,9 +295,10 @@ def _parse_section(table, raw, base_dir, problems, allow_missing=frozenset()):
     allowed = set(schema) | {f"{k.name}_error" for k in schema.values() if k.error}
     values = {}
     given = set()
+    failed = set()
     for name, val in raw.items():
         if name not in allowed:
-            problems.append(InputError(f"[{table}] {name}", "unknown key" + _suggest(name, sorted(allowed))))
+            problems.append(InputError(f"[{table}] {_short(name)}", "unknown key" + _suggest(name, sorted(allowed))))
             continue
         if name.endswith("_error") and name not in schema:
             key = schema[name[: -len("_error")]]
@@ -271,12 +311,14 @@ def _parse_section(table, raw, base_dir, problems, allow_missing=frozenset()):
         if parsed is not None:
             values[name] = parsed
             given.add(name)
+        else:
+            failed.add(name)
     for key in schema.values():
         values.setdefault(key.name, _default(key))
         if key.error:
             values.setdefault(f"{key.name}_error", None)
     for name in list(given):
-        if name.endswith("_error") and name not in schema and name[: -len("_error")] not in given:
+        if name.endswith("_error") and name not in schema and name[: -len("_error")] not in given | failed:
             problems.append(InputError(f"[{table}] {name}", f"given without '{name[:-6]}'"))
     return Section(table, values, given)
 
@@ -295,7 +337,7 @@ def _parse_value(table, key, val, base_dir, problems, must_exist=True):
     where = f"[{table}] {key.name}"
     try:
         out = _convert(key, val, base_dir, where, must_exist)
-        _check_bounds(key, out, where)
+        _check_bounds(key, out, where, val)
         return out
     except InputError as exc:
         problems.append(exc)
@@ -307,18 +349,22 @@ def _convert(key, val, base_dir, where, must_exist=True):
     if kind == "quantity":
         return parse_quantity(val, key.unit, where)
     if kind == "angle":
+        if isinstance(val, str) and len(val) > 100:
+            raise InputError(where, f"expected an angle in degrees or sexagesimal form (got {shown(val)})")
         if isinstance(val, str) and ":" in val or isinstance(val, str) and any(c in val for c in "hms°d'\""):
             unit = u.hourangle if key.name == "ra" and ("h" in val or ":" in val) else u.deg
             try:
                 return Angle(val, unit=unit).to(u.deg)
             except (ValueError, u.UnitsError):
-                raise InputError(where, f"expected an angle in degrees or sexagesimal form (got {val!r})") from None
+                raise InputError(where, f"expected an angle in degrees or sexagesimal form (got {shown(val)})") from None
         return parse_quantity(val, "deg", where)
     if kind == "time":
         return parse_time(val, where)
     if kind == "times":
         if not isinstance(val, list) or not val:
-            raise InputError(where, f"expected a list of dates (got {val!r})")
+            raise InputError(where, f"expected a list of dates (got {shown(val)})")
+        if len(val) > MAX_VISITS:
+            raise InputError(where, f"at most {MAX_VISITS:,} dates (got {len(val):,}): the limit on visits")
         from astropy.time import Time
 
         ts = [parse_time(v, f"{where}[{i}]") for i, v in enumerate(val)]
@@ -327,30 +373,34 @@ def _convert(key, val, base_dir, where, must_exist=True):
         if isinstance(val, bool) or not isinstance(val, int):
             if isinstance(val, float) and val.is_integer():
                 return int(val)
-            raise InputError(where, f"expected a whole number (got {val!r})")
+            raise InputError(where, f"expected a whole number (got {shown(val)})")
         return val
     if kind == "float":
         if isinstance(val, bool) or not isinstance(val, (int, float)):
-            if isinstance(val, str):
+            x = None
+            if isinstance(val, str) and len(val) <= 100:
                 try:
                     q = u.Quantity(val)
                     if q.unit == u.dimensionless_unscaled or q.unit == u.percent:
-                        return float(q.to_value(u.dimensionless_unscaled))
+                        x = float(q.to_value(u.dimensionless_unscaled))
                 except (TypeError, ValueError):
                     pass
-            raise InputError(where, f"expected a number (got {val!r})")
-        import math
-
+            if x is None:
+                raise InputError(where, f"expected a number (got {shown(val)})")
+            val = x
         if not math.isfinite(val):
-            raise InputError(where, f"must be finite (got {val!r})")
+            raise InputError(where, f"must be a finite number (got {shown(val)})")
         return float(val)
     if kind == "bool":
         if not isinstance(val, bool):
-            raise InputError(where, f"expected true or false (got {val!r})")
+            raise InputError(where, f"expected true or false (got {shown(val)})")
         return val
     if kind == "str":
         if not isinstance(val, str) or not val.strip():
-            raise InputError(where, f"expected a non-empty string (got {val!r})")
+            raise InputError(where, f"expected a non-empty string (got {shown(val)})")
+        limit = key.max_length or _MAX_NAME
+        if len(val) > limit:
+            raise InputError(where, f"must be at most {limit} characters long (got {len(val)} characters)")
         return val.strip()
     if kind == "path":
         return _path(val, base_dir, where, must_exist)
@@ -358,18 +408,28 @@ def _convert(key, val, base_dir, where, must_exist=True):
         if isinstance(val, str):
             val = [val]
         if not isinstance(val, list) or not all(isinstance(v, str) and v for v in val) or not val:
-            raise InputError(where, f"expected a list of names (got {val!r})")
+            raise InputError(where, f"expected a list of names (got {shown(val)})")
+        if len(val) > (key.max_length or 100) or any(len(v) > _MAX_NAME for v in val):
+            raise InputError(where, f"expected at most {key.max_length or 100} names of at most {_MAX_NAME} "
+                                    f"characters (got {len(val)} names)")
         return tuple(val)
     if kind == "floats":
         if isinstance(val, (int, float)) and not isinstance(val, bool):
             val = [val]
         if not isinstance(val, list) or not val or not all(isinstance(v, (int, float)) and not isinstance(v, bool) for v in val):
-            raise InputError(where, f"expected a list of numbers (got {val!r})")
+            raise InputError(where, f"expected a list of numbers (got {shown(val)})")
+        if len(val) > (key.max_length or 100):
+            raise InputError(where, f"expected at most {key.max_length or 100} numbers (got {len(val)})")
+        bad = [v for v in val if not math.isfinite(v)]
+        if bad:
+            raise InputError(where, f"every value must be a finite number (got {shown(bad[0])})")
         return tuple(float(v) for v in val)
     if kind == "pulse_shape":
         if isinstance(val, list):
-            if not val or not all(isinstance(v, (int, float)) and not isinstance(v, bool) and v >= 0 for v in val):
-                raise InputError(where, f"expected a list of non-negative harmonic amplitudes (got {val!r})")
+            if not val or not all(isinstance(v, (int, float)) and not isinstance(v, bool) and math.isfinite(v)
+                                  and v >= 0 for v in val) or len(val) > 100:
+                raise InputError(where, f"expected a list of non-negative harmonic amplitudes (finite, at most 100; "
+                                        f"got {shown(val)})")
             if sum(val) <= 0:
                 raise InputError(where, "harmonic amplitudes must not all be zero")
             return tuple(float(v) for v in val)
@@ -377,34 +437,100 @@ def _convert(key, val, base_dir, where, must_exist=True):
             return "sinusoid"
         if isinstance(val, str):
             return _path(val, base_dir, where)
-        raise InputError(where, f"expected 'sinusoid', a list of harmonic amplitudes or a template file (got {val!r})")
+        raise InputError(where, f"expected 'sinusoid', a list of harmonic amplitudes or a template file (got {shown(val)})")
     raise AssertionError(f"unknown key kind {kind}")
 
 
 def _path(val, base_dir, where, must_exist=True):
+    from .paths import check_input_file, check_output_file
+
     if not isinstance(val, str) or not val.strip():
-        raise InputError(where, f"expected a file path (got {val!r})")
-    p = Path(val).expanduser()
-    if not p.is_absolute():
-        p = (base_dir / p).resolve()
-    if must_exist and not p.is_file():
-        raise InputError(where, f"file not found: {p}")
-    return p
+        raise InputError(where, f"expected a file path (got {shown(val)})")
+    if must_exist:
+        return check_input_file(val.strip(), where, base_dir=base_dir)
+    p = check_output_file(Path(base_dir) / Path(val.strip()) if not val.strip().startswith("~") else val.strip(),
+                          where)
+    return Path(os.path.abspath(p))
 
 
-def _check_bounds(key, out, where):
-    if key.kind not in ("quantity", "angle", "float", "int"):
-        return
-    x = out.value if isinstance(out, u.Quantity) else out
-    shown = format_quantity(out) if isinstance(out, u.Quantity) else repr(out)
+def _as_given(out, raw):
+    """The value as the user wrote it, for messages (``-86 eV`` stays in eV)."""
+    if isinstance(raw, str):
+        return raw.strip() if len(raw) <= 60 else _short(raw)
+    if isinstance(out, u.Quantity):
+        return format_quantity(out)
+    return shown(out)
+
+
+def _bound_text(key, x, shown_value):
+    """The problem with number ``x`` against the key's sign and range, or None."""
+    why = f": {key.reason}" if key.reason else ""
+    unit = f" {key.unit}" if key.unit and key.kind != "float" else ""
     if key.positive and not x > 0:
-        raise InputError(where, f"must be positive (got {shown})")
+        return f"must be positive{why} (got {shown_value})"
     if key.nonnegative and x < 0:
-        raise InputError(where, f"must not be negative (got {shown})")
-    if key.lower is not None and x < key.lower:
-        raise InputError(where, f"must be at least {key.lower} {key.unit}".rstrip() + f" (got {shown})")
-    if key.upper is not None and x > key.upper:
-        raise InputError(where, f"must be at most {key.upper} {key.unit}".rstrip() + f" (got {shown})")
+        return f"must not be negative{why} (got {shown_value})"
+    lo, hi = key.lower, key.upper
+    if lo is not None and (x < lo or (key.lower_open and x == lo)):
+        return f"must be {'above' if key.lower_open else 'at least'} {lo:g}{unit}{why} (got {shown_value})"
+    if hi is not None and (x > hi or (key.upper_open and x == hi)):
+        return f"must be {'below' if key.upper_open else 'at most'} {hi:g}{unit}{why} (got {shown_value})"
+    return None
+
+
+def _check_bounds(key, out, where, raw=None):
+    """Schema-driven checks of a converted value: sign, range (with the reason), choices, epochs."""
+    if key.kind in ("quantity", "angle", "float", "int"):
+        x = float(out.value if isinstance(out, u.Quantity) else out)
+        if not math.isfinite(x):
+            raise InputError(where, f"must be a finite number (got {_as_given(out, raw)})")
+        problem = _bound_text(key, x, _as_given(out, raw))
+        if problem:
+            raise InputError(where, problem)
+    elif key.kind == "floats":
+        for i, x in enumerate(out):
+            problem = _bound_text(key, x, shown(x))
+            if problem:
+                raise InputError(where, f"value {i + 1}: {problem}")
+    elif key.kind in ("time", "times"):
+        mjd = out.tdb.mjd
+        vals = [float(mjd)] if out.isscalar else [float(m) for m in mjd]
+        lo, hi = MJD_RANGE
+        for v in vals:
+            if not lo <= v <= hi:
+                raise InputError(where, f"must be between 1900 and 2200 (MJD {lo:.0f} to {hi:.0f}): "
+                                        f"a plausible epoch of a measurement or a visit (got MJD {v:.6g})")
+    elif key.kind in ("str", "names") and key.choices is not None:
+        choices = _choices(key.choices)
+        if choices is None:
+            return
+        given = [out] if key.kind == "str" else list(out)
+        lowered = {c.lower() for c in choices}
+        for v in given:
+            if v.lower() not in lowered:
+                raise InputError(where, f"expected one of {', '.join(repr(c) for c in choices)} (got {shown(v)})"
+                                 + _suggest(v, choices))
+
+
+def _choices(spec):
+    """Allowed values of a key: a tuple, a parameter-set kind ('param:potential') or 'envelope'."""
+    if isinstance(spec, (tuple, list)):
+        return tuple(spec)
+    if spec.startswith("param:"):
+        from ..params import KINDS, available
+
+        kind = spec[len("param:"):]
+        return tuple(available(kind)) if kind in KINDS else None
+    if spec == "envelope":
+        import sys
+
+        if "kinage.ages.envelope" not in sys.modules:
+            return _KNOWN_ENVELOPES  # the built-in ones, without importing the ages stage (slow)
+        return tuple(sys.modules["kinage.ages.envelope"].ENVELOPES)
+    return None
+
+
+_KNOWN_ENVELOPES = ("iron", "accreted", "gpe83")
 
 
 def _cross_checks(sections, problems):
@@ -417,9 +543,11 @@ def _cross_checks(sections, problems):
     if "trace" in sections:
         if star.get("parallax") is None and star.get("distance") is None:
             problems.append(InputError("[star] parallax", "give 'parallax' (with parallax_error) or 'distance' for tracing"))
+        timed = "campaign" in sections and sections["campaign"].get("toas") is not None
         for k in ("pm_ra_cosdec", "pm_dec"):
-            if star.get(k) is None:
-                problems.append(InputError(f"[star] {k}", "required for tracing (the star's proper motion)"))
+            if star.get(k) is None and not timed:  # a TOA fit measures the proper motion the trace uses
+                problems.append(InputError(f"[star] {k}", "required for tracing (the star's proper motion), "
+                                                          "unless [campaign] toas gives a timing fit"))
         if sections["trace"].get("associations") is None:
             problems.append(InputError("[trace] associations", "required: path of the association table"))
     if star.get("parallax") is not None and star.get("parallax_error") is None and "trace" in sections:
@@ -444,3 +572,67 @@ def _cross_checks(sections, problems):
             if c.baseline.to_value(u.yr) < interval:
                 problems.append(InputError("[campaign] baseline",
                                            f"shorter than one visit interval ({format_quantity(c.baseline)} < {interval:.3g} yr)"))
+
+
+def _resolve_distance(sections, problems):
+    """Parallax and distance both given: an error unless ``[star] distance_from`` says which to use."""
+    star = sections.get("star")
+    if star is None:
+        return
+    both = star.given("parallax") and star.given("distance")
+    choice = star.get("distance_from")
+    if both and choice is None:
+        plx, dist = star.parallax.to_value(u.mas), star.distance.to_value(u.pc)
+        alone = f"; the parallax alone means {1000 / plx:.4g} pc" if plx > 0 else ""
+        problems.append(InputError("[star] distance",
+                                   f"given together with 'parallax' ({format_quantity(star.distance)} and "
+                                   f"{format_quantity(star.parallax)}{alone}); give one of them, or say which to "
+                                   f"use with distance_from = 'parallax' or 'distance'"))
+        return
+    if choice is not None and both:
+        drop = "distance" if choice.lower() == "parallax" else "parallax"
+        vals = dict(star._values)
+        vals[drop] = None
+        vals[f"{drop}_error"] = None
+        given = set(star._given) - {drop, f"{drop}_error"}
+        sections["star"] = Section("star", vals, given)
+
+
+def _physical_checks(sections, problems):
+    """Checks across keys that need physics: a neutron star, a campaign that fits its visits, sizes that fit."""
+    ages = sections.get("ages")
+    star = sections["star"]
+    if ages is not None:
+        # Buchdahl (1959): a static star has R > (9/4) G M / c^2; inside it no neutron star exists
+        r_km = ages.value("radius", "km")
+        masses = [("mass", ages.value("mass", "solMass"))] + [("masses", m) for m in (ages.get("masses") or ())]
+        for key, m in masses:
+            limit = 2.25 * _GM_SUN_C2_KM * m
+            if r_km is not None and r_km <= limit:
+                which = "radius" if key == "mass" or ages.given("radius") else key
+                problems.append(InputError(f"[ages] {which}",
+                                           f"a {m:g} Msun star of radius {r_km:g} km lies inside its Buchdahl radius "
+                                           f"({limit:.3g} km = 9/4 GM/c^2; Schwarzschild radius "
+                                           f"{2 * _GM_SUN_C2_KM * m:.3g} km): no such neutron star"))
+                break
+        p0, p = ages.get("initial_period"), star.get("spin_period")
+        if p0 is not None and p is not None and not p0 < p:
+            problems.append(InputError("[ages] initial_period", f"must be shorter than [star] spin_period "
+                                       f"(a spinning-down star was faster at birth; got {format_quantity(p0)} >= "
+                                       f"{format_quantity(p)})"))
+    c = sections.get("campaign")
+    if c is not None:
+        vpy = c.get("visits_per_year")
+        if vpy is not None and c.get("exposure") is not None and c.get("dates") is None:
+            interval_s = 3.15576e7 / vpy
+            if c.exposure.to_value(u.s) > interval_s:
+                problems.append(InputError("[campaign] exposure",
+                                           f"longer than the time between visits ({format_quantity(c.exposure)} > "
+                                           f"{interval_s:.3g} s at {vpy:g} visits per year)"))
+        if vpy is not None and c.get("baseline") is not None and c.get("dates") is None:
+            n = c.baseline.to_value(u.yr) * vpy + 1
+            if n > MAX_VISITS:
+                problems.append(InputError("[campaign] visits_per_year",
+                                           f"{c.baseline.to_value(u.yr):g} yr x {vpy:g} visits per year is {n:.3g} "
+                                           f"visits, above the limit of {MAX_VISITS:,} visits (the timing matrices "
+                                           f"grow with the visits)"))

@@ -143,9 +143,17 @@ _TRACE = [
     Key("samples", "int", default=2000, positive=True, doc="Monte Carlo draws of the star"),
     Key("association_samples", "int", default=200, positive=True, doc="Monte Carlo draws of each association"),
     Key("max_age", "quantity", "Myr", default=10.0, positive=True, doc="how far back to integrate"),
-    Key("time_steps", "int", default=401, lower=10,
-        doc="output times on the backward grid; closest approaches are refined between them, so 401 over 10 Myr "
-            "agrees with 4001 to ~1e-5 pc"),
+    Key("time_steps", "int", default=21, lower=5,
+        doc="output times of the integration grid; closest approaches are refined between them by cubic Hermite "
+            "interpolation with the velocities, so 21 over 10 Myr agree with 4001 to ~3e-4 pc (DEVELOPERS.md); "
+            "raise it with max_age (the error grows as the step^4)"),
+    Key("integration_tolerance", "float", default=1e-7, positive=True, lower=1e-14, upper=1e-4,
+        doc="relative and absolute tolerance of galpy's adaptive integrator (rtol = atol; galpy's own default is "
+            "1e-12); 1e-7 changes d_min by < 2e-3 pc over 10 Myr (convergence study in DEVELOPERS.md)"),
+    Key("control_error", "float", default=0.003, positive=True, upper=0.5,
+        doc="Monte Carlo standard error wanted for every chance rate; control draws are added until "
+            "f (1 - f) / N <= control_error^2 (at most as many as the star draws; 0.003 gives a 4% chance "
+            "rate +/- 0.3% with ~4,300 draws)"),
     Key("seed", "int", nonnegative=True, doc="random seed (default: the command-line --seed, else 1)"),
     Key("potential", "str", default="MWPotential2014", doc="Galactic potential parameter set, or 'none' for straight lines"),
     Key("solar_parameters", "str",
@@ -172,7 +180,7 @@ _AGES = [
     Key("radius", "quantity", "km", default=12.0, positive=True, doc="neutron-star radius"),
     Key("envelopes", "names", default=("iron", "accreted"), doc="envelope compositions for the cooling age"),
     Key("masses", "floats", default=(1.2, 1.4, 1.6), doc="masses (solar) spanned by the cooling-age range"),
-    Key("cooling_model", "str", default="minimal", doc="cooling model parameter set"),
+    Key("cooling_model", "str", default="modified-urca", doc="cooling model parameter set (kinage parameter-sets cooling_model)"),
     Key("hall_timescale", "quantity", "yr", positive=True, doc="Hall timescale for the Ohm + Hall decay model"),
     Key("ohmic_timescale", "quantity", "yr", positive=True, doc="Ohmic timescale for the Ohm + Hall decay model"),
     Key("samples", "int", default=4000, positive=True, doc="Monte Carlo draws for age uncertainties"),
@@ -209,7 +217,7 @@ _RANGES = {
         "exposure": dict(upper=3.15576e7, reason="an exposure per visit longer than a year"),
         "source_rate": dict(upper=1e7, reason="no detector counts 1e7 photons a second from one source"),
         "background_rate": dict(upper=1e7, reason="no detector counts 1e7 photons a second"),
-        "pulsed_fraction": dict(lower=0, lower_open=True, reason="a pulsed fraction lies in (0, 1]"),
+        "pulsed_fraction": dict(reason="a pulsed fraction lies in (0, 1]"),
         "toa_error": dict(upper=86400, reason="a TOA error longer than a day cannot time a pulse"),
         "added_error": dict(upper=86400, reason="white noise longer than a day"),
         "error_scale": dict(upper=1e3, reason="a white-noise scale factor above 1000"),

@@ -1,0 +1,92 @@
+"""Resource caps estimated from a scenario before any stage runs.
+
+Single keys have their own ranges in :mod:`kinage.io.schema`; this module
+checks what only their product reveals: memory for draws x time steps (the
+orbit integration holds one chunk of star draws and every association's
+draws on the time grid), and the number of orbits the tracing integrates.
+Each message names the limit and the keys that set the estimate.
+"""
+
+import os
+
+from ..errors import InputError
+
+__all__ = ["memory_limit_bytes", "trace_memory_bytes", "trace_seconds", "check_resources", "MAX_TRACE_MINUTES"]
+
+#: longest tracing run (estimated) a scenario may ask for
+MAX_TRACE_MINUTES = 15
+# Cost per orbit: ~120 us on the 401-step grid (DEVELOPERS.md: 100,000 draws over 10 Myr in 12 s) plus
+# ~15 us per Myr integrated (measured: 1,100 orbits over 300 Myr in ~5 s on the 2-core development machine).
+_S_PER_ORBIT = 1.2e-4
+_S_PER_ORBIT_STEP = 1.2e-4 / 401
+_S_PER_ORBIT_MYR = 1.5e-5
+_BYTES_PER_POINT = 6 * 8 * 4  # 6 phase-space floats, float64, ~4 working copies (integration, frames, search)
+
+
+def memory_limit_bytes():
+    """Memory a run may plan to use: half the machine's RAM, at most 16 GB (``KINAGE_MAX_MEMORY_GB`` overrides)."""
+    env = os.environ.get("KINAGE_MAX_MEMORY_GB")
+    if env:
+        try:
+            return float(env) * 1e9
+        except ValueError:
+            pass
+    try:
+        ram = os.sysconf("SC_PAGE_SIZE") * os.sysconf("SC_PHYS_PAGES")
+    except (ValueError, OSError, AttributeError):  # pragma: no cover - not POSIX
+        ram = 8e9
+    return min(16e9, 0.5 * ram)
+
+
+def trace_memory_bytes(samples, chunk_size, time_steps, n_associations, association_samples):
+    """Estimated peak memory of the tracing stage, bytes.
+
+    One chunk of star draws and all association draws on the output grid,
+    each point 6 float64 phase-space values with a few working copies.
+    """
+    star = min(samples, chunk_size) * time_steps * _BYTES_PER_POINT
+    assoc = n_associations * association_samples * time_steps * _BYTES_PER_POINT
+    return star + assoc
+
+
+def trace_seconds(orbits, time_steps, max_age_myr):
+    """Rough run time of a trace, s: orbits x (per-step cost x time_steps + per-Myr cost x max_age)."""
+    return orbits * (_S_PER_ORBIT_STEP * time_steps + _S_PER_ORBIT_MYR * max_age_myr)
+
+
+def check_resources(scenario, samples=None, n_associations=None):
+    """Raise InputError when the scenario would need more than the limits allow.
+
+    Parameters
+    ----------
+    scenario : Scenario
+    samples : int, optional
+        Command-line override of ``[trace] samples``.
+    n_associations : int, optional
+        Rows of the association table (default 30 when not yet read).
+    """
+    t = scenario.trace
+    if t is None:
+        return
+    n = int(samples if samples is not None else (t.get("samples") or 2000))
+    n_assoc = int(n_associations or 30)
+    steps, chunk = int(t.get("time_steps") or 401), int(t.get("chunk_size") or 20000)
+    a_samples, controls = int(t.get("association_samples") or 200), int(t.get("control_runs") or 0)
+    mem = trace_memory_bytes(n, chunk, steps, n_assoc, a_samples)
+    limit = memory_limit_bytes()
+    if mem > limit:
+        raise InputError("[trace] time_steps",
+                         f"the tracing would need about {mem / 1e9:.3g} GB (min(samples, chunk_size) = "
+                         f"{min(n, chunk):,} star draws and {n_assoc} x {a_samples:,} association "
+                         f"draws on {steps:,} time steps), above the memory limit of {limit / 1e9:.3g} GB "
+                         "(half this machine's RAM, at most 16 GB); lower time_steps, chunk_size or "
+                         "association_samples")
+    orbits = n * (1 + controls) + n_assoc * a_samples
+    max_age = float(t.max_age.to_value("Myr"))
+    minutes = trace_seconds(orbits, steps, max_age) / 60
+    if minutes > MAX_TRACE_MINUTES:
+        key = "[trace] max_age" if max_age > 100 else ("--samples" if samples is not None else "[trace] samples")
+        raise InputError(key, f"{n:,} draws x (1 + {controls} control runs) + {n_assoc} x "
+                              f"{a_samples:,} association draws = {orbits:,} orbits over {max_age:g} Myr "
+                              f"on {steps:,} time steps would take about {minutes:.3g} minutes, above the "
+                              f"limit of {MAX_TRACE_MINUTES} minutes per trace; lower max_age, samples or control_runs")
