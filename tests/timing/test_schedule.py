@@ -129,3 +129,140 @@ def test_motion_schedule_never_worse_than_even(ra, dec, pa):
     yr = lambda m: np.clip(np.floor((m - start) / 365.25), 0, 2).astype(int)  # noqa: E731
     assert np.bincount(yr(motion.mjd), minlength=3).tolist() == np.bincount(yr(nominal), minlength=3).tolist()
     assert np.unique(np.floor(motion.mjd)).size == motion.n_visits  # one visit a day
+
+
+# -- the forecast through the command line -------------------------------------------------------------
+# an invented star whose quarterly visits from 2029-01-13 fall near the zero crossings of the half-yearly
+# parallax signature (found by scanning the start date with independent_errors above)
+ALIAS_STAR = {"name": "Test-Q", "ra": 247.3, "dec": -12.8, "spin_period": "0.71 s", "distance": "250 pc",
+              "pm_ra_cosdec": "15 mas/yr", "pm_dec": "-22 mas/yr"}
+ALIAS_CAMPAIGN = {"start": "2029-01-13", "baseline": "4 yr", "visits_per_year": 4, "toa_error": "50 us",
+                  "sun_avoidance": "45 deg", "max_baseline": "6 yr"}
+
+
+def _toml(d):
+    lines = []
+    for table, keys in d.items():
+        lines.append(f"[{table}]")
+        lines += [f"{k} = {json.dumps(v)}" for k, v in keys.items()]
+    return "\n".join(lines) + "\n"
+
+
+def _run_forecast(tmp_path, name, campaign, star=ALIAS_STAR, extra=(), out=True):
+    scn = tmp_path / f"{name}.toml"
+    scn.write_text(_toml({"star": star, "campaign": campaign}))
+    folder, js = tmp_path / f"{name}_out", tmp_path / f"{name}.json"
+    args = ["forecast", str(scn), "--json", str(js), *extra] + (["--out", str(folder)] if out else [])
+    return main(args), js, folder
+
+
+@pytest.fixture(scope="module")
+def alias_runs(tmp_path_factory):
+    """The three schedules through the CLI; products (plan table, figures) written for 'parallax' only."""
+    import contextlib
+    import io
+
+    tmp = tmp_path_factory.mktemp("schedules")
+    runs = {}
+    for schedule in ("even", "parallax", "motion"):
+        text = io.StringIO()
+        extra = ("--compare-schedules",) if schedule == "even" else ("--quiet",)
+        with contextlib.redirect_stdout(text):
+            status, js, out = _run_forecast(tmp, schedule, {**ALIAS_CAMPAIGN, "schedule": schedule}, extra=extra,
+                                            out=schedule == "parallax")
+        assert status == 0
+        data = _results(json.loads(js.read_text()))
+        runs[schedule] = {"json": data, "out": out, "stdout": text.getvalue(),
+                          "mjd": np.asarray(data["schedules"][schedule]["mjd"], float)}
+    runs["parallax"]["table"] = Table.read(runs["parallax"]["out"] / "forecast_plan.ecsv", format="ascii.ecsv")
+    return runs
+
+
+def _results(d):
+    return d.get("results", d)
+
+
+def test_parallax_schedule_halves_the_aliased_parallax_error(alias_runs):
+    even, par, mot = (alias_runs[k]["json"] for k in ("even", "parallax", "motion"))
+    assert par["n_toas"] == even["n_toas"] == mot["n_toas"]
+    assert par["sigma"]["parallax_mas"] <= 0.5 * even["sigma"]["parallax_mas"]
+    assert mot["pm_error_along_motion_masyr"] <= even["pm_error_along_motion_masyr"]
+    # the even forecast warns and names the better schedule and dates
+    warn = [w for w in even["warnings"] if "parallax" in w]
+    assert warn and 'schedule = "parallax"' in warn[0] and "2029-" in warn[0]
+    assert even["schedules"]["parallax"]["parallax_error_mas"] == pytest.approx(par["sigma"]["parallax_mas"], rel=1e-6)
+
+
+@pytest.mark.parametrize("schedule", ["even", "parallax", "motion"])
+def test_planned_dates_reproduce_errors_and_keep_away_from_the_sun(alias_runs, schedule):
+    d, mjd = alias_runs[schedule]["json"], alias_runs[schedule]["mjd"]
+    assert mjd.size == d["n_toas"] and d["schedule"] == schedule
+    ref = independent_errors(mjd, ALIAS_STAR["ra"], ALIAS_STAR["dec"], 50e-6, (15.0, -22.0),
+                             epoch_mjd=d["epoch_mjd_tdb"])
+    assert d["sigma"]["parallax_mas"] == pytest.approx(ref["parallax"], rel=0.10)
+    assert d["pm_error_along_motion_masyr"] == pytest.approx(ref["pm_along"], rel=0.10)
+    assert np.all(sun_angle(mjd, ALIAS_STAR["ra"], ALIAS_STAR["dec"]) >= 45.0)
+
+
+def test_plan_table_lists_the_chosen_dates(alias_runs):
+    run = alias_runs["parallax"]
+    tab = run["table"]
+    assert tab.meta["schedule"] == "parallax"
+    assert np.allclose(np.asarray(tab["mjd"], float), run["mjd"])
+    assert (run["out"] / "forecast_plan.png").stat().st_size > 0
+
+
+def test_compare_schedules_prints_a_table(alias_runs):
+    lines = alias_runs["even"]["stdout"].splitlines()
+    rows = [ln.split() for ln in lines if ln.split() and ln.split()[0] in ("even", "parallax", "motion")]
+    assert [r[0] for r in rows] == ["even", "parallax", "motion"]
+    sch = alias_runs["even"]["json"]["schedules"]
+    assert float(rows[1][-3]) == pytest.approx(sch["parallax"]["parallax_error_mas"], rel=0.06)  # 2 digits shown
+
+
+def test_forecast_figures_keep_units_apart():
+    import matplotlib.pyplot as plt
+
+    from kinage.timing.forecast import forecast
+    from kinage.timing.plots import forecast_figure, plan_figure
+
+    res = forecast(scenario_from_dict({"star": ALIAS_STAR, "campaign": {**ALIAS_CAMPAIGN, "max_baseline": "4 yr"}}))
+    fig = forecast_figure(res)
+    labels = [a.get_ylabel() for a in fig.axes]
+    # proper motion and parallax on separate axes, each in one unit; significance on a log axis
+    assert any("mas/yr" in s for s in labels) and any("(mas)" in s for s in labels)
+    assert not any("mas/yr" in s and "(mas)" in s for s in labels)
+    assert fig.axes[-1].get_yscale() == "log" and "significance" in fig.axes[-1].get_ylabel()
+    fig2, ax = plt.subplots()
+    assert plan_figure(res, ax=ax) is fig2
+    plt.close("all")
+
+
+def test_words_when_timing_cannot_measure(tmp_path, capsys):
+    # a slow, faint star: TOAs of tens of ms from a few photons; pm error far above 1 arcsec/yr
+    star = {"ra": 140.2, "dec": 33.1, "spin_period": "4.9 s", "distance": "300 pc"}
+    camp = {"start": "2028-03-01", "baseline": "4 yr", "visits_per_year": 4, "exposure": "20 ks",
+            "source_rate": "0.5 1/s", "background_rate": "0.05 1/s", "pulsed_fraction": 0.1, "max_baseline": "6 yr"}
+    status, js, _ = _run_forecast(tmp_path, "faint", camp, star=star, out=False)
+    assert status == 0
+    d = _results(json.loads(js.read_text()))
+    assert d["sigma"]["pm_ra_cosdec_masyr"] > 1000  # the numbers stay in the JSON
+    assert d["constrained"]["proper_motion"] is False
+    text = capsys.readouterr().out
+    assert "does not constrain the proper motion" in text and "imaging" in text and "times more photons" in text
+    assert "e+" not in text and "ks per visit" not in text  # no absurd numbers in prose
+
+
+@pytest.mark.parametrize("change,key", [
+    ({"schedule": "clever"}, "schedule"),
+    ({"schedule": "parallax", "dates": ["2029-02-01", "2029-05-01", "2029-08-01"]}, "schedule"),
+    ({"visits_per_year": 250, "sun_avoidance": "120 deg"}, "visits_per_year"),
+])
+def test_bad_schedule_input(tmp_path, capsys, change, key):
+    camp = {**ALIAS_CAMPAIGN, **change}
+    status, js, out = _run_forecast(tmp_path, "bad", camp)
+    err = capsys.readouterr().err.strip().splitlines()
+    assert status == 2 and len(err) == 1 and key in err[0]
+    assert not js.exists() and not (out / "forecast_plan.ecsv").exists()
+    with pytest.raises(InputError, match=key):
+        make_plan(scenario_from_dict({"star": ALIAS_STAR, "campaign": camp}).campaign, 247.3, -12.8)
