@@ -164,7 +164,8 @@ def _ages_from_trace_json(path):
     if not isinstance(data, dict):
         raise InputError("--trace-json", f"{path} holds a JSON {type(data).__name__}, not the object (with "
                                          "'associations' and 'favoured') that 'kinage trace --json' writes")
-    data = data.get("trace", data) if isinstance(data.get("trace"), dict) else data  # a 'kinage run' JSON too
+    if "associations" not in data and isinstance(data.get("trace"), dict):
+        data = data["trace"]  # a 'kinage run' JSON holds the trace result under 'trace'
     assocs = data.get("associations") or []
     fav = data.get("favoured")
     if not isinstance(assocs, list):

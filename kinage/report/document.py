@@ -1,45 +1,75 @@
 """The run report: one self-contained HTML page and a Markdown twin.
 
-The page opens with a summary answering the three questions in plain words
+Order: a caution, the summary answering the three questions in plain words
 (each sentence is the stage's own ``summary()``, also stored in
-``results.json``), then one section per stage with its figures, its numbers
-and the assumptions and parameter sets (with references) they rest on.
+``results.json``), then one section per question.  Inside a section every
+figure sits next to the numbers it shows, with a one-sentence caption saying
+what to read from it; then the tables written (linked), the assumptions and
+the parameter sets.  A provenance block closes the page: versions, seed,
+parameter sets with references, input hashes and the command line.
 """
 
 import base64
-import datetime
 import html
+import platform
+import sys
 from pathlib import Path
 
 from .._version import __version__
-from ..io.results import atomic_write, to_jsonable
-from .numbers import stage_rows
+from ..io.results import atomic_write, provenance, to_jsonable
+from . import numbers as nb
+from .escape import md_code, md_sentence
 
-__all__ = ["write_reports", "render_html", "render_markdown", "QUESTIONS", "CAPTIONS"]
+__all__ = ["write_reports", "render_html", "render_markdown", "QUESTIONS", "CAPTIONS", "CAUTION", "md_escape",
+           "report_sections"]
 
-#: the three questions and the stages that answer them
+#: the three questions, the stages that answer them and the table that asks
 QUESTIONS = (
     ("Can a timing campaign measure the star's motion?", ("forecast", "fit"), "campaign"),
     ("Where and when was it born?", ("trace",), "trace"),
     ("Do the ages agree?", ("ages",), "ages"),
 )
-_TITLES = {"forecast": "Timing forecast", "fit": "Timing fit", "trace": "Birthplace tracing", "ages": "Ages"}
-#: captions of the stages' figures (file stem -> text); unknown figures are captioned by their file name
+_TITLES = {"forecast": "Timing forecast", "fit": "Timing fit", "astrometry": "Proper motion used for tracing",
+           "trace": "Birthplace tracing", "ages": "Ages"}
+#: one sentence per figure (file stem): what to read from it
 CAPTIONS = {
-    "forecast_baseline": "Forecast proper-motion and parallax errors (top) and proper-motion significance (bottom) "
-                         "against campaign baseline; the dotted line marks this plan.",
-    "fit_residuals": "Timing fit: residuals with the fitted astrometric delay added back, and that delay (top); "
-                     "post-fit residuals (bottom).",
-    "trace_birth_xyz": "Positions of the star's draws and of the favoured association's draws at the birth time, "
-                       "Galactic x-y and x-z, with the association's radius criterion.",
-    "trace_dmin_tau": "Closest approach d_min against its time tau for every draw; encounters lie below the radius "
-                      "criterion and before the association's age plus tolerance.",
-    "trace_sky": "Past tracks of star and association draws on the sky (Galactic coordinates).",
-    "trace_tau_hist": "Times of closest approach: all draws and encounters.",
-    "ages_ladder": "Age ladder: each age with its 68% interval on one logarithmic axis.",
-    "ages_cooling_curves": "Cooling curves for the envelope compositions and masses, with the star's temperature "
-                           "and kinematic age marked.",
+    "forecast_baseline": "Read off how the forecast proper-motion and parallax errors fall with baseline, and where "
+                         "the significance of the expected motion crosses the target.",
+    "forecast_schedules": "Compare the proper-motion and parallax errors of the visit schedules with the same "
+                          "number of visits.",
+    "forecast_plan": "See when the visits fall against the yearly parallax and the growing proper-motion "
+                     "signatures: visits near the extremes measure them best.",
+    "fit_residuals": "Check that the post-fit residuals (bottom) scatter within their errors and that the fitted "
+                     "astrometric delay (top) follows the data.",
+    "astrometry_pm_ellipses": "Read which measurement fixes the proper motion: the smallest ellipse dominates the "
+                              "combination the trace uses.",
+    "trace_sky": "Follow the star's tracks back in time (arrows) to where they meet an association's track; the "
+                 "favoured association is drawn in vermilion and ranked first in the legend.",
+    "trace_dmin_tau": "Encounters are the draws below the radius criterion and younger than the association; their "
+                      "times give the kinematic age.",
+    "trace_dmin_control": "A real birthplace shows star draws piling up at small d_min well above the control draws, "
+                          "close to the common-origin curve.",
+    "trace_plane_crossing": "The time since the last crossing of the Galactic mid-plane: an upper bound on the age "
+                            "only if the star was born in the plane, not a kinematic age.",
+    "trace_tau_hist": "The encounter times (kinematic age) against the closest-approach times of all draws.",
+    "trace_birth_xyz": "At the birth time the star's draws should overlap the association's within its radius.",
+    "ages_ladder": "Ages whose 68% bars overlap agree; a gap between the kinematic and spin-down ages points to "
+                   "field decay or a long initial period.",
+    "ages_cooling_curves": "Where the star's point (kinematic age, temperature) falls among the cooling curves says "
+                           "which envelope and mass fit, or that none does.",
 }
+CAUTION = ("These are research estimates. They rest on the assumptions listed in each section (a static Galactic "
+           "potential, an assumed velocity distribution for the unknown radial velocity, a simple cooling model, "
+           "a linearised timing model); check them before quoting a number.")
+_STAGE_ORDER = ("forecast", "fit", "astrometry", "trace", "ages")
+_FIGURE_ORDER = {stem: i for i, stem in enumerate(CAPTIONS)}
+
+
+def md_escape(text):
+    """User text (titles, names) safe inside Markdown: see :func:`kinage.report.escape.md_text`."""
+    from .escape import md_text
+
+    return md_text(text)
 
 
 def _caption(fig):
@@ -64,107 +94,313 @@ def _answers(run):
     return out
 
 
-def _figures(run, stage):
-    d = run.out_dir / stage
-    return sorted(p for p in run.files if Path(p).suffix == ".png" and Path(p).parent == d)
-
-
-def _tables(run, stage):
-    d = run.out_dir / stage
-    return sorted(p for p in run.files if Path(p).suffix in (".ecsv", ".csv") and Path(p).parent == d)
+def _files(run, folder, suffixes):
+    d = run.out_dir / folder
+    return sorted((p for p in run.files if Path(p).suffix in suffixes and Path(p).parent == d),
+                  key=lambda p: (_FIGURE_ORDER.get(Path(p).stem, 99), Path(p).name))
 
 
 def _param_refs(result):
     return [p.summary() for p in getattr(result, "parameter_sets", []) or []]
 
 
+def _figure_rows(stage, stem, data, raw):
+    """The numbers a figure shows: (header or None, rows)."""
+    if stage == "trace":
+        best = next((a for a in data.get("associations") or [] if a.get("name") == data.get("favoured")), None)
+        if best is None and data.get("associations"):
+            best = data["associations"][0]
+        if stem == "trace_sky":
+            header, rows = nb.association_rows(data.get("associations") or [])
+            return header, rows
+        if best is None:
+            return None, []
+        if stem == "trace_dmin_tau":
+            return None, [("association", best["name"]),
+                          ("encounter fraction", nb._pct(best.get("encounter_fraction"),
+                                                         best.get("encounter_fraction_error"))),
+                          ("kinematic age (encounter times)", nb.fmt_age_interval(best.get("age_yr"))),
+                          ("radius criterion", f"{best['radius_pc'] * (data.get('settings') or {}).get('encounter_radius_factor', 1.0):.3g} pc"),
+                          ("association age", f"{best['age_myr']:.3g} Myr")]
+        if stem == "trace_dmin_control":
+            co = best.get("common_origin") or {}
+            rows = [("encounter fraction, star draws", nb._pct(best.get("encounter_fraction"),
+                                                                best.get("encounter_fraction_error"))),
+                    ("encounter fraction, control draws", nb._pct(best.get("chance_fraction"),
+                                                                   best.get("chance_fraction_error")))]
+            if best.get("probability") is not None:
+                rows.append(("birth probability", nb._pct(best["probability"], best.get("probability_error"))))
+            if co.get("sigma_pc") is not None:
+                rows.append(("common-origin sigma (Hoogerwerf et al. 2001)", f"{co['sigma_pc']:.2g} pc"))
+            if co.get("ks_statistic") is not None:
+                rows.append(("KS distance from the common-origin curve", f"{co['ks_statistic']:.2f}"))
+            return None, rows
+        if stem == "trace_plane_crossing":
+            return None, [("time since the last plane crossing", nb.fmt_age_interval(data.get("plane_crossing_age_yr"))),
+                          ("draws that crossed", nb._pct(data.get("plane_crossing_fraction")))]
+        if stem == "trace_tau_hist":
+            return None, [("closest-approach time, all draws", nb.fmt_age_interval(best.get("tau_all_yr"))),
+                          ("kinematic age (encounters)", nb.fmt_age_interval(best.get("age_yr")))]
+        return None, []
+    if stage == "forecast" and stem == "forecast_baseline":
+        return None, nb.forecast_rows(data)
+    if stage == "fit" and stem == "fit_residuals":
+        return None, nb.fit_rows(data)
+    if stage == "ages" and stem == "ages_ladder":
+        return None, nb.ages_rows(data, (raw or {}).get("star"))
+    if stage == "ages" and stem == "ages_cooling_curves":
+        rows = []
+        for r in data.get("cooling_age_per_model") or []:
+            rows.append((f"cooling age, {r['envelope']} envelope, {r['mass_msun']:g} M☉", nb.fmt_age_interval(r)))
+        return None, rows
+    return None, []
+
+
+def report_sections(run):
+    """The report's content as plain data: [(question, [(stage, blocks)])].
+
+    Each block is a dict with ``kind`` ('text', 'pair', 'rows', 'files', 'list', 'psets') and its content.
+    Shared by the HTML and the Markdown renderers.
+    """
+    raw = getattr(run.scenario, "raw", {}) or {}
+    out = []
+    for question, stages, _ in QUESTIONS:
+        stage_list = list(stages) + (["astrometry"] if "fit" in stages or "forecast" in stages else [])
+        parts = []
+        for name in stage_list:
+            if name == "astrometry":
+                figs = _files(run, "astrometry", (".png",))
+                if figs:
+                    parts.append((name, [{"kind": "pair", "figure": f, "caption": _caption(f), "header": None,
+                                          "rows": _astrometry_rows(run)} for f in figs]))
+                continue
+            if name not in run.stages:
+                continue
+            result = run.stages[name]
+            data = to_jsonable(result.to_dict())
+            blocks = [{"kind": "text", "text": result.summary()}]
+            used = False
+            for f in _files(run, name, (".png",)):
+                header, rows = _figure_rows(name, Path(f).stem, data, raw)
+                used = used or bool(rows)
+                blocks.append({"kind": "pair", "figure": f, "caption": _caption(f), "header": header, "rows": rows})
+            if not used:
+                blocks.append({"kind": "rows", "rows": nb.stage_rows(name, data, raw)})
+            warn = [str(w) for w in data.get("warnings") or []] if isinstance(data.get("warnings"), list) else []
+            if name == "ages":
+                blocks.append({"kind": "list", "title": "Verdicts",
+                               "items": [v["text"] for v in data.get("verdicts") or [] if isinstance(v, dict)]})
+            if warn:
+                blocks.append({"kind": "list", "title": "Warnings", "items": warn})
+            tables = _files(run, name, (".ecsv", ".csv"))
+            if tables:
+                blocks.append({"kind": "files", "files": tables})
+            assumptions = getattr(result, "assumptions", []) or []
+            if assumptions:
+                blocks.append({"kind": "list", "title": "Assumptions", "items": list(assumptions)})
+            refs = _param_refs(result)
+            if refs:
+                blocks.append({"kind": "psets", "items": refs})
+            parts.append((name, blocks))
+        out.append((question, parts))
+    return out
+
+
+def _astrometry_rows(run):
+    from .figures import pm_ellipse_inputs
+
+    rows = []
+    for lab, v, c in pm_ellipse_inputs(run.scenario, fit=run.stages.get("fit"), forecast=run.stages.get("forecast")):
+        s = [c[0][0] ** 0.5, c[1][1] ** 0.5]
+        if max(s) >= 1000.0:
+            rows.append((f"{lab} proper motion", f"not constrained (errors {max(s):.2g} mas/yr)"))
+        elif lab.endswith("(forecast)"):
+            rows.append((f"{lab} proper-motion errors", f"{s[0]:.2g} (ra*cos dec), {s[1]:.2g} (dec) mas/yr"))
+        else:
+            rows.append((f"{lab} proper motion, ra*cos(dec)", nb.value_error(v[0], s[0], "mas/yr")))
+            rows.append((f"{lab} proper motion, dec", nb.value_error(v[1], s[1], "mas/yr")))
+    tr = run.stages.get("trace")
+    if tr is not None:
+        rows.append(("astrometry the trace used", str(tr.settings.get("astrometry_source"))))
+    return rows
+
+
+def _command_line(run):
+    cmd = getattr(run, "command", None)
+    if cmd:
+        return cmd
+    prog = Path(sys.argv[0]).name if sys.argv and sys.argv[0] else ""
+    if prog in ("kinage", "__main__.py"):
+        return "kinage " + " ".join(sys.argv[1:])
+    return f"Python: kinage.pipeline.run_pipeline (from {prog or 'an interactive session'})"
+
+
+def provenance_rows(run):
+    """(label, text) rows of the provenance block and the per-file hashes."""
+    prov = provenance(scenario=run.scenario, seed=run.seed, parameter_sets=run.parameter_sets(),
+                      command=_command_line(run))
+    versions = [f"kinage {__version__}", f"Python {platform.python_version()}"]
+    for mod in ("numpy", "scipy", "astropy", "galpy", "matplotlib"):
+        m = sys.modules.get(mod)
+        if m is None:
+            try:
+                m = __import__(mod)
+            except ImportError:  # pragma: no cover
+                continue
+        versions.append(f"{mod} {getattr(m, '__version__', '?')}")
+    rows = [("command line", prov["command"]), ("seed", str(prov["seed"])), ("created (UTC)", prov["created_utc"]),
+            ("software", ", ".join(versions))]
+    hashes = [(str(Path(f).name), h) for f, h in prov["input_sha256"].items()]
+    return rows, prov["parameter_sets"], hashes
+
+
+# --------------------------------------------------------------------------- Markdown
+def _md_rows(header, rows):
+    if not rows:
+        return []
+    if header:
+        return (["| " + " | ".join(header) + " |", "|" + "---|" * len(header)]
+                + ["| " + " | ".join(md_escape(c) for c in r) + " |" for r in rows] + [""])
+    return ["| quantity | value |", "|---|---|"] + [f"| {md_escape(k)} | {md_escape(v)} |" for k, v in rows] + [""]
+
+
 def render_markdown(run):
-    """The report as Markdown text (figures linked by relative path)."""
+    """The report as Markdown text (figures and tables linked by relative path)."""
     title = run.scenario.title or run.scenario.star.get("name")
-    lines = [f"# kinage report: {title}", "",
-             f"kinage {__version__}, seed {run.seed}, "
-             f"{datetime.datetime.now(datetime.timezone.utc):%Y-%m-%d %H:%M} UTC. "
-             "Results are research estimates; the assumptions are listed in each section.", "", "## Summary", ""]
+    rel = lambda p: Path(p).relative_to(run.out_dir).as_posix()  # noqa: E731
+    lines = [f"# kinage report: {md_escape(title)}", "", f"> **Caution.** {CAUTION}", "", "## Summary", ""]
     for q, a in _answers(run):
-        lines += [f"**{q}** {a}", ""]
-    for name, result in run.stages.items():
-        lines += [f"## {_TITLES.get(name, name)}", "", result.summary(), ""]
-        rows = stage_rows(name, to_jsonable(result.to_dict()))
-        if rows:
-            lines += ["| quantity | value |", "|---|---|"] + [f"| {k} | {v} |" for k, v in rows] + [""]
-        for fig in _figures(run, name):
-            lines += [f"![{_caption(fig)}]({Path(fig).relative_to(run.out_dir).as_posix()})", "",
-                      f"*{_caption(fig)}*", ""]
-        for t in _tables(run, name):
-            lines += [f"Table: `{Path(t).relative_to(run.out_dir).as_posix()}`", ""]
-        assumptions = getattr(result, "assumptions", []) or []
-        if assumptions:
-            lines += ["Assumptions:", ""] + [f"- {a}" for a in assumptions] + [""]
-        refs = _param_refs(result)
-        if refs:
-            lines += ["Parameter sets:", ""]
-            for p in refs:
-                lines.append(f"- {p['kind']} `{p['name']}`: {p['description']}"
-                             + (f" ({'; '.join(p['references'])})" if p["references"] else ""))
-            lines.append("")
+        lines += [f"**{q}** {md_sentence(a)}", ""]  # kinage's sentences as in results.json (user names escaped)
+    for i, (question, parts) in enumerate(report_sections(run), 1):
+        lines += [f"## {i}. {question}", ""]
+        if not parts:
+            lines += ["Not computed in this run.", ""]
+        for name, blocks in parts:
+            lines += [f"### {_TITLES.get(name, name)}", ""]
+            for b in blocks:
+                if b["kind"] == "text":
+                    lines += [b["text"], ""]
+                elif b["kind"] == "pair":
+                    lines += [f"![{b['caption']}]({rel(b['figure'])})", "", f"*{b['caption']}*", ""]
+                    lines += _md_rows(b["header"], b["rows"])
+                elif b["kind"] == "rows":
+                    lines += _md_rows(None, b["rows"])
+                elif b["kind"] == "files":  # noqa: SIM114
+                    lines += ["Tables: " + ", ".join(f"[{rel(t)}]({rel(t)})" for t in b["files"]), ""]
+                elif b["kind"] == "list" and b["items"]:
+                    lines += [f"{b['title']}:", ""] + [f"- {md_escape(x)}" for x in b["items"]] + [""]
+                elif b["kind"] == "psets":
+                    lines += ["Parameter sets:", ""]
+                    for p in b["items"]:
+                        lines.append(f"- {p['kind']} `{p['name']}`: {md_escape(p['description'])}"
+                                     + (f" ({md_escape('; '.join(p['references']))})" if p["references"] else ""))
+                    lines.append("")
     for name, msg in run.failed.items():
-        lines += [f"## Stage '{name}' failed", "", f"`{msg}`", "",
+        lines += [f"## Stage '{name}' failed", "", md_code(msg), "",
                   "The results of the stages before it are complete and in results.json.", ""]
+    rows, psets, hashes = provenance_rows(run)
+    lines += ["## Provenance", ""] + _md_rows(None, rows)
+    if psets:
+        lines += ["Parameter sets used:", ""] + [f"- {p['kind']} `{p['name']}`: {md_escape('; '.join(p['references']))}"
+                                                  for p in psets] + [""]
+    if hashes:
+        lines += ["| input file | SHA-256 |", "|---|---|"] + [f"| {md_escape(f)} | `{h}` |" for f, h in hashes] + [""]
+    lines += ["All numbers are in [results.json](results.json).", ""]
     return "\n".join(lines)
 
 
+# --------------------------------------------------------------------------- HTML
 _CSS = """
-body{font-family:system-ui,-apple-system,Segoe UI,Helvetica,Arial,sans-serif;max-width:58rem;margin:2rem auto;
+body{font-family:system-ui,-apple-system,Segoe UI,Helvetica,Arial,sans-serif;max-width:66rem;margin:1.5rem auto;
 padding:0 1rem;line-height:1.45;color:#1b1b1b}
-h1{font-size:1.5rem}h2{font-size:1.2rem;border-bottom:1px solid #ddd;padding-bottom:.2rem;margin-top:2rem}
-.summary{background:#f4f7fb;border-left:4px solid #0072B2;padding:.6rem 1rem}
+h1{font-size:1.45rem;margin-bottom:.3rem}h2{font-size:1.2rem;border-bottom:1px solid #ddd;padding-bottom:.2rem;
+margin-top:2rem}h3{font-size:1.02rem;margin:1.2rem 0 .4rem}
+.caution{background:#fff8e6;border-left:4px solid #E69F00;padding:.45rem .9rem;font-size:.9rem}
+.summary{background:#f4f7fb;border-left:4px solid #0072B2;padding:.5rem 1rem}
 .summary dt{font-weight:600;margin-top:.4rem}.summary dd{margin-left:0}
-table{border-collapse:collapse;font-size:.9rem;margin:.5rem 0}td,th{border:1px solid #ddd;padding:.2rem .5rem;
-text-align:left;vertical-align:top}figure{margin:1rem 0}img{max-width:100%;height:auto}
+table{border-collapse:collapse;font-size:.85rem;margin:.3rem 0}td,th{border:1px solid #ddd;padding:.18rem .45rem;
+text-align:left;vertical-align:top}th{background:#f6f6f6}
+.pair{display:flex;flex-wrap:wrap;gap:1rem;align-items:flex-start;margin:.8rem 0 1.2rem}
+.pair figure{margin:0;flex:0 1 auto}.pair .nums{flex:1 1 18rem;min-width:16rem}
+figcaption{font-size:.85rem;color:#333;max-width:40rem;margin-top:.2rem}img{max-width:100%;height:auto}
 .failed{background:#fff3f0;border-left:4px solid #D55E00;padding:.5rem 1rem}.meta{color:#555;font-size:.85rem}
+ul.small,.small{font-size:.85rem}code{font-size:.82rem}.prov td:first-child{white-space:nowrap}
 """
 
 
+def _html_rows(header, rows):
+    e = html.escape
+    if not rows:
+        return ""
+    if header:
+        return ("<table><tr>" + "".join(f"<th>{e(h)}</th>" for h in header) + "</tr>"
+                + "".join("<tr>" + "".join(f"<td>{e(str(c))}</td>" for c in r) + "</tr>" for r in rows) + "</table>")
+    return ("<table><tr><th>quantity</th><th>value</th></tr>"
+            + "".join(f"<tr><td>{e(k)}</td><td>{e(str(v))}</td></tr>" for k, v in rows) + "</table>")
+
+
+def _img(fig, caption):
+    e = html.escape
+    raw = Path(fig).read_bytes()
+    data = base64.b64encode(raw).decode("ascii")
+    px = _png_width_px(raw)
+    # same scale for every figure: 7.5rem per inch of the figure's size at 200 dpi
+    width = f" style='width:{px / 200 * 7.5:.1f}rem'" if px else ""
+    return (f"<figure><img alt='{e(caption)}'{width} src='data:image/png;base64,{data}'>"
+            f"<figcaption>{e(caption)}</figcaption></figure>")
+
+
 def render_html(run):
-    """The report as one self-contained HTML page (figures embedded as data URIs)."""
+    """The report as one self-contained HTML page (figures embedded as data URIs, tables linked)."""
     e = html.escape
     title = run.scenario.title or run.scenario.star.get("name")
+    rel = lambda p: Path(p).relative_to(run.out_dir).as_posix()  # noqa: E731
     body = [f"<h1>kinage report: {e(str(title))}</h1>",
-            f"<p class='meta'>kinage {e(__version__)}, seed {run.seed}, "
-            f"{datetime.datetime.now(datetime.timezone.utc):%Y-%m-%d %H:%M} UTC. Results are research estimates; "
-            "the assumptions they rest on are listed in each section. All numbers are in results.json.</p>",
+            f"<p class='meta'>kinage {e(__version__)}, seed {run.seed}. All numbers are in "
+            "<a href='results.json'>results.json</a>; provenance at the end.</p>",
+            f"<p class='caution'><b>Caution.</b> {e(CAUTION)}</p>",
             "<h2>Summary</h2>", "<dl class='summary'>"]
-    for q, a in _answers(run):
-        body.append(f"<dt>{e(q)}</dt><dd>{e(a)}</dd>")
+    for i, (q, a) in enumerate(_answers(run), 1):
+        body.append(f"<dt><a href='#q{i}'>{e(q)}</a></dt><dd>{e(a)}</dd>")
     body.append("</dl>")
-    for name, result in run.stages.items():
-        body += [f"<h2 id='{name}'>{e(_TITLES.get(name, name))}</h2>", f"<p>{e(result.summary())}</p>"]
-        rows = stage_rows(name, to_jsonable(result.to_dict()))
-        if rows:
-            body.append("<table><tr><th>quantity</th><th>value</th></tr>"
-                        + "".join(f"<tr><td>{e(k)}</td><td>{e(v)}</td></tr>" for k, v in rows) + "</table>")
-        for fig in _figures(run, name):
-            raw = Path(fig).read_bytes()
-            data = base64.b64encode(raw).decode("ascii")
-            # same scale for every figure: 7.5rem per inch of the figure's size at 200 dpi
-            width = f" style='width:{_png_width_px(raw) / 200 * 7.5:.1f}rem'" if _png_width_px(raw) else ""
-            body.append(f"<figure><img alt='{e(_caption(fig))}'{width} src='data:image/png;base64,{data}'>"
-                        f"<figcaption>{e(_caption(fig))}</figcaption></figure>")
-        tables = _tables(run, name)
-        if tables:
-            body.append("<p>Tables: " + ", ".join(f"<code>{e(Path(t).relative_to(run.out_dir).as_posix())}</code>"
-                                                  for t in tables) + "</p>")
-        assumptions = getattr(result, "assumptions", []) or []
-        if assumptions:
-            body.append("<p><b>Assumptions</b></p><ul>" + "".join(f"<li>{e(a)}</li>" for a in assumptions) + "</ul>")
-        refs = _param_refs(result)
-        if refs:
-            body.append("<p><b>Parameter sets</b></p><ul>" + "".join(
-                f"<li>{e(p['kind'])} <code>{e(p['name'])}</code>: {e(p['description'])}"
-                + (f" ({e('; '.join(p['references']))})" if p["references"] else "") + "</li>" for p in refs) + "</ul>")
+    for i, (question, parts) in enumerate(report_sections(run), 1):
+        body.append(f"<h2 id='q{i}'>{i}. {e(question)}</h2>")
+        if not parts:
+            body.append("<p>Not computed in this run.</p>")
+        for name, blocks in parts:
+            body.append(f"<h3 id='{name}'>{e(_TITLES.get(name, name))}</h3>")
+            for b in blocks:
+                if b["kind"] == "text":
+                    body.append(f"<p>{e(b['text'])}</p>")
+                elif b["kind"] == "pair":
+                    body.append("<div class='pair'>" + _img(b["figure"], b["caption"])
+                                + f"<div class='nums'>{_html_rows(b['header'], b['rows'])}</div></div>")
+                elif b["kind"] == "rows":
+                    body.append(_html_rows(None, b["rows"]))
+                elif b["kind"] == "files":
+                    body.append("<p class='small'>Tables: " + ", ".join(
+                        f"<a href='{e(rel(t))}'><code>{e(rel(t))}</code></a>" for t in b["files"]) + "</p>")
+                elif b["kind"] == "list" and b["items"]:
+                    body.append(f"<p class='small'><b>{e(b['title'])}</b></p><ul class='small'>"
+                                + "".join(f"<li>{e(x)}</li>" for x in b["items"]) + "</ul>")
+                elif b["kind"] == "psets":
+                    body.append("<p class='small'><b>Parameter sets</b></p><ul class='small'>" + "".join(
+                        f"<li>{e(p['kind'])} <code>{e(p['name'])}</code>: {e(p['description'])}"
+                        + (f" ({e('; '.join(p['references']))})" if p["references"] else "") + "</li>"
+                        for p in b["items"]) + "</ul>")
     for name, msg in run.failed.items():
         body.append(f"<div class='failed'><h2>Stage '{e(name)}' failed</h2><p><code>{e(msg)}</code></p>"
                     "<p>The results of the stages before it are complete and in results.json.</p></div>")
+    rows, psets, hashes = provenance_rows(run)
+    body.append("<h2 id='provenance'>Provenance</h2><table class='prov small'>"
+                + "".join(f"<tr><td>{e(k)}</td><td>{e(str(v))}</td></tr>" for k, v in rows) + "</table>")
+    if psets:
+        body.append("<p class='small'><b>Parameter sets used</b></p><ul class='small'>" + "".join(
+            f"<li>{e(p['kind'])} <code>{e(p['name'])}</code>: {e('; '.join(p['references']))}</li>" for p in psets)
+            + "</ul>")
+    if hashes:
+        body.append("<table class='prov small'><tr><th>input file</th><th>SHA-256</th></tr>" + "".join(
+            f"<tr><td>{e(f)}</td><td><code>{e(h)}</code></td></tr>" for f, h in hashes) + "</table>")
     return ("<!DOCTYPE html>\n<html lang='en'><head><meta charset='utf-8'>"
             f"<meta name='viewport' content='width=device-width, initial-scale=1'><title>kinage: {e(str(title))}</title>"
             f"<style>{_CSS}</style></head><body>\n" + "\n".join(body) + "\n</body></html>\n")
@@ -178,7 +414,20 @@ def _png_width_px(raw):
 
 
 def write_reports(run, out_dir):
-    """Write ``report.html`` and ``report.md`` into ``out_dir`` (atomically)."""
+    """Write the cross-stage figure, ``report.html`` and ``report.md`` into ``out_dir`` (atomically)."""
+    from .figures import write_astrometry_figure
+
     out_dir = Path(out_dir)
-    return [atomic_write(out_dir / "report.html", render_html(run)),
-            atomic_write(out_dir / "report.md", render_markdown(run))]
+    written = []
+    try:
+        fig = write_astrometry_figure(run, out_dir)
+    except Exception as exc:  # noqa: BLE001 - a figure must not cost the report
+        import warnings
+
+        warnings.warn(f"proper-motion figure not drawn ({type(exc).__name__}: {exc})", RuntimeWarning, stacklevel=2)
+        fig = None
+    if fig is not None:
+        run.files.append(fig)
+        written.append(fig)
+    return written + [atomic_write(out_dir / "report.html", render_html(run)),
+                      atomic_write(out_dir / "report.md", render_markdown(run))]
