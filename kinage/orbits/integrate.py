@@ -15,7 +15,11 @@ are integrated in the natural units of the potential's parameter set
 the potential is not rescaled to the solar R0.
 """
 
+import ctypes
+import glob
 import importlib
+import os
+import sys
 import warnings
 
 import numpy as np
@@ -24,7 +28,12 @@ from .._galpy import import_galpy
 from ..errors import InputError
 from .frames import KMS_TO_PCMYR
 
-__all__ = ["set_integration_cores", "StraightOrbits", "GalpyOrbits", "integrate_orbits", "galpy_potential", "time_grid"]
+__all__ = ["set_integration_cores", "integration_cores", "set_thread_integrator_cores", "StraightOrbits",
+           "GalpyOrbits", "integrate_orbits", "galpy_potential", "time_grid", "DEFAULT_TOLERANCE"]
+
+#: default relative and absolute tolerance of galpy's adaptive integrators (``[trace] integration_tolerance``);
+#: chosen by the convergence study in DEVELOPERS.md (galpy's own default is 1e-12)
+DEFAULT_TOLERANCE = 1e-8
 
 _POTENTIALS = {}
 
@@ -100,6 +109,11 @@ class StraightOrbits:
         t = self.times[cols][..., None]
         return self.pos0[rows] + self._v_kpc_myr[rows] * t, self.vel[rows]
 
+    def components(self):
+        """Positions (kpc) and velocities (km/s) at every grid time, component first: each (3, n, nt)."""
+        pos = self.pos0.T[:, :, None] + self._v_kpc_myr.T[:, :, None] * self.times[None, None, :]
+        return pos, np.broadcast_to(self.vel.T[:, :, None], pos.shape)
+
     def z(self):
         """Height z (kpc), shape (n, nt)."""
         return self.pos0[:, 2:3] + self._v_kpc_myr[:, 2:3] * self.times[None, :]
@@ -131,10 +145,22 @@ class GalpyOrbits:
 
     def state(self, rows, cols):
         """Position (kpc) and velocity (km/s) of draws ``rows`` at time indices ``cols``."""
-        a = self.array[rows, cols, :]
+        return self._state(self.array[rows, cols, :])
+
+    def _state(self, a):
         pos, c, s = self._cart(a)
         vR, vT = a[..., 1] * self.vo, a[..., 2] * self.vo
         vel = np.stack([-(vR * c - vT * s), vR * s + vT * c, a[..., 4] * self.vo], axis=-1)
+        return pos, vel
+
+    def components(self):
+        """Positions (kpc) and velocities (km/s) at every grid time, component first: each (3, n, nt)."""
+        a = self.array
+        R, phi = a[..., 0] * self.ro, a[..., 5]
+        c, s = np.cos(phi), np.sin(phi)
+        vR, vT = a[..., 1] * self.vo, a[..., 2] * self.vo
+        pos = np.stack([-R * c, R * s, a[..., 3] * self.ro])
+        vel = np.stack([-(vR * c - vT * s), vR * s + vT * c, a[..., 4] * self.vo])
         return pos, vel
 
 
@@ -152,18 +178,67 @@ _CORES = {"n": None}
 
 
 def set_integration_cores(n):
-    """Threads galpy's C integrators may use (None: galpy's default, all cores).
+    """Cores a trace may use (None: OMP_NUM_THREADS if set, else every core this process may run on).
 
     Batch workers set 1 so that several processes do not oversubscribe the machine.
     """
     _CORES["n"] = None if n is None else max(1, int(n))
 
 
-def _integrate_rows(vxvv, t_nat, pot, method, ro, vo, **kw):
+def integration_cores():
+    """Cores a trace uses: :func:`set_integration_cores`, else ``OMP_NUM_THREADS``, else the CPU affinity."""
+    if _CORES["n"] is not None:
+        return _CORES["n"]
+    env = os.environ.get("OMP_NUM_THREADS", "").strip()
+    if env.isdigit() and int(env) > 0:
+        return int(env)
+    try:
+        return max(1, len(os.sched_getaffinity(0)))
+    except AttributeError:  # pragma: no cover - not Linux
+        return max(1, os.cpu_count() or 1)
+
+
+_OMP = {}
+
+
+def _omp_set_num_threads():
+    """``omp_set_num_threads`` of the OpenMP runtime galpy's C library uses (None when not found)."""
+    if "f" not in _OMP:
+        _OMP["f"] = None
+        galpy = import_galpy()
+        base = os.path.dirname(os.path.dirname(galpy.__file__))
+        for path in sorted(glob.glob(os.path.join(base, "galpy.libs", "libgomp*.so*"))) + ["libgomp.so.1"]:
+            try:
+                _OMP["f"] = ctypes.CDLL(path).omp_set_num_threads
+                break
+            except (OSError, AttributeError):
+                continue
+    return _OMP["f"]
+
+
+def set_thread_integrator_cores(n):
+    """Let galpy's C integrators use ``n`` OpenMP threads when called from the current thread.
+
+    OpenMP keeps this setting per calling thread, so worker threads that each
+    integrate their own chunk of orbits set 1.  Returns False when galpy's
+    OpenMP runtime was not found (then galpy uses its default).
+    """
+    if "galpy" not in sys.modules:  # nothing to set before galpy is loaded
+        return False
+    f = _omp_set_num_threads()
+    if f is None:
+        return False
+    f(int(max(1, n)))
+    return True
+
+
+def _integrate_rows(vxvv, t_nat, pot, method, ro, vo, quiet=True, **kw):
     from galpy.orbit import Orbit
 
-    if _CORES["n"] is not None:
-        kw.setdefault("numcores", _CORES["n"])
+    if not quiet:  # the caller silences warnings (warning filters are not thread-safe)
+        o = Orbit(vxvv, ro=ro, vo=vo)
+        o.integrate(t_nat, pot, method=method, progressbar=False, **kw)
+        return o.orbit
     with warnings.catch_warnings():
         warnings.simplefilter("ignore")
         o = Orbit(vxvv, ro=ro, vo=vo)
@@ -171,7 +246,7 @@ def _integrate_rows(vxvv, t_nat, pot, method, ro, vo, **kw):
     return o.orbit  # the orbit array itself (getOrbit() would copy it)
 
 
-def integrate_orbits(pos, vel, times, potential, *, method="dop853_c", **galpy_kwargs):
+def integrate_orbits(pos, vel, times, potential, *, method="dop853_c", tolerance=None, quiet=True, **galpy_kwargs):
     """Integrate orbits from their present state back over ``times``.
 
     Parameters
@@ -185,6 +260,12 @@ def integrate_orbits(pos, vel, times, potential, *, method="dop853_c", **galpy_k
         ``potential`` parameter set; ``galpy`` None means straight lines.
     method : str
         galpy integrator (a C one: 'dop853_c', 'symplec4_c', ...).
+    tolerance : float, optional
+        Relative and absolute tolerance of an adaptive integrator (galpy's
+        ``rtol`` = ``atol``; default galpy's own, 1e-12).
+    quiet : bool
+        Silence galpy's warnings here (False: the caller does, e.g. around a
+        pool of threads, since warning filters are process-wide).
     **galpy_kwargs
         Passed to ``Orbit.integrate`` (e.g. ``rtol``, ``atol``).
 
@@ -196,6 +277,10 @@ def integrate_orbits(pos, vel, times, potential, *, method="dop853_c", **galpy_k
     """
     pos = np.asarray(pos, float)
     vel = np.asarray(vel, float)
+    if tolerance is not None:
+        galpy_kwargs.setdefault("rtol", float(tolerance))
+        galpy_kwargs.setdefault("atol", float(tolerance))
+    galpy_kwargs["quiet"] = quiet
     pot = galpy_potential(potential)
     if pot is None:
         return StraightOrbits(pos, vel, times)
