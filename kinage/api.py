@@ -205,17 +205,20 @@ def star_from_skycoord(coord, **values):
     if not coord.isscalar:
         raise InputError("coord", f"expected one position (got a SkyCoord of shape {coord.shape})")
     icrs = coord.icrs
-    star = {"ra": icrs.ra.to(u.deg), "dec": icrs.dec.to(u.deg)}
+    def q(x, unit):  # plain Quantities (not Longitude / Distance) in the scenario's default units
+        return u.Quantity(x, unit, subok=False)
+
+    star = {"ra": q(icrs.ra, u.deg), "dec": q(icrs.dec, u.deg)}
     data = coord.data
     if not isinstance(data, UnitSphericalRepresentation) and icrs.distance.unit.physical_type == "length":
-        star["distance"] = icrs.distance.to(u.pc)
+        star["distance"] = q(icrs.distance, u.pc)
     if "s" in data.differentials:
         diff = icrs.data.differentials["s"]
         if hasattr(diff, "d_lon_coslat") or hasattr(diff, "d_lon"):
-            star["pm_ra_cosdec"] = icrs.pm_ra_cosdec.to(u.mas / u.yr)
-            star["pm_dec"] = icrs.pm_dec.to(u.mas / u.yr)
+            star["pm_ra_cosdec"] = q(icrs.pm_ra_cosdec, u.mas / u.yr)
+            star["pm_dec"] = q(icrs.pm_dec, u.mas / u.yr)
         if hasattr(diff, "d_distance"):
-            star["radial_velocity"] = icrs.radial_velocity.to(u.km / u.s)
+            star["radial_velocity"] = q(icrs.radial_velocity, u.km / u.s)
     if coord.obstime is not None:
         star["epoch"] = coord.obstime
     if "parallax" in values and "distance" in star and "distance" not in values:
