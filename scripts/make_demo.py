@@ -1,104 +1,205 @@
-"""Make the invented demo data in data_demo/ (scenario and association table).
+"""Make the invented demo data in data_demo/ (every case, every file).
 
-Everything here is invented: the star "Aurel-1" and the association names.
-The star is placed at the centre of one association ("Serrat OB3") 0.52 Myr
-ago and given a kick of about 190 km/s; both then move on straight lines in
-the heliocentric Galactic frame (over 0.5 Myr the Galactic tide changes the
-relative position of two objects 0.1 kpc apart by ~0.02 pc, far below the
-association sizes) and are "observed" today with realistic errors.  The
-radial velocity of the star is not given, as for real isolated neutron stars.
+Everything here is invented: star names, association names, spin periods,
+temperatures, distances, positions and association ages.  The values were
+chosen to match no known neutron star, radio pulsar, magnetar or OB
+association, and no published traceback (see data_demo/README.md for the
+checks made).
 
-The TOA table is made afterwards by kinage itself::
+Cases (``kinage demo --list``):
 
-    kinage simulate data_demo/scenario.toml --output data_demo/toas.ecsv --seed 20270301
+``xray`` (default; data_demo/scenario.toml, associations.ecsv, toas.ecsv)
+    "Tessaly-3", a slow (4.793 s), thermally emitting (kT = 74 eV) X-ray star
+    born 0.21 Myr ago at the centre of the invented association "Vessen OB2"
+    (l = 52.0, b = +9.0 deg, 560 pc, 11 Myr).  Astrometry from imaging;
+    X-ray timing (25 simulated TOAs of ~0.1 s) cannot measure its motion.
+``radio`` (data_demo/radio/)
+    "Corvel J...", a 0.4671 s radio pulsar born 0.90 Myr ago in
+    "Karrow Group" (l = 236.5, b = +6.5 deg, 780 pc, 7 Myr), timed with 0.4 us
+    TOAs for 5 yr from the invented "Corvel Plain" site; timing measures the
+    proper motion and parallax, which feed the trace.
+``population`` (data_demo/population.ecsv, population_template.toml)
+    18 invented "Pop-" stars, half born in the demo associations, for
+    ``kinage batch``.
+
+Both stars move on straight lines in the (inertial) Galactocentric frame from
+their birth place, as does their parent association: over ~1 Myr the Galactic
+tide changes the relative position of two objects 0.3 kpc apart by < 0.5 pc,
+far below the association radii.  The associations move on circular orbits
+(220 km/s, flat rotation) plus a few km/s of their own.  The stars are then
+"observed" today with realistic errors; their radial velocities are not given
+to kinage, as for real isolated neutron stars.
+
+The TOA tables are drawn by kinage itself (:func:`kinage.timing.simulate_toas`)
+with the true proper motion and parallax injected, so the shipped radio
+scenario does not contain the answer.
 
 Run:  python scripts/make_demo.py
 """
 
+import os
+import shutil
 from pathlib import Path
 
 import astropy.units as u
 import numpy as np
-from astropy.coordinates import CartesianDifferential, CartesianRepresentation, SkyCoord
+from astropy.coordinates import CartesianDifferential, CartesianRepresentation, Galactocentric, SkyCoord
 from astropy.table import Table
 
-OUT = Path(__file__).resolve().parents[1] / "data_demo"
-RNG = np.random.default_rng(20261202)
+ROOT = Path(__file__).resolve().parents[1]
+OUT = Path(os.environ.get("KINAGE_DEMO_OUT", ROOT / "data_demo"))  # override to try changes elsewhere
 KMS_PC_PER_MYR = 1.0227121650537077  # 1 km/s = 1.0227 pc/Myr (astropy units)
+V_CIRC_KMS = 220.0  # flat rotation curve of MWPotential2014 (Bovy 2015)
 
-NAMES = ["Halvard OB1", "Quillon Group", "Serrat OB3", "Tamsin Moving Group", "Verdane OB2", "Yarrow Group",
-         "Oskell OB1", "Pellis Group", "Ravenne OB2", "Ebbrin Association", "Lumeth OB1", "Dovrin Group",
-         "Castell Stream", "Fennick OB4"]
-TRUE_PARENT = "Serrat OB3"
-BIRTH_AGO_MYR = 0.52
-KICK_KMS = np.array([95.0, -120.0, 118.0])  # relative to the parent, heliocentric Galactic (U, V, W)
+# name, l (deg), b (deg), distance (pc), age (Myr), radius (pc): all invented, placed away from the
+# real nearby OB associations and star-forming regions (Sco-Cen, Orion, Perseus, Lacerta, Cepheus,
+# Vela, Cygnus, Canis Major, Monoceros, Chamaeleon, Corona Australis...) in position, distance or age
+ASSOCIATIONS = [
+    ("Vessen OB2", 52.0, 9.0, 560.0, 11.0, 18.0),
+    ("Karrow Group", 236.5, 6.5, 780.0, 7.0, 16.0),
+    ("Halvard OB1", 18.0, -14.0, 720.0, 23.0, 25.0),
+    ("Quillon Group", 131.0, 16.0, 930.0, 15.0, 30.0),
+    ("Tamsin Moving Group", 64.0, 15.5, 470.0, 30.0, 22.0),
+    ("Verdane OB2", 45.0, 2.5, 690.0, 8.0, 20.0),
+    ("Yarrow Group", 248.0, 11.0, 1240.0, 12.0, 22.0),
+    ("Oskell OB1", 241.5, -7.5, 1400.0, 9.0, 25.0),
+    ("Pellis Group", 165.0, 12.0, 610.0, 18.0, 20.0),
+    ("Lumeth OB1", 200.0, 18.5, 760.0, 20.0, 24.0),
+    ("Dovrin Group", 270.0, 20.0, 990.0, 6.0, 15.0),
+]
+
+# spin periods kinage's demos must stay 3% away from (known nearby thermal emitters and famous pulsars)
+AVOID_PERIODS_S = (3.45, 7.06, 8.39, 9.43, 10.31, 11.37, 0.0334, 0.0893, 0.237)
+
+XRAY = dict(name="Tessaly-3", parent="Vessen OB2", birth_myr=0.75, kick_kms=(-101.0, 147.0, -83.0),
+            period_s=4.793, pdot=4.0e-14, kT_eV=74.0)
+RADIO = dict(name="Corvel J", parent="Karrow Group", birth_myr=0.90, kick_kms=(130.0, -120.0, 110.0),
+             period_s=0.4671, pdot=4.0e-15)
+SITE = dict(site_name="Corvel Plain", longitude_deg=135.81, latitude_deg=-27.46, height_m=212.0)
 
 
-def galactic(xyz_pc, uvw_kms):
-    rep = CartesianRepresentation(*(xyz_pc * u.pc), differentials=CartesianDifferential(*(uvw_kms * u.km / u.s)))
-    return SkyCoord(rep, frame="galactic").icrs
+def _check_period(p):
+    for q in AVOID_PERIODS_S:
+        if abs(p / q - 1.0) < 0.03:
+            raise ValueError(f"demo period {p} s is within 3% of {q} s")
+    return p
 
 
-def main():
-    rows = []
-    parent = None
-    for name in NAMES:
-        if name == TRUE_PARENT:
-            d, l, b = 330.0, np.radians(292.0), np.radians(9.0)
-            age, radius = 14.0, 22.0
-        else:
-            d = RNG.uniform(150, 950)
-            l = RNG.uniform(0, 2 * np.pi)
-            b = np.arcsin(RNG.uniform(-0.35, 0.35))
-            age, radius = RNG.uniform(3, 40), RNG.uniform(10, 45)
-        xyz = d * np.array([np.cos(b) * np.cos(l), np.cos(b) * np.sin(l), np.sin(b)])
-        # heliocentric velocity of a young group: minus the solar peculiar motion
-        # (Schoenrich et al. 2010) plus a few km/s of its own
-        uvw = np.array([-11.1, -12.24, -7.25]) + RNG.normal(0, 4.0, 3)
-        c = galactic(xyz, uvw)
+def _gc_frame():
+    # kinage's 'galpy-default' solar parameters (R0 = 8 kpc, Schoenrich et al. 2010 peculiar motion on 220 km/s),
+    # the set that goes with MWPotential2014, which the demo scenarios use
+    return Galactocentric(galcen_distance=8.0 * u.kpc, z_sun=20.8 * u.pc,
+                          galcen_v_sun=CartesianDifferential([11.1, 232.24, 7.25] * u.km / u.s))
+
+
+def association_state(l_deg, b_deg, d_pc, rng):
+    """Present Galactocentric position (pc) and velocity (km/s) of an association on a circular orbit."""
+    helio = SkyCoord(l=l_deg * u.deg, b=b_deg * u.deg, distance=d_pc * u.pc, frame="galactic")
+    gc = helio.transform_to(_gc_frame())
+    x, y, z = (gc.cartesian.xyz.to_value(u.pc))
+    r = np.hypot(x, y)
+    # astropy Galactocentric is right-handed with the Sun at x < 0 moving towards +y (clockwise seen from +z)
+    v = V_CIRC_KMS * np.array([y / r, -x / r, 0.0]) + rng.normal(0.0, 3.0, 3)
+    return np.array([x, y, z]), v
+
+
+def observe(xyz_pc, v_kms):
+    """ICRS SkyCoord (with proper motion and radial velocity) of a Galactocentric state."""
+    rep = CartesianRepresentation(*(xyz_pc * u.pc), differentials=CartesianDifferential(*(v_kms * u.km / u.s)))
+    return SkyCoord(rep, frame=_gc_frame()).icrs
+
+
+def make_associations(rng):
+    rows, states = [], {}
+    for name, l, b, d, age, radius in ASSOCIATIONS:
+        xyz, v = association_state(l, b, d, rng)
+        c = observe(xyz, v)
+        states[name] = (xyz, v)
         rows.append({
             "name": name, "ra": c.ra.deg, "dec": c.dec.deg, "distance": c.distance.to_value(u.pc),
             "pm_ra_cosdec": c.pm_ra_cosdec.to_value(u.mas / u.yr), "pm_dec": c.pm_dec.to_value(u.mas / u.yr),
             "radial_velocity": c.radial_velocity.to_value(u.km / u.s),
-            "distance_error": 0.04 * d, "pm_ra_cosdec_error": 0.3, "pm_dec_error": 0.3, "radial_velocity_error": 2.0,
+            "distance_error": 0.04 * d, "pm_ra_cosdec_error": 0.2, "pm_dec_error": 0.2, "radial_velocity_error": 2.0,
             "radius": radius, "age": age,
         })
-        if name == TRUE_PARENT:
-            parent = (xyz, uvw)
-
-    xyz0, uvw0 = parent
-    t_pc = BIRTH_AGO_MYR * KMS_PC_PER_MYR
-    birth = xyz0 - uvw0 * t_pc
-    v_star = uvw0 + KICK_KMS
-    now = birth + v_star * t_pc
-    star = galactic(now, v_star)
-
     tab = Table(rows)
     units = {"ra": u.deg, "dec": u.deg, "distance": u.pc, "pm_ra_cosdec": u.mas / u.yr, "pm_dec": u.mas / u.yr,
-             "radial_velocity": u.km / u.s, "distance_error": u.pc,
-             "pm_ra_cosdec_error": u.mas / u.yr, "pm_dec_error": u.mas / u.yr,
-             "radial_velocity_error": u.km / u.s, "radius": u.pc, "age": u.Myr}
+             "radial_velocity": u.km / u.s, "distance_error": u.pc, "pm_ra_cosdec_error": u.mas / u.yr,
+             "pm_dec_error": u.mas / u.yr, "radial_velocity_error": u.km / u.s, "radius": u.pc, "age": u.Myr}
     for k, un in units.items():
         tab[k].unit = un
         tab[k].info.format = ".4f" if k in ("ra", "dec") else ".3f"
     tab.meta["description"] = "Invented candidate birth associations for the kinage demo (not real objects)."
-    tab.write(OUT / "associations.ecsv", overwrite=True)
+    return tab, states
 
-    plx_true = 1000.0 / star.distance.to_value(u.pc)
-    obs = {
-        "ra": star.ra.deg, "dec": star.dec.deg,
-        "parallax": plx_true + RNG.normal(0, 0.25), "pm_ra_cosdec": star.pm_ra_cosdec.to_value(u.mas / u.yr) + RNG.normal(0, 1.5),
-        "pm_dec": star.pm_dec.to_value(u.mas / u.yr) + RNG.normal(0, 1.5),
-    }
-    print(f"true distance {star.distance.to_value(u.pc):.1f} pc, radial velocity {star.radial_velocity:.1f} "
-          f"(not given to kinage), speed {np.linalg.norm(v_star):.0f} km/s")
-    text = SCENARIO.format(**obs)
+
+def born_star(states, spec):
+    """Today's ICRS state of a star born at its parent's centre ``birth_myr`` ago with a kick."""
+    xyz0, v0 = states[spec["parent"]]
+    t_pc = spec["birth_myr"] * KMS_PC_PER_MYR
+    birth = xyz0 - v0 * t_pc
+    v_star = v0 + np.asarray(spec["kick_kms"], float)
+    return observe(birth + v_star * t_pc, v_star)
+
+
+def _jname(c):
+    """Survey-style name Jhhmm+ddmm from the ICRS position."""
+    ra = c.ra.to_string(unit=u.hourangle, sep="", precision=0, pad=True)[:4]
+    dec = c.dec.to_string(sep="", precision=0, alwayssign=True, pad=True)[:5]
+    return f"J{ra}{dec}"
+
+
+def _write_table(tab, path):
+    path.parent.mkdir(parents=True, exist_ok=True)
+    tab.write(path, overwrite=True)
+
+
+def make_xray(states, rng):
+    s = XRAY
+    _check_period(s["period_s"])
+    star = born_star(states, s)
+    obs = {"ra": star.ra.deg, "dec": star.dec.deg,
+           "parallax": 1000.0 / star.distance.to_value(u.pc) + rng.normal(0, 0.08),
+           "pm_ra_cosdec": star.pm_ra_cosdec.to_value(u.mas / u.yr) + rng.normal(0, 1.0),
+           "pm_dec": star.pm_dec.to_value(u.mas / u.yr) + rng.normal(0, 1.0)}
+    print(f"{s['name']}: true distance {star.distance.to_value(u.pc):.0f} pc, "
+          f"radial velocity {star.radial_velocity:.0f} (not given to kinage)")
+    text = XRAY_SCENARIO.format(**obs, **s)
     (OUT / "scenario.toml").write_text(text)
-    print(text)
-    make_population(rows)
+    from kinage.io.scenario import load_scenario
+    from kinage.timing import simulate_toas
+
+    scenario = load_scenario(OUT / "scenario.toml", allow_missing=("campaign.toas",))
+    simulate_toas(scenario, rng=20270301).write(OUT / "toas.ecsv")
 
 
-def make_population(assoc_rows, n_stars=22):
+def make_radio(states, rng, assoc_table):
+    s = RADIO
+    _check_period(s["period_s"])
+    star = born_star(states, s)
+    s = dict(s, name="Corvel " + _jname(star))
+    d_true = star.distance.to_value(u.pc)
+    truth = {"pm_ra_cosdec": float(star.pm_ra_cosdec.to_value(u.mas / u.yr)),
+             "pm_dec": float(star.pm_dec.to_value(u.mas / u.yr)), "parallax": 1000.0 / d_true}
+    print(f"{s['name']}: true distance {d_true:.0f} pc, pm ({truth['pm_ra_cosdec']:.2f}, {truth['pm_dec']:.2f}) "
+          f"mas/yr, parallax {truth['parallax']:.3f} mas, radial velocity {star.radial_velocity:.0f} (not given)")
+    folder = OUT / "radio"
+    folder.mkdir(exist_ok=True)
+    # the dispersion-measure distance: the true one scattered by ~25% (a typical electron-density-model error)
+    d_dm = d_true * (1.0 + rng.normal(0, 0.25))
+    text = RADIO_SCENARIO.format(ra=star.ra.deg, dec=star.dec.deg, dm_distance=d_dm, dm_distance_error=0.3 * d_dm,
+                                 pm_ra_img=truth["pm_ra_cosdec"] + rng.normal(0, 3.0),
+                                 pm_dec_img=truth["pm_dec"] + rng.normal(0, 3.0), dm=d_true * 0.031, **s, **SITE)
+    (folder / "scenario.toml").write_text(text)
+    _write_table(assoc_table, folder / "associations.ecsv")
+    from kinage.io.scenario import load_scenario
+    from kinage.timing import simulate_toas
+
+    scenario = load_scenario(folder / "scenario.toml", allow_missing=("campaign.toas",))
+    simulate_toas(scenario, rng=20280412, inject=truth).write(folder / "toas.ecsv")
+
+
+def make_population(assoc_rows, n_stars=18):
     """An invented population for ``kinage batch``: half born in the demo associations, half field stars."""
     from kinage.kinematics.velocity_prior import velocity_prior
 
@@ -110,30 +211,36 @@ def make_population(assoc_rows, n_stars=22):
             a = assoc_rows[rng.integers(len(assoc_rows))]
             c = SkyCoord(ra=a["ra"] * u.deg, dec=a["dec"] * u.deg, distance=a["distance"] * u.pc,
                          pm_ra_cosdec=a["pm_ra_cosdec"] * u.mas / u.yr, pm_dec=a["pm_dec"] * u.mas / u.yr,
-                         radial_velocity=a["radial_velocity"] * u.km / u.s).galactic
+                         radial_velocity=a["radial_velocity"] * u.km / u.s).transform_to(_gc_frame())
             xyz = c.cartesian.xyz.to_value(u.pc)
-            uvw = c.velocity.d_xyz.to_value(u.km / u.s)
+            v0 = c.velocity.d_xyz.to_value(u.km / u.s)
             age = rng.uniform(0.2, 1.5)
-            v = uvw + prior.sample_velocity(1, rng)[0] * 0.6
-            # born at the group's centre `age` Myr ago, then straight lines for both
-            now = xyz - uvw * age * KMS_PC_PER_MYR + v * age * KMS_PC_PER_MYR
+            v = v0 + prior.sample_velocity(1, rng)[0] * 0.6
+            now = xyz - v0 * age * KMS_PC_PER_MYR + v * age * KMS_PC_PER_MYR
         else:
-            d = rng.uniform(150, 800)
-            l, b = rng.uniform(0, 2 * np.pi), np.arcsin(rng.uniform(-0.5, 0.5))
-            now = d * np.array([np.cos(b) * np.cos(l), np.cos(b) * np.sin(l), np.sin(b)])
-            v = np.array([-11.1, -12.24, -7.25]) + prior.sample_velocity(1, rng)[0] * 0.6
+            d = rng.uniform(250, 1000)
+            l, b = rng.uniform(0, 360), np.degrees(np.arcsin(rng.uniform(-0.4, 0.4)))
+            xyz, v0 = association_state(l, b, d, rng)
+            v = v0 + prior.sample_velocity(1, rng)[0] * 0.6
             age = rng.uniform(0.3, 3.0)
-        st = galactic(now, v)
+            now = xyz
+        st = observe(now, v)
         plx = 1000 / st.distance.to_value(u.pc)
-        P = rng.uniform(3, 12)
-        tau_c = age * rng.uniform(1.5, 6) * 1e6 * 3.15576e7  # characteristic age above the true age (s)
+        while True:
+            period = rng.uniform(0.3, 6.0)
+            try:
+                _check_period(period)
+                break
+            except ValueError:
+                continue
+        tau_c = age * rng.uniform(1.2, 5) * 1e6 * 3.15576e7  # characteristic age above the true age (s)
         out.append({
             "name": f"Pop-{i + 1:02d}", "ra": st.ra.deg, "dec": st.dec.deg,
-            "parallax": plx + rng.normal(0, 0.2), "parallax_error": 0.2,
+            "parallax": plx + rng.normal(0, 0.15), "parallax_error": 0.15,
             "pm_ra_cosdec": st.pm_ra_cosdec.to_value(u.mas / u.yr) + rng.normal(0, 1.0), "pm_ra_cosdec_error": 1.0,
             "pm_dec": st.pm_dec.to_value(u.mas / u.yr) + rng.normal(0, 1.0), "pm_dec_error": 1.0,
-            "spin_period": P, "spin_period_derivative": P / (2 * tau_c),
-            "temperature": rng.uniform(50, 110), "temperature_error": 5.0,
+            "spin_period": period, "spin_period_derivative": period / (2 * tau_c),
+            "temperature": rng.uniform(45, 120), "temperature_error": 6.0,
         })
     tab = Table(out)
     for k, un in {"ra": u.deg, "dec": u.deg, "parallax": u.mas, "parallax_error": u.mas,
@@ -148,42 +255,52 @@ def make_population(assoc_rows, n_stars=22):
     (OUT / "population_template.toml").write_text(POPULATION_TEMPLATE)
 
 
-SCENARIO = """\
-# kinage demo scenario: an INVENTED nearby thermally emitting neutron star.
-# Everything below is fictitious; see scripts/make_demo.py for how it was made.
-title = "Aurel-1: a slow, cooling neutron star near Serrat OB3 (invented demo)"
+def main():
+    rng = np.random.default_rng(20261202)
+    tab, states = make_associations(rng)
+    _write_table(tab, OUT / "associations.ecsv")
+    make_xray(states, rng)
+    make_radio(states, rng, tab)
+    make_population(list(tab))
+    shutil.rmtree(OUT / "__pycache__", ignore_errors=True)
+
+
+XRAY_SCENARIO = """\
+# kinage demo case 'xray': an INVENTED slow, thermally emitting neutron star.
+# Everything below is fictitious; made by scripts/make_demo.py (see data_demo/README.md).
+title = "{name}: a slow, cooling X-ray star (invented demo)"
 
 [star]
-name = "Aurel-1"
+name = "{name}"
 ra = {ra:.6f}                    # deg (ICRS)
 dec = {dec:.6f}                  # deg
-ra_error = 40.0                   # mas (ra*cos dec), from X-ray imaging
-dec_error = 40.0                  # mas
+ra_error = 30.0                   # mas (ra*cos dec), from X-ray imaging
+dec_error = 30.0                  # mas
 epoch = "2027-01-01"
-parallax = "{parallax:.3f} mas"          # optical/X-ray imaging parallax
-parallax_error = "0.25 mas"
-pm_ra_cosdec = "{pm_ra_cosdec:.2f} mas/yr"
-pm_ra_cosdec_error = "1.5 mas/yr"
-pm_dec = "{pm_dec:.2f} mas/yr"
-pm_dec_error = "1.5 mas/yr"
-spin_period = "7.213 s"
+parallax = "{parallax:.2f} mas"           # optical imaging parallax
+parallax_error = "0.08 mas"
+pm_ra_cosdec = "{pm_ra_cosdec:.1f} mas/yr"    # optical imaging proper motion
+pm_ra_cosdec_error = "1.0 mas/yr"
+pm_dec = "{pm_dec:.1f} mas/yr"
+pm_dec_error = "1.0 mas/yr"
+spin_period = "{period_s} s"
 spin_period_error = "1e-6 s"
-spin_period_derivative = 6.4e-14
-spin_period_derivative_error = 0.4e-14
-temperature = "86 eV"             # redshifted blackbody kT as seen at infinity
-temperature_error = "4 eV"
+spin_period_derivative = {pdot:.2e}
+spin_period_derivative_error = 0.3e-14
+temperature = "{kT_eV:g} eV"             # redshifted blackbody kT as seen at infinity
+temperature_error = "3 eV"
 
 [campaign]
 start = "2027-03-01"
 baseline = "6 yr"
 visits_per_year = 4
-exposure = "30 ks"
+exposure = "40 ks"
 sun_avoidance = "45 deg"
-source_rate = "1.6 1/s"           # counts/s in the source region
-background_rate = "0.08 1/s"
-pulsed_fraction = 0.14
+source_rate = "0.9 1/s"           # counts/s in the source region
+background_rate = "0.05 1/s"
+pulsed_fraction = 0.11
 pulse_shape = "sinusoid"
-toas = "toas.ecsv"                # made by: kinage simulate scenario.toml --output toas.ecsv --seed 20270301
+toas = "toas.ecsv"                # simulated by scripts/make_demo.py (kinage.timing.simulate_toas, seed 20270301)
 
 [trace]
 associations = "associations.ecsv"
@@ -191,7 +308,7 @@ samples = 2000
 max_age = "3 Myr"
 seed = 20261202
 potential = "MWPotential2014"
-solar_parameters = "astropy-v4.0"
+solar_parameters = "galpy-default"
 velocity_prior = "hobbs2005"
 distance_prior = "exponential"
 
@@ -201,6 +318,59 @@ moment_of_inertia = "1e45 g cm2"
 mass = "1.4 solMass"
 radius = "12 km"
 envelopes = ["iron", "accreted"]
+"""
+
+RADIO_SCENARIO = """\
+# kinage demo case 'radio': an INVENTED radio pulsar timed from an invented site.
+# Everything below is fictitious; made by scripts/make_demo.py (see data_demo/README.md).
+# The parallax is NOT given and the imaging proper motion is coarse: the timing fit measures both, and the trace
+# uses the fit combined with the imaging values (timing dominates).
+title = "{name}: a radio pulsar traced with timing astrometry (invented demo)"
+
+[star]
+name = "{name}"
+ra = {ra:.7f}                    # deg (ICRS), from interferometric imaging
+dec = {dec:.7f}                  # deg
+ra_error = 20.0                   # mas (ra*cos dec)
+dec_error = 20.0                  # mas
+epoch = "2030-07-01"
+distance = "{dm_distance:.0f} pc"            # from the dispersion measure and an electron-density model
+distance_error = "{dm_distance_error:.0f} pc"
+pm_ra_cosdec = "{pm_ra_img:.1f} mas/yr"    # two-epoch interferometric imaging (coarse)
+pm_ra_cosdec_error = "3 mas/yr"
+pm_dec = "{pm_dec_img:.1f} mas/yr"
+pm_dec_error = "3 mas/yr"
+spin_period = "{period_s} s"
+spin_period_error = "1e-9 s"
+spin_period_derivative = {pdot:.2e}
+spin_period_derivative_error = 0.02e-15
+dispersion_measure = "{dm:.1f} pc / cm3"
+
+[campaign]
+# arrival times measured at the {site_name} site, an invented radio telescope (not a real observatory)
+toa_reference = "site"
+site_longitude = "{longitude_deg} deg"
+site_latitude = "{latitude_deg} deg"
+site_height = "{height_m:g} m"
+start = "2028-01-10"
+baseline = "5 yr"
+visits_per_year = 26
+toa_error = "0.4 us"
+sun_avoidance = "10 deg"
+toas = "toas.ecsv"                # simulated by scripts/make_demo.py (kinage.timing.simulate_toas, seed 20280412)
+
+[trace]
+associations = "associations.ecsv"
+samples = 2000
+max_age = "4 Myr"
+seed = 20280412
+potential = "MWPotential2014"
+solar_parameters = "galpy-default"
+velocity_prior = "hobbs2005"
+distance_prior = "exponential"
+
+[ages]
+braking_index = 3
 """
 
 POPULATION_TEMPLATE = """\
@@ -213,11 +383,10 @@ name = "template"
 
 [trace]
 associations = "associations.ecsv"
-samples = 400
-association_samples = 50
+samples = 300
+association_samples = 40
 control_runs = 3
 max_age = "3 Myr"
-time_steps = 601
 seed = 42
 
 [ages]

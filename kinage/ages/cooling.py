@@ -76,11 +76,11 @@ class CoolingModel:
 
     @classmethod
     def resolve(cls, model, where="[ages] cooling_model"):
-        """A CoolingModel from a name, a ParameterSet or a CoolingModel (None: 'minimal')."""
+        """A CoolingModel from a name, a ParameterSet or a CoolingModel (None: 'modified-urca')."""
         if isinstance(model, CoolingModel):
             return model
         if model is None:
-            model = "minimal"
+            model = "modified-urca"
         pset = model if isinstance(model, ParameterSet) else get("cooling_model", model, where)
         if pset.kind != "cooling_model":
             raise InputError(where, f"expected a cooling_model parameter set (got kind {pset.kind!r})")
@@ -222,7 +222,7 @@ def _initial_temperature(c0, lmu, ldu, t_s):
     return 1e9 * np.exp(brentq(lambda u: elapsed(u) - t_s, -8.0, 5.0, xtol=1e-12))
 
 
-def cooling_curve(mass, radius, envelope="iron", times_yr=None, model="minimal", heating=None, *, check=True):
+def cooling_curve(mass, radius, envelope="iron", times_yr=None, model="modified-urca", heating=None, *, check=True):
     """Cooling curve of an isothermal-core neutron star.
 
     Parameters
@@ -235,7 +235,7 @@ def cooling_curve(mass, radius, envelope="iron", times_yr=None, model="minimal",
         Output times within the model's span (default: 301 log-spaced
         points from 100 yr to 1e7 yr).
     model : str or ParameterSet or CoolingModel
-        Cooling-model parameter set (default 'minimal').
+        Cooling-model parameter set (default 'modified-urca': slow cooling without pairing).
     heating : callable or None
         Redshifted heating rate H(t_yr) in erg/s (e.g. :func:`field_decay_heating`).
     check : bool

@@ -1,15 +1,38 @@
-"""Figures of the ages stage: the age ladder and the cooling curves."""
+"""Figures of the ages stage: the age ladder and the cooling curves.
+
+Each function draws into a caller's Axes (``ax``) or a new kinage-style
+figure and returns the matplotlib Figure; given a ``path`` it saves the PNG
+there instead and returns the path (how :meth:`AgesResult.write_products`
+uses them).  matplotlib is imported only when a figure is drawn.
+"""
 
 import numpy as np
 
-from ..report.style import color, new_figure, save_figure, style_context
+from ..report.style import FAVOURED_COLOR, PALETTE, STAR_COLOR, figure_for, save_figure, style_context
 
-__all__ = ["plot_age_ladder", "plot_cooling_curves"]
+__all__ = ["plot_age_ladder", "plot_cooling_curves", "age_axis_unit"]
 
+_EV_PER_K = 8.617333262e-5  # Boltzmann constant in eV/K (CODATA 2018)
 _ENV_STYLE = {"iron": "-", "accreted": "--", "gpe83": ":"}
+_KINDS = {"kinematic": STAR_COLOR, "characteristic": PALETTE[1], "max.": PALETTE[1], "spin-down": PALETTE[1],
+          "cooling": FAVOURED_COLOR}
 
 
-def plot_age_ladder(rows, path, title=None):
+def age_axis_unit(values_yr):
+    """(scale, unit) for an age axis: kyr below 1 Myr, Myr above (median of the values)."""
+    v = np.asarray([x for x in values_yr if x is not None and np.isfinite(x) and x > 0], float)
+    if v.size == 0 or np.median(v) < 1e6:
+        return 1e3, "kyr"
+    return 1e6, "Myr"
+
+
+def _finish(fig, path):
+    if path is None:
+        return fig
+    return save_figure(fig, path)
+
+
+def plot_age_ladder(rows, path=None, title=None, ax=None):
     """Each age with its 68 % interval on one logarithmic axis.
 
     Parameters
@@ -17,78 +40,106 @@ def plot_age_ladder(rows, path, title=None):
     rows : list of (label, interval-dict)
         Interval dicts with ``median``, ``lo68``, ``hi68`` (yr); rows with no
         median are listed as 'not available'.
-    path : str or Path
-        PNG to write.
+    path : str or Path, optional
+        PNG to write (then the path is returned).
+    ax : matplotlib Axes, optional
 
     Returns
     -------
-    Path
+    Figure, or Path when ``path`` is given
     """
     with style_context():
-        fig, ax = new_figure(width="column", aspect=0.22 + 0.075 * max(len(rows), 1))
+        fig, ax = figure_for(ax, width="column", aspect=0.22 + 0.075 * max(len(rows), 1))
         ys = np.arange(len(rows))[::-1]
-        finite = []
-        for i, ((label, iv), y) in enumerate(zip(rows, ys)):
+        finite = [v for _, iv in rows if iv for v in (iv.get("lo68"), iv.get("hi68"), iv.get("median"))
+                  if v is not None]
+        scale, unit = age_axis_unit([iv.get("median") for _, iv in rows if iv])
+        for (label, iv), y in zip(rows, ys):
             if not iv or iv.get("median") is None:
                 continue
             med = iv["median"]
             lo = iv.get("lo68") if iv.get("lo68") is not None else med
             hi = iv.get("hi68") if iv.get("hi68") is not None else med
-            finite += [lo, hi, med]
-            c = color(3) if label.startswith("cooling") else color(i if i < 3 else i + 1)
-            ax.errorbar([med], [y], xerr=[[med - lo], [hi - med]], fmt="o", color=c, capsize=3, ms=4)
+            c = next((col for key, col in _KINDS.items() if label.startswith(key)), "0.3")
+            ax.errorbar([med / scale], [y], xerr=[[(med - lo) / scale], [(hi - med) / scale]], fmt="o", color=c,
+                        capsize=3, ms=4)
         ax.set_yticks(ys)
         ax.set_yticklabels([lab if (iv and iv.get("median") is not None) else f"{lab} (n/a)" for lab, iv in rows])
         ax.set_xscale("log")
         if finite:
-            lo, hi = min(finite), max(finite)
-            ax.set_xlim(lo / 3.0, hi * 3.0)
+            ax.set_xlim(min(finite) / scale / 3.0, max(finite) / scale * 3.0)
         else:
             ax.text(0.5, 0.5, "no ages available", transform=ax.transAxes, ha="center", va="center")
         ax.set_ylim(-0.7, len(rows) - 0.3)
-        ax.set_xlabel("age (yr)")
+        ax.set_xlabel(f"age ({unit})")
         ax.grid(True, axis="x", which="both", alpha=0.25)
         if title:
             ax.set_title(title)
-        return save_figure(fig, path)
+        return _finish(fig, path)
 
 
-def plot_cooling_curves(curves, path, *, temperature=None, kinematic=None, title=None):
-    """Cooling curves T_inf(t) with the star's temperature and kinematic age marked.
+def plot_cooling_curves(curves, path=None, *, temperature=None, kinematic=None, title=None, ax=None,
+                        temperature_label=None):
+    """Cooling curves T_inf(t) with the star as a point at its kinematic age.
 
     Parameters
     ----------
     curves : list of CoolingCurve
-    path : str or Path
+    path : str or Path, optional
+        PNG to write (then the path is returned).
     temperature : tuple (value_K, error_K or None), optional
-        The star's redshifted temperature: a horizontal band.
+        The star's redshifted temperature: a horizontal band (68%) and, with
+        a kinematic age, the y error bar of the star's point.
     kinematic : dict, optional
-        Interval (yr) of the kinematic age: a vertical band and line.
+        Interval (yr) of the kinematic age: the star's point is drawn at its
+        median with the 68% interval as x error bar.
+    temperature_label : str, optional
+        The temperature as the scenario gave it (e.g. '74 ± 3 eV') for the legend.
+    ax : matplotlib Axes, optional
 
     Returns
     -------
-    Path
+    Figure, or Path when ``path`` is given
     """
     with style_context():
-        fig, ax = new_figure(width="column", aspect=1.0)
+        fig, ax = figure_for(ax, width="column", aspect=1.0)
         masses = sorted({c.mass_msun for c in curves})
+        mass_colours = (PALETTE[2], PALETTE[1], PALETTE[4], PALETTE[5])
+        scale, unit = 1e3, "kyr"
         for c in curves:
             ci = masses.index(c.mass_msun)
-            ax.plot(c.t_yr, c.T_inf_K, ls=_ENV_STYLE.get(c.envelope, "-"), color=color(ci), label=c.label)
-        if temperature is not None and temperature[0] is not None:
+            ax.plot(c.t_yr / scale, c.T_inf_K, ls=_ENV_STYLE.get(c.envelope, "-"),
+                    color=mass_colours[ci % len(mass_colours)], label=c.label.replace("Msun", "M☉"))
+        have_t = temperature is not None and temperature[0] is not None
+        have_k = bool(kinematic) and kinematic.get("median") is not None
+        if have_t:
             t, e = temperature
+            if temperature_label is None:
+                kt = t * _EV_PER_K
+                temperature_label = (f"{t:.3g} K = {kt:.3g} ± {e * _EV_PER_K:.2g} eV" if e
+                                     else f"{t:.3g} K = {kt:.3g} eV")
             if e:
-                ax.axhspan(t - e, t + e, color="0.5", alpha=0.3, lw=0)
-            ax.axhline(t, color="0.3", lw=0.8, label="star's temperature")
-        if kinematic and kinematic.get("median") is not None:
-            if kinematic.get("lo68") is not None:
-                ax.axvspan(kinematic["lo68"], kinematic["hi68"], color=color(4), alpha=0.2, lw=0)
-            ax.axvline(kinematic["median"], color=color(4), lw=0.9, label="kinematic age")
+                ax.axhspan(t - e, t + e, color="0.5", alpha=0.2, lw=0,
+                           label=f"star's temperature {temperature_label or ''}".strip() + " (68%)")
+            elif not have_k:
+                ax.axhline(t, color="0.3", lw=0.8, label="star's temperature")
+        if have_k:
+            k = kinematic
+            xm = k["median"] / scale
+            xerr = None
+            if k.get("lo68") is not None and k.get("hi68") is not None:
+                xerr = [[xm - k["lo68"] / scale], [k["hi68"] / scale - xm]]
+            if have_t:
+                t, e = temperature
+                ax.errorbar([xm], [t], xerr=xerr, yerr=[[e], [e]] if e else None, fmt="o", ms=5, color=STAR_COLOR,
+                            mec="k", mew=0.5, capsize=3, zorder=5, label="star at its kinematic age (68%)")
+            else:
+                ax.axvline(xm, color=STAR_COLOR, lw=0.9, label="kinematic age")
         ax.set_xscale("log")
         ax.set_yscale("log")
-        ax.set_xlabel("age (yr)")
-        ax.set_ylabel(r"redshifted temperature $T_\infty$ (K)")
+        ax.set_xlabel(f"age ({unit})")
+        ax.set_ylabel(r"redshifted surface temperature $T_\infty$ (K)")
         fig.legend(loc="outside lower center", fontsize=6, ncol=2)
         if title:
-            ax.set_title(title)
-        return save_figure(fig, path)
+            ax.set_title(title, fontsize=7.5)
+        return _finish(fig, path)

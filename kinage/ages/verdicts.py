@@ -9,7 +9,7 @@ by what factor, and what that implies.
 
 import numpy as np
 
-__all__ = ["format_age", "log_sigma", "compare_intervals", "pair_verdict", "age_verdicts"]
+__all__ = ["format_age", "log_sigma", "compare_intervals", "pair_verdict", "age_verdicts", "cooling_explanations"]
 
 
 def format_age(yr):
@@ -92,6 +92,46 @@ def pair_verdict(pair, name_a, a, name_b, b, *, if_younger="", if_older="", miss
     return {"pair": pair, "text": text, **c}
 
 
+def cooling_explanations(s):
+    """What could make a star colder / hotter than the computed curves, leaving out what they already span.
+
+    Parameters
+    ----------
+    s : AgesSettings
+        ``envelopes``, ``masses``, ``cooling_model``.
+
+    Returns
+    -------
+    (str, str)
+        Text appended after "colder than ..." and "hotter than ...": never an
+        envelope, mass or process the computed range already contains.
+    """
+    from ..params import get
+
+    envs = {str(e).lower() for e in (getattr(s, "envelopes", None) or ())}
+    masses = [float(m) for m in (getattr(s, "masses", None) or ())]
+    try:
+        model = get("cooling_model", getattr(s, "cooling_model", None) or "modified-urca").values
+    except Exception:  # noqa: BLE001 - an unknown model was reported by the ages stage already
+        model = {}
+    colder, hotter = [], []
+    du = float(model.get("direct_urca_erg_s", 0.0) or 0.0) > 0
+    if not du:
+        colder.append("fast neutrino emission (direct Urca in a heavy star), which this model leaves out")
+    elif masses and max(masses) < float(model.get("direct_urca_threshold_msun", 0.0)):
+        colder.append(f"a mass above the direct-Urca threshold "
+                      f"({float(model['direct_urca_threshold_msun']):g} M_sun), heavier than the masses considered")
+    if "iron" not in envs:
+        colder.append("a heavy-element (iron) envelope")
+    hotter.append("heating (e.g. by magnetic-field decay), which these curves do not include")
+    if not ({"accreted", "light"} & envs):
+        hotter.append("a light-element (accreted) envelope")
+    hotter.append("a kinematic age that is too long (a different birthplace)")
+    colder.append("a kinematic age that is too short (a different birthplace)")
+    fmt = lambda xs: (" (possible causes not already in the computed range: " + "; ".join(xs) + ")") if xs else ""
+    return fmt(colder), fmt(hotter)
+
+
 def age_verdicts(values, unc, kin, cool, s):
     """Verdicts for the pairs kinematic-characteristic, kinematic-spin_down (when P0 is given),
     kinematic-cooling and characteristic-cooling.
@@ -139,11 +179,11 @@ def age_verdicts(values, unc, kin, cool, s):
                                 missing=miss))
     cool_iv = cool.pooled if cool is not None else None
     cmiss = None if cool is not None else "no temperature or luminosity in [star]"
+    colder, hotter = cooling_explanations(s)
     v = pair_verdict("kinematic-cooling", "kinematic age", kin, "cooling age", cool_iv,
-                     if_younger="the star is colder than the cooling curves predict at that age (faster cooling, "
-                                "e.g. direct Urca in a heavier star, or an iron envelope)",
-                     if_older="the star is hotter than the cooling curves predict at that age (extra heating, "
-                              "e.g. field decay, or a light-element envelope)", missing=cmiss)
+                     if_younger="the star is colder than the cooling curves predict at that age" + colder,
+                     if_older="the star is hotter than the cooling curves predict at that age" + hotter,
+                     missing=cmiss)
     if cool is not None and kin is not None and kin.get("median") is not None:
         fits = [f"{r['envelope']} {r['mass_msun']:g} Msun" for r in cool.per_model
                 if r["median"] is not None and compare_intervals(kin, r)["consistent"]]

@@ -7,7 +7,7 @@ import numpy as np
 
 from ..io.results import atomic_path, provenance, write_json
 
-__all__ = ["collect_records", "summary_table", "write_summary"]
+__all__ = ["collect_records", "summary_table", "write_summary", "plot_population"]
 
 
 def collect_records(out_dir):
@@ -69,41 +69,69 @@ def _num(x):
         return np.nan
 
 
+def plot_population(table, axes=None):
+    """Population figure: ages of the traced stars against their characteristic ages, and encounter rates.
+
+    Kinematic ages (from a birth association: filled circles with 68% bars) and
+    plane-crossing times (no association favoured: open squares, on the same
+    axes but labelled as such, since the time since the last Galactic-plane
+    crossing is not a kinematic age) are kept apart.  ``axes``: two Axes, or
+    None for a new figure.  Returns the Figure.
+    """
+    from ..report.style import FAVOURED_COLOR, STAR_COLOR, color, new_figure
+
+    if axes is None:
+        fig, (ax1, ax2) = new_figure(ncols=2, width="page", aspect=0.42)
+    else:
+        ax1, ax2 = axes
+        fig = ax1.figure
+    c_all = np.asarray(table["characteristic_age"], float) / 1e6
+    k_all = np.asarray(table["kinematic_age"], float) / 1e6
+    pc_all = np.asarray(table["plane_crossing_age"], float) / 1e6
+    assoc = np.array([str(s).startswith("trace: encounters") for s in table["kinematic_age_source"]], bool)
+    sel_k = assoc & np.isfinite(k_all) & np.isfinite(c_all)
+    sel_p = ~assoc & np.isfinite(pc_all) & np.isfinite(c_all)
+    vals = []
+    if sel_k.any():
+        k = k_all[sel_k]
+        lo = k - np.asarray(table["kinematic_age_lo68"], float)[sel_k] / 1e6
+        hi = np.asarray(table["kinematic_age_hi68"], float)[sel_k] / 1e6 - k
+        ax1.errorbar(c_all[sel_k], k, yerr=[np.nan_to_num(lo), np.nan_to_num(hi)], fmt="o", ms=4, mfc=STAR_COLOR,
+                     color=STAR_COLOR, lw=0.8, label="kinematic age (traced to a birth association)")
+        vals += list(k) + list(c_all[sel_k])
+    if sel_p.any():
+        ax1.plot(c_all[sel_p], pc_all[sel_p], "s", ms=4, mfc="white", mec=FAVOURED_COLOR,
+                 label="time since the last plane crossing (no association; not a kinematic age)")
+        vals += list(pc_all[sel_p]) + list(c_all[sel_p])
+    if vals:
+        lim = [min(vals) / 2, max(vals) * 2]
+        ax1.plot(lim, lim, ls="--", color="0.4", lw=0.8, label="equal to the characteristic age")
+        ax1.set_xscale("log")
+        ax1.set_yscale("log")
+        ax1.legend(loc="upper left", fontsize=5.5)
+    else:
+        ax1.text(0.5, 0.5, "no star has a kinematic age or a plane crossing", ha="center", va="center",
+                 transform=ax1.transAxes)
+    ax1.set_xlabel("characteristic age P/(2 Pdot) (Myr)")
+    ax1.set_ylabel("kinematic age or plane-crossing time (Myr)")
+    ef = np.asarray(table["encounter_fraction"], float)
+    cf = np.asarray(table["chance_fraction"], float)
+    idx = np.arange(len(table))
+    ax2.bar(idx - 0.2, np.nan_to_num(ef), width=0.4, color=color(0), label="encounter fraction (star draws)")
+    ax2.bar(idx + 0.2, np.nan_to_num(cf), width=0.4, color=color(1), label="chance fraction (control draws)")
+    ax2.set_xticks(idx, [str(n) + (" *" if a else "") for n, a in zip(table["name"], assoc)], rotation=90,
+                   fontsize=5)
+    ax2.set_ylabel("fraction of draws, best association")
+    ax2.set_title("* traced to a favoured association", fontsize=6)
+    ax2.legend(loc="upper right", fontsize=6)
+    return fig
+
+
 def _population_figure(table, path):
-    from ..report.style import color, new_figure, save_figure, style_context
+    from ..report.style import save_figure, style_context
 
     with style_context():
-        fig, (ax1, ax2) = new_figure(ncols=2, width="page", aspect=0.42)
-        ok = np.isfinite(table["kinematic_age"]) & np.isfinite(table["characteristic_age"])
-        if ok.any():
-            k = np.asarray(table["kinematic_age"][ok]) / 1e6
-            lo = k - np.asarray(table["kinematic_age_lo68"][ok]) / 1e6
-            hi = np.asarray(table["kinematic_age_hi68"][ok]) / 1e6 - k
-            c = np.asarray(table["characteristic_age"][ok]) / 1e6
-            assoc = np.array([str(s).startswith("trace: encounters") for s in table["kinematic_age_source"][ok]])
-            for sel, label, face in ((assoc, "from a birth association", color(0)),
-                                     (~assoc, "other (plane crossing, scenario)", "white")):
-                if sel.any():
-                    ax1.errorbar(c[sel], k[sel], yerr=[np.nan_to_num(lo[sel]), np.nan_to_num(hi[sel])], fmt="o",
-                                 ms=3.5, mfc=face, color=color(0), lw=0.8, label=label)
-            lim = [min(c.min(), k.min()) / 2, max(c.max(), k.max()) * 2]
-            ax1.plot(lim, lim, ls="--", color="0.4", lw=0.8, label="equal ages")
-            ax1.set_xscale("log")
-            ax1.set_yscale("log")
-            ax1.legend(loc="upper left")
-        else:
-            ax1.text(0.5, 0.5, "no star has both ages", ha="center", va="center", transform=ax1.transAxes)
-        ax1.set_xlabel("characteristic age P/(2 Pdot) [Myr]")
-        ax1.set_ylabel("kinematic age [Myr]")
-        ef = np.asarray(table["encounter_fraction"], float)
-        cf = np.asarray(table["chance_fraction"], float)
-        idx = np.arange(len(table))
-        ax2.bar(idx - 0.2, np.nan_to_num(ef), width=0.4, color=color(0), label="encounter fraction")
-        ax2.bar(idx + 0.2, np.nan_to_num(cf), width=0.4, color=color(1), label="chance fraction")
-        ax2.set_xticks(idx, [str(n) for n in table["name"]], rotation=90, fontsize=5)
-        ax2.set_ylabel("fraction of draws (best association)")
-        ax2.legend(loc="upper right")
-        return save_figure(fig, path)
+        return save_figure(plot_population(table), path)
 
 
 def write_summary(out_dir, seed=None, timing=None):

@@ -158,11 +158,13 @@ def trace(scenario, *, solution=None, rng=None, samples=None, potential=None, pr
     if failed:
         warnings.warn(f"{len(failed)} orbit(s) could not be integrated and were left out "
                       f"(first: draw {failed[0]['index']}, {failed[0]['reason']})", RuntimeWarning, stacklevel=2)
-    return TraceResult.build(
+    result = TraceResult.build(
         scenario=scenario, cfg=cfg, seed=seed, frame=frame, draws=draws, adraws=adraws, ranked=ranked,
         favoured=favoured, verdict=verdict(ranked, favoured, control_available=ctrl is not None, field=field),
         field=field,
         failed=failed, main=main, assoc=assoc, times=times, cols=cols, n_control=n_control, solution=solution)
+    result.data["control"] = None if ctrl is None else {"dmin": ctrl["dmin"], "tau": ctrl["tau"]}  # for figures
+    return result
 
 
 def _summaries(cfg, adraws, afailed, draws, main, ctrl):

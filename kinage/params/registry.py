@@ -124,7 +124,7 @@ def get(kind, name, where=None):
 def available(kind):
     """Names of the registered sets of one kind."""
     _load_builtins()
-    return sorted(p.name for p in _REGISTRY[kind].values())
+    return sorted({p.name for p in _REGISTRY[kind].values()})  # a set listed under an old name appears once
 
 
 def galaxy_mismatch(potential, solar):

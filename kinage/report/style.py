@@ -1,26 +1,28 @@
 """Shared figure style: sizes for paper columns and a colour-blind-safe palette.
 
 All kinage figures are drawn inside ``with style_context():``, made with
-:func:`new_figure` and saved with
-:func:`save_figure` (atomic write, PNG at 200 dpi).  The palette is the
+:func:`new_figure` (or drawn into a caller's Axes, :func:`figure_for`) and saved with
+:func:`save_figure` (atomic write, PNG at 200 dpi).  matplotlib is imported only
+when a figure is drawn, and its backend is never chosen here (without a display
+matplotlib uses its non-interactive default).  The palette is the
 Okabe & Ito (2008) set, distinguishable for the common forms of colour-vision
 deficiency.
 """
 
-import matplotlib
+from ..io.results import atomic_path
 
-matplotlib.use("Agg")  # no display on the machines kinage runs on
-
-import matplotlib.pyplot as plt  # noqa: E402
-
-from ..io.results import atomic_path  # noqa: E402
-
-__all__ = ["PALETTE", "COLUMN_WIDTH", "PAGE_WIDTH", "new_figure", "save_figure", "color", "style_context"]
+__all__ = ["PALETTE", "COLUMN_WIDTH", "PAGE_WIDTH", "new_figure", "save_figure", "color", "style_context",
+           "figure_for", "STAR_COLOR", "FAVOURED_COLOR", "OTHER_COLOR"]
 
 #: Okabe & Ito (2008) colour-blind-safe palette
 PALETTE = ("#0072B2", "#E69F00", "#009E73", "#D55E00", "#CC79A7", "#56B4E9", "#F0E442", "#000000")
 COLUMN_WIDTH = 3.5  # inches: one column of a two-column journal
 PAGE_WIDTH = 7.1  # inches: full page width
+
+#: the star is always blue, the favoured association vermilion; other associations take the remaining colours
+STAR_COLOR = PALETTE[0]
+FAVOURED_COLOR = PALETTE[3]
+OTHER_COLOR = "0.6"
 
 _RC = {
     "font.size": 8,
@@ -29,7 +31,6 @@ _RC = {
     "legend.fontsize": 7,
     "xtick.labelsize": 7,
     "ytick.labelsize": 7,
-    "axes.prop_cycle": matplotlib.cycler(color=PALETTE),
     "axes.grid": True,
     "grid.alpha": 0.25,
     "grid.linewidth": 0.5,
@@ -40,9 +41,17 @@ _RC = {
 }
 
 
+def _rc():
+    from cycler import cycler
+
+    return dict(_RC, **{"axes.prop_cycle": cycler(color=PALETTE)})
+
+
 def style_context():
     """Context manager applying kinage's rc settings; wrap all plotting in it."""
-    return plt.rc_context(_RC)
+    import matplotlib.pyplot as plt
+
+    return plt.rc_context(_rc())
 
 
 def color(i):
@@ -65,15 +74,26 @@ def new_figure(ncols=1, nrows=1, width="column", aspect=0.75, **kwargs):
     -------
     fig, axes
     """
+    import matplotlib.pyplot as plt
+
     w = {"column": COLUMN_WIDTH, "page": PAGE_WIDTH}.get(width, width)
-    with plt.rc_context(_RC):
+    with plt.rc_context(_rc()):
         fig, axes = plt.subplots(nrows, ncols, figsize=(w, w * aspect), layout="constrained", **kwargs)
     return fig, axes
 
 
 def save_figure(fig, path):
     """Save ``fig`` as PNG at ``path`` atomically and close it; returns the path."""
-    with plt.rc_context(_RC), atomic_path(path) as tmp:
+    import matplotlib.pyplot as plt
+
+    with plt.rc_context(_rc()), atomic_path(path) as tmp:
         fig.savefig(tmp, format="png")
     plt.close(fig)
     return path
+
+
+def figure_for(ax=None, **kwargs):
+    """``(fig, ax)``: the figure of a given Axes, or a new kinage-style figure (``new_figure(**kwargs)``)."""
+    if ax is not None:
+        return ax.figure, ax
+    return new_figure(**kwargs)
