@@ -159,7 +159,7 @@ def _improve(x, cmat, block, chosen, max_sweeps):
     return np.sort(chosen), value, sweeps, exchanges
 
 
-def exchange_design(rows, cmat, block, counts, start=None, *, n_random=2, agree=3, kicks=8, kick_size=3,
+def exchange_design(rows, cmat, block, counts, start=None, *, n_random=2, agree=3, kicks=None, kick_size=3,
                     max_sweeps=40, rng=None):
     """c-optimal exact design by exchange (see module docstring).
 
@@ -180,7 +180,7 @@ def exchange_design(rows, cmat, block, counts, start=None, *, n_random=2, agree=
         Stop once this many starts have ended at the same best criterion.
     kicks, kick_size : int
         Iterated local search after the starts: ``kicks`` times, move ``kick_size`` visits of the best
-        design at random within their year and descend again.
+        design at random within their year and descend again (default: 8 kicks, fewer above 200 visits).
     rng : numpy.random.Generator | int | None
         Random starts (default seed 0, so the design is reproducible).
 
@@ -226,6 +226,8 @@ def exchange_design(rows, cmat, block, counts, start=None, *, n_random=2, agree=
             break
     # iterated local search: kick the best design (a few visits moved at random within their year) and
     # descend again; keep what improves (common practice for exchange heuristics, no source)
+    if kicks is None:  # fewer kicks for large designs: each costs a full sweep over the visits
+        kicks = int(np.clip(1600 // max(int(counts.sum()), 1), 2, 8))
     for _ in range(kicks if best is not None and np.isfinite(best.value) else 0):
         trial = best.chosen.copy()
         for slot in rng.choice(trial.size, min(kick_size, trial.size), replace=False):

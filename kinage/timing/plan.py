@@ -29,7 +29,7 @@ from ..errors import InputError
 from .design import SCHEDULES, criterion, exchange_design, year_blocks
 
 __all__ = ["ObservingPlan", "SunWindow", "sun_separation", "regular_epochs", "make_plan", "optimised_epochs",
-           "schedule_of", "schedule_combinations", "candidate_rows", "SUN_MARGIN_DEG", "SCHEDULES"]
+           "schedule_of", "scenario_plan", "schedule_combinations", "candidate_rows", "SUN_MARGIN_DEG", "SCHEDULES"]
 
 _YEAR_D = 365.25
 #: optimised visits keep this much more than the Sun-avoidance angle, deg (common practice, no source:
@@ -282,6 +282,19 @@ def make_plan(campaign, ra_deg, dec_deg, *, baseline_yr=None, window=None, direc
         notes.append(f"{int(np.count_nonzero(shift))} of {mjd.size} visits moved by up to "
                      f"{np.max(np.abs(shift)):.0f} d to keep {angle:g} deg from the Sun")
     return ObservingPlan(mjd[order], np.full(mjd.size, exposure), shift, float(baseline_yr), angle, notes)
+
+
+def scenario_plan(scenario, **kw):
+    """The plan of a scenario's ``[campaign]``, with the expected direction of motion for ``"motion"``.
+
+    The same plan the forecast uses (forecast and simulation then agree on the dates).
+    """
+    from .inputs import expected_proper_motion
+
+    c = scenario.campaign
+    ra, dec = scenario.star.value("ra", "deg"), scenario.star.value("dec", "deg")
+    direction = expected_proper_motion(scenario).direction if schedule_of(c) == "motion" else None
+    return make_plan(c, ra, dec, direction=direction, **kw)
 
 
 def schedule_combinations(schedule, direction, n_parameters):
