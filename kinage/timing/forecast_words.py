@@ -101,7 +101,7 @@ def forecast_summary(r):
     """Plain-words summary of a ForecastResult (see module docstring)."""
     sig = r.solution.sigma_dict()
     ok = constrained(sig, r.pm_error_along_motion)
-    sched = "" if r.plan.schedule in ("even", "dates") else f" placed for the {r.plan.schedule} (schedule)"
+    sched = "" if r.plan.schedule in ("even", "dates") else f" (schedule \"{r.plan.schedule}\")"
     s = (f"With {r.plan.n_visits} visits{sched} over {r.plan.span_yr:.1f} yr and a median TOA error of "
          f"{_time(r.toa_error_s)}, ")
     if ok["proper_motion"]:
