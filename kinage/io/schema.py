@@ -99,7 +99,7 @@ _CAMPAIGN = [
     Key("baseline", "quantity", "yr", positive=True, doc="time from the first to the last visit"),
     Key("visits_per_year", "float", positive=True, doc="visits per year, evenly spaced"),
     Key("dates", "times", doc="explicit visit dates instead of start/baseline/visits_per_year"),
-    Key("schedule", "str", default="even",
+    Key("schedule", "str", default="even", choices=("even", "parallax", "motion"),
         doc="where the visits go: 'even' (regular cadence), 'parallax' (minimum parallax error) or 'motion' "
             "(minimum proper-motion error along the expected motion); same visits per year, Sun-allowed days only"),
     Key("exposure", "quantity", "s", positive=True, doc="exposure per visit ('20 ks' works)"),
