@@ -10,6 +10,7 @@ writable that only produces a warning, which is silenced here.
 
 import importlib
 import importlib.abc
+import importlib.util
 import sys
 import warnings
 
@@ -38,12 +39,27 @@ class _ConfigPatch(importlib.abc.MetaPathFinder):
         return spec
 
 
+class _LazyPlot(importlib.abc.MetaPathFinder):
+    """Load ``galpy.util.plot`` lazily: galpy's potentials import it (and so matplotlib) at import time,
+    though only plotting methods use it; the module runs on first attribute access."""
+
+    def find_spec(self, fullname, path, target=None):
+        if fullname != "galpy.util.plot":
+            return None
+        sys.meta_path.remove(self)
+        spec = importlib.util.find_spec(fullname)
+        if spec is not None and spec.loader is not None:
+            spec.loader = importlib.util.LazyLoader(spec.loader)
+        return spec
+
+
 def import_galpy():
-    """Import and return the ``galpy`` package with the version check off."""
+    """Import and return the ``galpy`` package with the version check off (and its plotting module lazy)."""
     if "galpy" not in sys.modules:
         import importlib.util  # noqa: F401
 
         sys.meta_path.insert(0, _ConfigPatch())
+        sys.meta_path.insert(0, _LazyPlot())
         with warnings.catch_warnings():
             warnings.filterwarnings("ignore", message=".*galpy configuration.*")
             import galpy  # noqa: F401

@@ -25,7 +25,6 @@ from dataclasses import dataclass, field
 from pathlib import Path
 
 import astropy.units as u
-from astropy.coordinates import Angle
 
 from ..errors import InputError, ScenarioError
 from .quantities import format_quantity, parse_quantity, parse_time, shown
@@ -354,6 +353,8 @@ def _convert(key, val, base_dir, where, must_exist=True):
         if isinstance(val, str) and ":" in val or isinstance(val, str) and any(c in val for c in "hms°d'\""):
             unit = u.hourangle if key.name == "ra" and ("h" in val or ":" in val) else u.deg
             try:
+                from astropy.coordinates import Angle  # only for sexagesimal text (slow import)
+
                 return Angle(val, unit=unit).to(u.deg)
             except (ValueError, u.UnitsError):
                 raise InputError(where, f"expected an angle in degrees or sexagesimal form (got {shown(val)})") from None

@@ -17,7 +17,7 @@ Units: parallax mas, distance pc, scale lengths kpc (as in the parameter sets).
 from dataclasses import dataclass
 
 import numpy as np
-from scipy.stats import truncnorm
+from scipy.special import ndtr, ndtri
 
 from ..errors import InputError
 from ..params import get
@@ -112,5 +112,7 @@ def sample_distance_gaussian(distance_pc, error_pc, n, rng):
     rng = np.random.default_rng(rng)
     if not error_pc > 0:
         return np.full(n, float(distance_pc))
-    a = -distance_pc / error_pc
-    return truncnorm.rvs(a, np.inf, loc=distance_pc, scale=error_pc, size=n, random_state=rng)
+    # inverse-CDF draw of the normal truncated below at zero (scipy.special, not scipy.stats: faster start-up)
+    lo = ndtr(-distance_pc / error_pc)
+    u = np.clip(lo + (1.0 - lo) * rng.random(n), np.nextafter(lo, 1.0), np.nextafter(1.0, 0.0))
+    return distance_pc + error_pc * ndtri(u)

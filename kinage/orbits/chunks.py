@@ -26,8 +26,8 @@ __all__ = ["integrate_associations", "run_draws", "chunk_rows", "N_TRACKS", "BIR
 N_TRACKS = 100  # star draws kept for figures
 BIRTH_RADII = 5.0  # star positions at closest approach kept below this many association radii
 #: closest approaches below max(REFINE_RADII x radius, REFINE_MIN_PC) get the float64 Hermite refinement
-REFINE_RADII = 20.0
-REFINE_MIN_PC = 100.0
+REFINE_RADII = 5.0
+REFINE_MIN_PC = 200.0
 _BYTES_PER_VALUE = 8 * 6 * 2  # galpy array + Cartesian copy, per draw and grid point
 
 
@@ -52,6 +52,12 @@ def integrate_associations(pos, vel, times, pset, *, tolerance, method, rows_cap
     return AssociationGrid(np.concatenate(parts_p), np.concatenate(parts_v), times), failed
 
 
+def _tracks(bundle):
+    """Grid positions (kpc) of the chunk's first :data:`N_TRACKS` draws, shape (<= N_TRACKS, nt, 3)."""
+    rows = np.arange(min(N_TRACKS, bundle.n))
+    return bundle.state(rows[:, None], np.arange(len(bundle.times))[None, :])[0]
+
+
 def _one_chunk(a, b, pos_all, vel_all, times, pset, assoc, adraws, tolerance, method, keep_plane, keep_tracks,
                offset, threads):
     if threads:
@@ -60,7 +66,7 @@ def _one_chunk(a, b, pos_all, vel_all, times, pset, assoc, adraws, tolerance, me
                               quiet=False)
     na, m = adraws.n_assoc, adraws.m
     out = {"a": a, "b": b, "failed": {offset + a + i: r for i, r in bundle.failed.items()},
-           "tracks": bundle.positions(np.arange(len(times)))[:N_TRACKS].copy() if keep_tracks and a == 0 else None}
+           "tracks": _tracks(bundle) if keep_tracks and a == 0 else None}
     star = StarChunk(bundle, offset + a, m, origin=assoc.origin)
     d = np.empty((na, b - a), np.float32)
     tau = np.empty((na, b - a), np.float32)

@@ -14,6 +14,7 @@ Units: positions in kpc, velocities in km/s, angles in degrees, proper motions
 in mas/yr, distances in pc.
 """
 
+import functools
 from dataclasses import dataclass
 
 import numpy as np
@@ -21,7 +22,7 @@ import numpy as np
 from ..params import get
 
 __all__ = ["SolarFrame", "solar_frame", "K_MASYR_KPC", "KMS_TO_PCMYR", "GALCEN_RA_DEG", "GALCEN_DEC_DEG",
-           "ROLL0_DEG", "SOLAR_PECULIAR_KMS"]
+           "ROLL0_DEG", "SOLAR_PECULIAR_KMS", "icrs_to_galactic_matrix"]
 
 #: km/s per (mas/yr x kpc): 1 au / yr in km/s (IAU 2012 au, Julian year)
 K_MASYR_KPC = 149597870.7 / (365.25 * 86400.0)
@@ -139,7 +140,7 @@ class SolarFrame:
 
     def to_galactic_lb(self, pos_kpc):
         """Galactocentric positions (kpc) -> Galactic longitude, latitude (deg) and distance (kpc) seen from the Sun."""
-        xyz = self.to_heliocentric_icrs(pos_kpc) @ _ICRS_TO_GALACTIC.T
+        xyz = self.to_heliocentric_icrs(pos_kpc) @ icrs_to_galactic_matrix().T
         d = np.linalg.norm(xyz, axis=-1)
         lon = np.degrees(np.arctan2(xyz[..., 1], xyz[..., 0])) % 360.0
         lat = np.degrees(np.arcsin(np.clip(xyz[..., 2] / np.where(d > 0, d, 1.0), -1, 1)))
@@ -173,19 +174,24 @@ class SolarFrame:
                 "v_sun_kms": [float(v) for v in self.v_sun_kms], "roll_deg": self.roll_deg}
 
 
-def _icrs_to_galactic_matrix():
-    # IAU 1958 Galactic pole and origin in ICRS as used by astropy (Hipparcos 1997, vol. 1, sect. 1.5.3);
-    # obtained from astropy once, so the per-draw work stays plain numpy.
-    from astropy.coordinates import ICRS, Galactic
+@functools.cache
+def icrs_to_galactic_matrix():
+    """Rotation ICRS -> Galactic (3x3; column j: Galactic components of ICRS axis j).
 
-    e = np.eye(3)
-    from astropy.coordinates import CartesianRepresentation
+    IAU 1958 Galactic pole and origin in ICRS as used by astropy (Hipparcos
+    1997, vol. 1, sect. 1.5.3); obtained from astropy on first use (not at
+    import), so the per-draw work stays plain numpy.
+    """
+    from astropy.coordinates import ICRS, CartesianRepresentation, Galactic
 
-    g = ICRS(CartesianRepresentation(e.T)).transform_to(Galactic())
-    return np.asarray(g.cartesian.xyz)  # column j: Galactic components of ICRS axis j
+    g = ICRS(CartesianRepresentation(np.eye(3).T)).transform_to(Galactic())
+    return np.asarray(g.cartesian.xyz)
 
 
-_ICRS_TO_GALACTIC = _icrs_to_galactic_matrix()
+def __getattr__(name):
+    if name == "_ICRS_TO_GALACTIC":  # older name, computed on first use
+        return icrs_to_galactic_matrix()
+    raise AttributeError(f"module {__name__!r} has no attribute {name!r}")
 
 
 def solar_frame(name, where="[trace] solar_parameters"):

@@ -88,10 +88,9 @@ class StarChunk:
         self.n, self.m, self.offset = n, int(m), int(offset)
         self._shift = self.offset % self.m
         q = -(-(self._shift + n) // self.m)
-        pos = bundle.positions(np.arange(nt)) - np.asarray(origin, float)  # (n, nt, 3)
         ext = np.zeros((3, q * self.m, nt), np.float32)
-        ext[:, self._shift:self._shift + n] = np.moveaxis(pos, -1, 0)
-        del pos
+        for c, x in enumerate(bundle.position_components()):
+            ext[c, self._shift:self._shift + n] = x - float(origin[c])
         ext = ext.reshape(3, q, self.m, nt)
         self._sq = (ext ** 2).sum(0)
         ext *= -2.0

@@ -109,6 +109,10 @@ class StraightOrbits:
         t = self.times[cols][..., None]
         return self.pos0[rows] + self._v_kpc_myr[rows] * t, self.vel[rows]
 
+    def position_components(self):
+        """x, y, z (kpc) at every grid time, each shape (n, nt)."""
+        return tuple(self.pos0[:, c:c + 1] + self._v_kpc_myr[:, c:c + 1] * self.times[None, :] for c in range(3))
+
     def components(self):
         """Positions (kpc) and velocities (km/s) at every grid time, component first: each (3, n, nt)."""
         pos = self.pos0.T[:, :, None] + self._v_kpc_myr.T[:, :, None] * self.times[None, None, :]
@@ -152,6 +156,12 @@ class GalpyOrbits:
         vR, vT = a[..., 1] * self.vo, a[..., 2] * self.vo
         vel = np.stack([-(vR * c - vT * s), vR * s + vT * c, a[..., 4] * self.vo], axis=-1)
         return pos, vel
+
+    def position_components(self):
+        """x, y, z (kpc) at every grid time, each shape (n, nt)."""
+        a = self.array
+        R, phi = a[..., 0] * self.ro, a[..., 5]
+        return -R * np.cos(phi), R * np.sin(phi), a[..., 3] * self.ro
 
     def components(self):
         """Positions (kpc) and velocities (km/s) at every grid time, component first: each (3, n, nt)."""
