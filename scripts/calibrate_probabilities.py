@@ -132,7 +132,8 @@ def _offsets(rng, n, lo_pc, hi_pc):
     return v / np.linalg.norm(v, axis=1)[:, None] * r[:, None]
 
 
-def inject_population(rng, associations, n_stars, field_fraction=0.5, near_miss_share=0.4):
+def inject_population(rng, associations, n_stars, field_fraction=0.5, near_miss_share=0.4, kinds=None,
+                      parents=None):
     """Stars born in the associations or in the field near them, flown to today with galpy.
 
     Parameters
@@ -146,6 +147,8 @@ def inject_population(rng, associations, n_stars, field_fraction=0.5, near_miss_
         Share born outside every association (the prior the stars are run with).
     near_miss_share : float
         Share of the field births that are near misses (30-80 pc from a centre).
+    kinds, parents : sequence, optional
+        Force the kind ('member', 'near-miss', 'field') and the association index of each star.
 
     Returns
     -------
@@ -158,6 +161,10 @@ def inject_population(rng, associations, n_stars, field_fraction=0.5, near_miss_
     kind = rng.choice(["member", "near-miss", "field"], n_stars,
                       p=[1 - field_fraction, field_fraction * near_miss_share, field_fraction * (1 - near_miss_share)])
     parent = rng.integers(0, na, n_stars)
+    if kinds is not None:
+        kind = np.asarray(kinds)
+    if parents is not None:
+        parent = np.asarray(parents, int)
     age = np.array([associations[j]["age"] for j in parent])
     tau = np.where(kind == "member", rng.uniform(0.3, 1.0, n_stars) * age, rng.uniform(0.3, FIELD_MAX_AGE_MYR, n_stars))
     stars = []
@@ -197,8 +204,11 @@ def inject_population(rng, associations, n_stars, field_fraction=0.5, near_miss_
     return [s for s in stars if s["distance_pc"] < MAX_DISTANCE_PC]
 
 
-def observe(rng, stars, prefix="Injected"):
+def observe(rng, stars, prefix="Injected", parallax_error=None, pm_error=None):
     """Measured astrometry: parallax error 0.05-0.2 mas, proper-motion error 0.1-0.4 mas/yr, no radial velocity.
+
+    parallax_error, pm_error : float, optional
+        Fixed errors (mas, mas/yr) instead of the random ranges.
 
     Returns
     -------
@@ -207,8 +217,8 @@ def observe(rng, stars, prefix="Injected"):
     """
     rows = []
     for i, s in enumerate(stars):
-        sw = rng.uniform(0.05, 0.2)
-        spm = rng.uniform(0.1, 0.4)
+        sw = rng.uniform(0.05, 0.2) if parallax_error is None else parallax_error
+        spm = rng.uniform(0.1, 0.4) if pm_error is None else pm_error
         rows.append({"name": f"{prefix} {i:04d}", "ra": s["ra"], "dec": s["dec"],
                      "parallax": 1000.0 / s["distance_pc"] + sw * rng.normal(), "parallax_error": sw,
                      "pm_ra_cosdec": s["pm_ra_cosdec"] + spm * rng.normal(), "pm_ra_cosdec_error": spm,

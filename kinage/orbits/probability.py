@@ -33,13 +33,15 @@ measurement and the control draws sampling all directions,
 
     Lambda_j = p(data | H_j) / p(data | H_0) = <K_j>_draws / <K_j>_control
 
-(the kernel's normalisation cancels).  Because the chance rate <K_j>_control is
-small and a few control draws carry it, it is estimated as the larger of the
-direct average and the average of a kernel ``CONTROL_WIDTH`` times wider
-divided by ``CONTROL_WIDTH**2`` (exact when chance passages are uniformly
-spread over the miss plane within that width; taking the larger keeps the
-estimate conservative when the star is still close to the association and
-the wide kernel saturates).
+(the kernel's normalisation cancels).  The chance rate <K_j>_control is
+small and, averaged directly, carried by a handful of control draws, so it
+is taken from a kernel ``CONTROL_WIDTH`` times wider, divided by
+``CONTROL_WIDTH**2`` (exact when chance passages are spread uniformly over
+the miss plane within that width, which holds when the association is far
+compared with its size).  When the direct average rests on at least
+``CONTROL_HITS`` effective passages (sum of the control kernels) it is used
+alone, with a linear blend below that, so a star still close to its
+association (where the wide kernel saturates) is not overstated.
 
 Priors and posteriors.  P(H_0) = ``field_prior``; the rest shared equally,
 P(H_j) = (1 - field_prior) / N.  Then
@@ -69,13 +71,15 @@ import numpy as np
 from ..errors import InputError
 
 __all__ = ["birth_kernel", "check_field_prior", "posterior_probabilities", "weighted_interval",
-           "PROBABILITY_THRESHOLD", "CONTROL_WIDTH", "N_GROUPS", "DEFAULT_FIELD_PRIOR", "MODEL_TEXT"]
+           "PROBABILITY_THRESHOLD", "CONTROL_WIDTH", "CONTROL_HITS", "N_GROUPS", "DEFAULT_FIELD_PRIOR", "MODEL_TEXT"]
 
 #: an association is favoured when its probability is at least this (common practice, no source:
 #: more likely than every other hypothesis together)
 PROBABILITY_THRESHOLD = 0.5
 #: width of the wide control kernel in units of the association's sigma (see module docstring)
 CONTROL_WIDTH = 3.0
+#: summed control kernel (effective number of chance passages) from which the direct chance rate is used alone
+CONTROL_HITS = 30.0
 #: groups of draws for the jackknife error
 N_GROUPS = 20
 #: documented default of ``[trace] field_prior``
@@ -143,7 +147,8 @@ def _posteriors(km, vm, kc, kcw, vc, field_prior):
     n_assoc = km.shape[0]
     mean_main = km / np.maximum(vm, 1.0)
     nc = np.maximum(vc, 1.0)
-    chance = np.maximum(kc / nc, kcw / nc / CONTROL_WIDTH**2)
+    alpha = np.clip(kc / CONTROL_HITS, 0.0, 1.0)
+    chance = alpha * (kc / nc) + (1.0 - alpha) * (kcw / nc / CONTROL_WIDTH**2)
     chance = np.maximum(chance, 0.5 / nc)  # at most half a hit when no control draw came near
     lam = mean_main / chance
     prior_j = (1.0 - field_prior) / n_assoc
