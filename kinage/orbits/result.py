@@ -60,6 +60,8 @@ class TraceResult(ResultDisplay):
             "radial_velocity_source": draws.rv_source,
             "max_age_yr": cfg["max_age"] * 1e6,
             "time_steps": cfg["time_steps"],
+            "integration_tolerance": cfg["integration_tolerance"],
+            "control_error": cfg["control_error"],
             "association_samples": cfg["m"],
             "control_draws": n_control,
             "control_runs": cfg["control_runs"],
