@@ -116,7 +116,7 @@ def test_reverse_question_exposure_from_photons():
     # photon-limited: sigma_TOA ~ exposure^-1/2, so exposure scales as (sigma_now / sigma_needed)^2
     assert r["exposure_needed_s"] == pytest.approx(2e4 * (res.toa_error_s / r["toa_error_needed_s"]) ** 2, rel=1e-6)
     ph = res.to_dict()["photon_statistics"]
-    assert ph["expected_z2"] > 4 and ph["detection_sigma_per_visit"] > 0
+    assert ph["expected_z2"] > 4 and ph["detection_sigma_per_visit"] > 0  # values: test_expected_z2_and_...
 
 
 def test_expected_motion_from_velocity_prior():
@@ -131,17 +131,70 @@ def test_expected_motion_from_velocity_prior():
     assert named.motion.pm_masyr == pytest.approx(100 / (4.74047 * 0.3), rel=1e-6)
 
 
+def _buccheri_expected_z2(pulsed_fraction, source_rate, background_rate, exposure_s, harmonics=2):
+    # E[Z^2_n] = 2n + (N/2) sum_k a_k^2 for a profile 1 + sum a_k cos(2 pi k phi) (Buccheri et al. 1983,
+    # A&A 128, 245; leading order in N); background dilutes a_1 = pulsed fraction by S / (S + B)
+    a = pulsed_fraction * source_rate / (source_rate + background_rate)
+    n_photons = (source_rate + background_rate) * exposure_s
+    return 2 * harmonics + 0.5 * n_photons * a**2
+
+
+def _gaussian_sigma(z2, harmonics=2):
+    # Z^2_n of pure noise is chi^2 with 2n dof (Buccheri et al. 1983); Gaussian equivalent from scipy
+    from scipy import stats
+
+    return stats.norm.isf(stats.chi2.sf(z2, 2 * harmonics))
+
+
+def _photon_scenario(exposure_s, s_rate=0.05, b_rate=1.0, pf=0.1):
+    return _scenario(toa_error=None, exposure=f"{exposure_s} s", source_rate=s_rate, background_rate=b_rate,
+                     pulsed_fraction=pf)
+
+
+def test_expected_z2_and_detection_sigma_in_forecast_json():
+    ph = forecast(_photon_scenario(2e4, s_rate=0.5, b_rate=0.1, pf=0.2)).to_dict()["photon_statistics"]
+    z2 = _buccheri_expected_z2(0.2, 0.5, 0.1, 2e4)
+    assert ph["harmonics"] == 2
+    assert ph["expected_z2"] == pytest.approx(z2, rel=1e-9)
+    assert ph["detection_sigma_per_visit"] == pytest.approx(_gaussian_sigma(z2), rel=1e-6)
+
+
 def test_undetectable_pulse_is_reported():
-    s = _scenario(toa_error=None, exposure="200 s", source_rate=0.05, background_rate=1.0, pulsed_fraction=0.1)
-    res = forecast(s)
-    assert res.photon["detectable"] is False
-    assert any("no TOA exists" in w for w in res.warnings)
+    # exposure at which the expected Z^2_2 reaches 3 sigma (the threshold, common practice, no source):
+    # z = chi2.isf(norm.sf(3), 4), N = 2 (z - 4) / a_diluted^2 photons (Buccheri et al. 1983 expectation)
+    from scipy import stats
+
+    s_rate, b_rate, pf = 0.05, 1.0, 0.1
+    z_needed = stats.chi2.isf(stats.norm.sf(3.0), 4)
+    a = pf * s_rate / (s_rate + b_rate)
+    t_needed = 2 * (z_needed - 4) / a**2 / (s_rate + b_rate)
+    faint = forecast(_photon_scenario(round(0.8 * t_needed)))
+    assert faint.photon["detectable"] is False
+    assert faint.photon["detection_sigma_per_visit"] == pytest.approx(
+        _gaussian_sigma(_buccheri_expected_z2(pf, s_rate, b_rate, round(0.8 * t_needed))), rel=1e-6)
+    assert any("no TOA exists" in w for w in faint.warnings)
+    bright = forecast(_photon_scenario(round(1.25 * t_needed)))
+    assert bright.photon["detectable"] is True
+    assert not any("no TOA exists" in w for w in bright.warnings)
 
 
-def test_phase_connection_risk():
-    s = _scenario(star={"spin_period_error": 1e-6, "spin_period_derivative_error": 1e-13}, visits_per_year=2)
-    res = forecast(s)
-    assert res.phase_connection["at_risk"] is True
+@pytest.mark.parametrize("sigma_p, at_risk", [(3e-9, True), (1e-10, False)])
+def test_phase_connection_risk(sigma_p, at_risk):
+    # phase error over the longest gap dt from the a-priori spin errors (Lorimer & Kramer 2005, sec. 8.4:
+    # f = 1/P so sigma_f = sigma_P / P^2, sigma_fdot ~ sigma_Pdot / P^2):
+    # sqrt((sigma_f dt)^2 + (sigma_fdot dt^2 / 2)^2 + 2 (sigma_TOA / P)^2) cycles, at risk above 0.1 cycle
+    # (common practice, no source).  Half-yearly visits, P = 0.25 s, 30 us TOAs.
+    p, sigma_pdot, toa = 0.25, 1e-17, 30e-6
+    res = forecast(_scenario(star={"spin_period_error": sigma_p, "spin_period_derivative_error": sigma_pdot},
+                             visits_per_year=2))
+    pc = res.phase_connection
+    dt = pc["max_gap_days"] * 86400.0
+    assert pc["max_gap_days"] == pytest.approx(365.25 / 2, rel=0.05)
+    expected = np.sqrt((sigma_p / p**2 * dt) ** 2 + (sigma_pdot / p**2 * dt**2 / 2) ** 2 + 2 * (toa / p) ** 2)
+    assert pc["phase_error_cycles"] == pytest.approx(expected, rel=1e-9)
+    assert bool(expected > 0.1) is at_risk  # the two cases (0.76 and 0.025 cycles) straddle the limit
+    assert pc["at_risk"] is at_risk
+    assert any("phase connection at risk" in w for w in res.warnings) is at_risk
 
 
 def test_prior_reduces_errors():

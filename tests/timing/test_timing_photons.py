@@ -90,17 +90,46 @@ def test_template_table_round_trip(tmp_path):
     assert np.allclose(tpl.rate(grid), true.rate(grid), atol=2e-3)
 
 
-def test_expected_z2_against_simulation():
-    # E[Z^2_n] = 2n + (N/2) sum a_k^2 (Buccheri et al. 1983, A&A 128, 245; leading order in N)
-    prof = PulseProfile.sinusoid(0.2)
-    n_ph, trials = 1000, 400
-    ph = simulate_photon_phases(prof, n_ph, rng=2, size=trials)
-    z2 = np.zeros(trials)
-    for k in (1, 2):
-        z2 += np.sum(np.cos(2 * np.pi * k * ph), -1) ** 2 + np.sum(np.sin(2 * np.pi * k * ph), -1) ** 2
-    z2 *= 2 / n_ph
-    expected = expected_z2(prof, 1.0, 0.0, n_ph, harmonics=2)
-    assert np.mean(z2) == pytest.approx(expected, abs=3 * np.std(z2) / np.sqrt(trials))
+def _z2(phases, harmonics):
+    # Z^2_n = (2/N) sum_{k<=n} [(sum cos 2 pi k phi)^2 + (sum sin 2 pi k phi)^2]  (Buccheri et al. 1983, A&A 128, 245)
+    n_ph = phases.shape[-1]
+    z = 0.0
+    for k in range(1, harmonics + 1):
+        z = z + np.sum(np.cos(2 * np.pi * k * phases), -1) ** 2 + np.sum(np.sin(2 * np.pi * k * phases), -1) ** 2
+    return 2 * z / n_ph
+
+
+@pytest.mark.parametrize("harmonics", [1, 2, 4])
+def test_z2_of_pure_noise_has_expectation_2n(harmonics):
+    # uniform phases (numpy, not kinage's simulator): Z^2_n is chi^2 with 2n dof, E = 2n (Buccheri et al. 1983);
+    # kinage's expectation with no pulsation is the same 2n, and the draws pass a KS test against scipy's chi^2
+    rng = np.random.default_rng(11)
+    z = _z2(rng.random((2000, 300)), harmonics)
+    assert np.mean(z) == pytest.approx(2 * harmonics, abs=4 * np.sqrt(4 * harmonics / z.size))
+    assert stats.kstest(z, stats.chi2(2 * harmonics).cdf).pvalue > 1e-3
+    # no pulsation: a source drowned by background (dilution S/(S+B) ~ 1e-9)
+    assert expected_z2(PulseProfile.sinusoid(0.5), 1e-9, 1.0, 300, harmonics=harmonics) == pytest.approx(2 * harmonics)
+
+
+def test_expected_z2_of_a_sinusoid():
+    # f = 1 + a cos(2 pi phi): E[e^{2 pi i phi}] = a/2, so E|sum e^{2 pi i phi}|^2 = N + N(N-1) a^2/4 and exactly
+    # E[Z^2_n] = 2n + (N - 1) a^2 / 2 (the first harmonic only; Buccheri et al. 1983 to leading order in N).
+    # Phases drawn by inverting the CDF phi + a sin(2 pi phi)/(2 pi) by Newton's method (independent of kinage's
+    # rejection sampler); the CDF is monotonic with slope >= 1 - a, so 12 steps converge to rounding.
+    a, n_ph, trials = 0.2, 1000, 400
+    q = np.random.default_rng(2).random((trials, n_ph))
+    ph = q.copy()
+    for _ in range(12):
+        ph -= (ph + a * np.sin(2 * np.pi * ph) / (2 * np.pi) - q) / (1 + a * np.cos(2 * np.pi * ph))
+    assert np.max(np.abs(ph + a * np.sin(2 * np.pi * ph) / (2 * np.pi) - q)) < 1e-12
+    z = _z2(ph, 2)
+    exact = 4 + (n_ph - 1) * a**2 / 2
+    assert np.mean(z) == pytest.approx(exact, abs=3 * np.std(z) / np.sqrt(trials))
+    # kinage's expectation (leading order in N) differs from the exact one by a^2/2 = 0.02
+    assert expected_z2(PulseProfile.sinusoid(a), 1.0, 0.0, n_ph, harmonics=2) == pytest.approx(exact, abs=0.03)
+    # and kinage's photon simulator gives the same mean
+    zk = _z2(simulate_photon_phases(PulseProfile.sinusoid(a), n_ph, rng=3, size=trials), 2)
+    assert np.mean(zk) == pytest.approx(exact, abs=3 * np.std(zk) / np.sqrt(trials))
 
 
 def test_detection_sigma_matches_scipy_chi2():
