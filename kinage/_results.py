@@ -19,7 +19,7 @@ import importlib
 import inspect
 import threading
 
-__all__ = ["ResultDisplay", "draw"]
+__all__ = ["ResultDisplay", "draw", "scenario_repr", "scenario_html"]
 
 _LOCK = threading.RLock()
 
@@ -409,3 +409,52 @@ KEY_NUMBERS = {"ForecastResult": _forecast_numbers, "FitResult": _fit_numbers, "
                "TraceResult": _trace_numbers, "AgesResult": _ages_numbers}
 TABLES = {"ForecastResult": lambda r: r.sweep_table(), "FitResult": lambda r: r.residual_table(),
           "SimulationResult": lambda r: r.table, "TraceResult": _trace_table, "AgesResult": _ages_table}
+
+
+def _run_numbers(r):
+    out = [("star", r.scenario.star.get("name")), ("stages", ", ".join(r.stages) or "none"),
+           ("output", str(r.out_dir))]
+    if r.failed:
+        out.append(("failed", "; ".join(f"{k}: {v}" for k, v in r.failed.items())[:200]))
+    return out
+
+
+KEY_NUMBERS["RunResult"] = _run_numbers
+
+
+# ------------------------------------------------------------------ scenarios
+def _scenario_rows(s):
+    """(table, 'key=value, ...') rows of the keys given in each table."""
+    from .io.quantities import format_quantity
+
+    rows = []
+    for name in ("star", "campaign", "trace", "ages"):
+        sec = getattr(s, name)
+        if sec is None:
+            continue
+        parts = []
+        for key, value in sec.to_dict().items():
+            v = getattr(sec, key, value)
+            shown = format_quantity(v) if hasattr(v, "unit") and getattr(v, "isscalar", False) else value
+            if isinstance(shown, dict):  # an in-memory table
+                shown = f"<table of {len(shown.get('associations', []))} rows>"
+            parts.append(f"{key}={shown}")
+        rows.append((f"[{name}]", ", ".join(parts)))
+    return rows
+
+
+def scenario_repr(s):
+    """A short one-line repr of a Scenario: star name, tables present and where it came from."""
+    tables = [t for t in ("star", "campaign", "trace", "ages") if getattr(s, t) is not None]
+    name = s.star.get("name") if s.star is not None else None
+    src = f" from {s.path.name}" if s.path is not None else ""
+    return f"<Scenario {name!r}{src}: tables {', '.join(f'[{t}]' for t in tables)}>"
+
+
+def scenario_html(s):
+    """The scenario's given keys as a small HTML table (Jupyter)."""
+    from html import escape
+
+    rows = "".join(f"<tr><th style='text-align:left'>{escape(t)}</th><td style='text-align:left'>{escape(v)}</td>"
+                   "</tr>" for t, v in _scenario_rows(s))
+    return f"<div><strong>{escape(scenario_repr(s))}</strong><table>{rows}</table></div>"

@@ -26,7 +26,7 @@ Examples
 from pathlib import Path
 
 from .errors import InputError
-from .warnings import AgesWarning, FitWarning, ForecastWarning, KinageWarning, emit
+from .warnings import AgesWarning, FitWarning, ForecastWarning, KinageWarning, TraceWarning, emit
 
 __all__ = ["load_scenario", "scenario_from_dict", "star_from_skycoord", "as_scenario", "forecast", "simulate",
            "fit", "trace", "compare_ages", "run"]
@@ -341,8 +341,9 @@ def trace(scenario, associations=None, *, solution=None, rng=None, samples=None,
     scn, table = _with_associations(as_scenario(scenario), associations)
     if solution is not None and hasattr(solution, "solution") and not hasattr(solution, "covariance"):
         solution = solution_for_trace(scn, solution)
-    return _trace(scn, solution=solution, rng=rng, samples=samples, potential=potential, progress=progress,
-                  associations=table, **kwargs)
+    result = _trace(scn, solution=solution, rng=rng, samples=samples, potential=potential, progress=progress,
+                    associations=table, **kwargs)
+    return _warn(result, TraceWarning)
 
 
 def compare_ages(scenario, trace_result=None, *, kinematic_age=None, rng=None, **kwargs):
@@ -411,7 +412,8 @@ def run(scenario, out_dir, *, seed=None, samples=None, progress=False, report=Tr
     result = run_pipeline(scn, out_dir, seed=seed, samples=samples, progress=progress, report=report,
                           products=products, log=log or logger.info)
     for stage, res in result.stages.items():
-        category = {"forecast": ForecastWarning, "fit": FitWarning, "ages": AgesWarning}.get(stage, KinageWarning)
+        category = {"forecast": ForecastWarning, "fit": FitWarning, "trace": TraceWarning,
+                    "ages": AgesWarning}.get(stage, KinageWarning)
         emit(getattr(res, "warnings", None) or [], category)
     emit([f"stage '{s}' failed: {m}" for s, m in result.failed.items()], KinageWarning)
     return result

@@ -13,6 +13,7 @@ from pathlib import Path
 
 import numpy as np
 
+from ._results import ResultDisplay
 from .astrometry import AstrometricSolution
 from .errors import ConvergenceError, InputError, StageError
 from .io.results import provenance, write_json
@@ -129,8 +130,8 @@ def kinematic_age_input(scenario, trace_result=None):
     return None, None
 
 
-@dataclass
-class RunResult:
+@dataclass(repr=False)
+class RunResult(ResultDisplay):
     """What ``run_pipeline`` produced.
 
     Attributes

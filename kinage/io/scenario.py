@@ -119,7 +119,7 @@ def _jsonable(v):
     return v
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, repr=False)
 class Scenario:
     """A validated scenario.
 
@@ -143,6 +143,16 @@ class Scenario:
     path: Path | None = None
     sha256: str | None = None
     raw: dict = field(default_factory=dict, repr=False, compare=False)
+
+    def __repr__(self):
+        from .._results import scenario_repr
+
+        return scenario_repr(self)
+
+    def _repr_html_(self):
+        from .._results import scenario_html
+
+        return scenario_html(self)
 
     def input_files(self):
         """Every file the scenario names (scenario itself first), as Paths."""
