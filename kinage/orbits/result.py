@@ -144,7 +144,10 @@ class TraceResult(ResultDisplay):
         frac = pc.size / self.n_samples if self.n_samples else 0.0
         max_myr = self.settings["max_age_yr"] / 1e6
         out = []
-        if frac < 0.5:
+        if frac == 0:
+            out.append(f"No draw crossed the Galactic mid-plane within the {max_myr:.3g} Myr searched: the star "
+                       "was born away from the plane or longer ago, so there is no plane-crossing age.")
+        elif frac < 0.5:
             out.append(f"Most draws ({1 - frac:.0%}) did not cross the Galactic mid-plane within the "
                        f"{max_myr:.3g} Myr searched, so the plane-crossing age describes only the minority "
                        "that did and is no age estimate for the star.")

@@ -181,3 +181,17 @@ def test_field_prior_key_reaches_the_trace(tmp_path):
     with pytest.raises(InputError, match="field_prior"):
         raw["trace"]["field_prior"] = 1.5
         trace(scenario_from_dict(raw))
+
+
+def test_without_control_draws_there_are_no_probabilities(tmp_path):
+    # no field alternative without randomised control draws: probabilities are None and the verdict says why
+    (tmp_path / "a.csv").write_text("name,ra,dec,distance,pm_ra_cosdec,pm_dec,radial_velocity,radius,age\n"
+                                    "Tessel-1,40.0,10.0,300,2.0,-3.0,5.0,12,3\n")
+    raw = {"star": {"name": "Invented J0303", "ra": 41.0, "dec": 11.0, "parallax": 3.2, "parallax_error": 0.1,
+                    "pm_ra_cosdec": 15.0, "pm_ra_cosdec_error": 0.2, "pm_dec": -9.0, "pm_dec_error": 0.2},
+           "trace": {"associations": str(tmp_path / "a.csv"), "samples": 40, "association_samples": 10,
+                     "control_runs": 0, "max_age": 1.0, "time_steps": 51, "seed": 3, "potential": "none"}}
+    res = trace(scenario_from_dict(raw))
+    d = res.to_dict()
+    assert d["field_probability"] is None and d["associations"][0]["probability"] is None
+    assert d["favoured"] is None and "no field alternative" in res.summary()
