@@ -146,25 +146,31 @@ def main(argv=None):
     if not args.verb:
         parser.print_help()
         return 0
-    from .errors import ConvergenceError, InputError, KinageError, StageError
     from .progress import set_quiet
 
     set_quiet(getattr(args, "quiet", False) or not sys.stderr.isatty())
-    from .interrupts import EXIT_SIGINT, EXIT_SIGTERM, Terminated, interrupt_guard
+    from .interrupts import interrupt_guard
+
+    with interrupt_guard(f"kinage {args.verb}") as guard:  # SIGINT / SIGTERM: a message, complete files only
+        return _dispatch(args, guard)
+
+
+def _dispatch(args, guard):
+    from .errors import ConvergenceError, InputError, KinageError, StageError
+    from .interrupts import EXIT_SIGINT, EXIT_SIGTERM, Terminated
 
     try:
-        with interrupt_guard(f"kinage {args.verb}"):
-            from . import commands
-            from .io.options import check_arguments
+        from . import commands
+        from .io.options import check_arguments
 
-            check_arguments(args)  # every option checked before anything is read, created or run
-            command = getattr(commands, "cmd_" + args.verb.replace("-", "_"))
-            if getattr(args, "out", None) is not None and args.verb in _SINGLE_STAGE:
-                from .io.rundir import output_lock
+        check_arguments(args)  # every option checked before anything is read, created or run
+        command = getattr(commands, "cmd_" + args.verb.replace("-", "_"))
+        if getattr(args, "out", None) is not None and args.verb in _SINGLE_STAGE:
+            from .io.rundir import output_lock
 
-                with output_lock(args.out):  # one command at a time per output folder
-                    return command(args) or 0
-            return command(args) or 0
+            with output_lock(args.out):  # one command at a time per output folder
+                return command(args) or 0
+        return command(args) or 0
     except InputError as exc:
         for line in _problem_lines(exc):
             print(f"kinage {args.verb}: error: {line}", file=sys.stderr)
@@ -173,6 +179,7 @@ def main(argv=None):
         print(f"kinage {args.verb}: failed: {exc}", file=sys.stderr)
         return 1
     except KeyboardInterrupt as exc:
+        guard.settle()  # a further signal now only ends the process at once (the watchdog)
         how = "terminated (SIGTERM)" if isinstance(exc, Terminated) else "interrupted"
         print(f"kinage {args.verb}: {how}; every file written is complete (unfinished work is discarded)",
               file=sys.stderr)

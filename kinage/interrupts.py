@@ -34,14 +34,29 @@ def _raise_terminated(signum, frame):
     raise Terminated()
 
 
+def _ignore(signum, frame):
+    pass  # the watchdog sees the signal on the wake-up pipe and ends the process
+
+
+class _Guard:
+    """What :func:`interrupt_guard` yields."""
+
+    def settle(self):
+        """After the first interruption: further signals only trigger the watchdog's immediate exit."""
+        if threading.current_thread() is threading.main_thread():
+            signal.signal(signal.SIGINT, _ignore)
+            signal.signal(signal.SIGTERM, _ignore)
+
+
 @contextlib.contextmanager
 def interrupt_guard(label="kinage"):
     """Handle SIGINT / SIGTERM as described in the module docstring while the block runs.
 
     A no-op outside the main thread (signal handlers can only be set there).
     """
+    guard = _Guard()
     if threading.current_thread() is not threading.main_thread():
-        yield
+        yield guard
         return
     r, w = os.pipe()
     os.set_blocking(w, False)
@@ -50,7 +65,7 @@ def interrupt_guard(label="kinage"):
     except ValueError:  # pragma: no cover - not the main interpreter
         os.close(r)
         os.close(w)
-        yield
+        yield guard
         return
     old_term = signal.signal(signal.SIGTERM, _raise_terminated)
     old_int = signal.getsignal(signal.SIGINT)
@@ -83,13 +98,12 @@ def interrupt_guard(label="kinage"):
     t = threading.Thread(target=watch, name="kinage-interrupt-watchdog", daemon=True)
     t.start()
     try:
-        yield
+        yield guard
     finally:
         stop.set()
         signal.set_wakeup_fd(old_fd)
         signal.signal(signal.SIGTERM, old_term)
-        if old_int in (signal.SIG_IGN, signal.SIG_DFL):
-            signal.signal(signal.SIGINT, old_int)
+        signal.signal(signal.SIGINT, old_int if old_int is not None else signal.default_int_handler)
         os.close(w)  # the watchdog's read returns b"" and it ends
         t.join(timeout=1.0)
         os.close(r)

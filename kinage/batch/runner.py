@@ -73,15 +73,14 @@ def plan_batch(stars_path, template_path, out_dir, *, seed=None, samples=None, f
     """
     rows = read_star_rows(stars_path)
     template_raw, base_dir = load_template(template_path)
+    check_template(template_raw, base_dir, template_path, samples=samples)
     if seed is None:
-        seed = int((template_raw.get("trace") or {}).get("seed", 1))
+        seed = (template_raw.get("trace") or {}).get("seed", 1)
+        if isinstance(seed, bool) or not isinstance(seed, int) or seed < 0:
+            raise InputError(f"template {Path(template_path).name}: [trace] seed",
+                             f"expected a whole number >= 0 (got {seed!r})")
     out_dir = Path(out_dir)
-    stars_dir = out_dir / "stars"
-    stars_dir.mkdir(parents=True, exist_ok=True)
-    for stale in stars_dir.glob(".tmp-*"):  # left by an interrupted run
-        shutil.rmtree(stale, ignore_errors=True)
-    for stale in stars_dir.glob(".old-*"):
-        shutil.rmtree(stale, ignore_errors=True)
+    stars_dir = out_dir / "stars"  # created by prepare_folders, once the inputs and the cluster are known good
     folders = _folder_names(rows)
     todo, done = [], []
     for row in rows:
@@ -95,6 +94,54 @@ def plan_batch(stars_path, template_path, out_dir, *, seed=None, samples=None, f
         todo.append({"row": row, "template_raw": template_raw, "base_dir": str(base_dir), "seed": s,
                      "samples": samples, "final_dir": str(final), "input_hash": h})
     return BatchPlan(todo, done, out_dir, seed)
+
+
+def prepare_folders(out_dir):
+    """Create ``out_dir/stars`` and remove what an interrupted run left there."""
+    stars_dir = Path(out_dir) / "stars"
+    stars_dir.mkdir(parents=True, exist_ok=True)
+    for stale in stars_dir.glob(".tmp-*"):  # left by an interrupted run
+        shutil.rmtree(stale, ignore_errors=True)
+    for stale in stars_dir.glob(".old-*"):
+        shutil.rmtree(stale, ignore_errors=True)
+    return stars_dir
+
+
+#: a complete, invented [star] used to validate a template's other tables on their own
+_PROBE_STAR = {"name": "template check", "ra": 10.0, "dec": 10.0, "parallax": 1.0, "parallax_error": 0.1,
+               "pm_ra_cosdec": 10.0, "pm_ra_cosdec_error": 1.0, "pm_dec": 10.0, "pm_dec_error": 1.0,
+               "spin_period": 1.0, "spin_period_derivative": 1e-14, "temperature": 1e6}
+
+
+def check_template(template_raw, base_dir, template_path, samples=None):
+    """Validate the template's own keys and tables before any star runs (a bad template fails every star).
+
+    The template's ``[campaign]``, ``[trace]`` and ``[ages]`` tables are checked
+    with a complete probe star, its association table is read, and the resource
+    caps are checked with ``samples``.  Star-row problems are left to each star,
+    which fails alone.
+    """
+    from ..errors import ScenarioError
+    from ..io.limits import check_resources
+    from ..io.scenario import scenario_from_dict
+
+    name = Path(template_path).name
+    raw = {k: (dict(v) if isinstance(v, dict) else v) for k, v in template_raw.items()}
+    star = dict(raw.get("star") or {})
+    star_check = {k: v for k, v in star.items() if k not in _PROBE_STAR or k == "name"}
+    try:  # the template's own [star] values, with the probe filling what rows give
+        scenario_from_dict({**raw, "star": {**_PROBE_STAR, **star_check}}, base_dir=base_dir)
+        scenario = scenario_from_dict({**raw, "star": dict(_PROBE_STAR)}, base_dir=base_dir)
+    except ScenarioError as exc:
+        probe = [p for p in exc.problems if not str(p.where).startswith("[star]")] or exc.problems
+        raise ScenarioError(probe, source=f"template {name}") from None
+    if scenario.trace is not None and scenario.trace.get("associations") is not None:
+        from ..associations import read_associations
+
+        n_assoc = len(read_associations(scenario.trace.associations))
+    else:
+        n_assoc = None
+    check_resources(scenario, samples=samples, n_associations=n_assoc)
 
 
 def _read_record(path):
@@ -125,7 +172,8 @@ def run_one_star(row, template_raw, base_dir, seed, samples, final_dir, input_ha
         with warnings.catch_warnings():
             warnings.simplefilter("ignore")
             scenario = star_scenario(row, template_raw, base_dir)
-            run = run_pipeline(scenario, tmp, seed=seed, samples=samples, report=False, products=False)
+            run = run_pipeline(scenario, tmp, seed=seed, samples=samples, report=False, products=False,
+                               isolate=False)  # tmp is this task's own fresh folder
         results = to_jsonable(run.to_dict())
         record.update(status="failed" if run.failed else "ok",
                       reason="; ".join(f"{k}: {v}" for k, v in run.failed.items()) or None, results=results)
@@ -155,11 +203,13 @@ def _client(scheduler=None, workers=2):
                  "distributed.core", "distributed.http.proxy"):
         logging.getLogger(name).setLevel(logging.ERROR)
     if scheduler:
-        client = Client(scheduler, timeout="20s")
+        client = _connect(Client, scheduler)
         cluster = None
     else:
-        if workers < 1:
-            raise InputError("--workers", f"must be at least 1 (got {workers})")
+        from ..io.options import max_workers
+
+        if not 1 <= workers <= max_workers():
+            raise InputError("--workers", f"must be from 1 to {max_workers()} (got {workers})")
         cluster = LocalCluster(n_workers=workers, threads_per_worker=1, processes=True, dashboard_address=None,
                                silence_logs=logging.ERROR)
         client = Client(cluster)
@@ -171,8 +221,37 @@ def _client(scheduler=None, workers=2):
             cluster.close()
 
 
+#: seconds to wait for a scheduler to answer
+CONNECT_TIMEOUT_S = 5.0
+
+
+def _connect(Client, address):
+    """A client of the scheduler at ``address``, or a one-line InputError within ~CONNECT_TIMEOUT_S seconds."""
+    import socket
+
+    from ..io.options import check_scheduler_address
+
+    address = check_scheduler_address(address)
+    scheme, _, rest = address.partition("://")
+    if scheme in ("tcp", "tls", "ws", "wss"):
+        host, _, port = rest.rpartition(":")
+        try:  # a plain TCP probe first: fails fast for a closed port or an unknown host
+            socket.create_connection((host.strip("[]"), int(port)), timeout=CONNECT_TIMEOUT_S).close()
+        except OSError as exc:
+            raise InputError("--scheduler", f"cannot reach {address} ({exc.strerror or type(exc).__name__}); "
+                                            "is a dask scheduler running there?") from None
+    try:
+        return Client(address, timeout=f"{CONNECT_TIMEOUT_S:g}s")
+    except (OSError, TimeoutError, MemoryError, ValueError, TypeError, RuntimeError) as exc:
+        kind = type(exc).__name__
+        raise InputError("--scheduler", f"no dask scheduler answered at {address} within {CONNECT_TIMEOUT_S:g} s "
+                                        f"({kind}); check the address and that it is a dask scheduler") from None
+
+
 def _sigterm_as_interrupt(*_):
-    raise KeyboardInterrupt
+    from ..interrupts import Terminated
+
+    raise Terminated()
 
 
 def run_batch(args):
@@ -181,17 +260,32 @@ def run_batch(args):
 
     from .summary import write_summary
 
-    plan = plan_batch(args.stars, args.scenario, args.out or Path("kinage-batch"), seed=args.seed,
-                      samples=args.samples, force=args.force)
+    from ..io.options import check_arguments
+    from ..io.rundir import output_lock
+
+    args.verb = getattr(args, "verb", "batch")
+    check_arguments(args)  # workers, scheduler address, paths: before anything is created
+    out = args.out or Path("kinage-batch")
+    with output_lock(out):
+        return _run_batch_locked(args, out, as_completed, write_summary)
+
+
+def _run_batch_locked(args, out, as_completed, write_summary):
+    plan = plan_batch(args.stars, args.scenario, out, seed=args.seed, samples=args.samples, force=args.force)
     say = (lambda s: None) if args.quiet else print
-    say(f"{len(plan.done) + len(plan.todo)} stars: {len(plan.done)} already done, {len(plan.todo)} to run")
     previous = signal.signal(signal.SIGTERM, _sigterm_as_interrupt)
     records = list(plan.done)
     timing = {"n_run": len(plan.todo), "workers": None if args.scheduler else args.workers}
     t_start = time.perf_counter()
     try:
+        if not plan.todo:
+            prepare_folders(plan.out_dir)
+            say(f"{len(plan.done)} stars: {len(plan.done)} already done, 0 to run")
         if plan.todo:
             with _client(args.scheduler, args.workers) as client:
+                prepare_folders(plan.out_dir)  # only once the cluster answers
+                say(f"{len(plan.done) + len(plan.todo)} stars: {len(plan.done)} already done, "
+                    f"{len(plan.todo)} to run")
                 t_submit = time.perf_counter()
                 futures = [client.submit(run_one_star, **task, pure=False) for task in plan.todo]
                 for n, fut in enumerate(as_completed(futures), 1):

@@ -4,9 +4,18 @@ One row per star.  Columns are named like the ``[star]`` keys of a scenario
 (``name``, ``ra``, ``dec``, ``parallax``, ``parallax_error``,
 ``pm_ra_cosdec``, ``pm_dec``, ``spin_period``, ``spin_period_derivative``,
 ``temperature``, ...).  ECSV columns carry their units; CSV columns are in the
-default units of the scenario keys (``kinage keys star``).  Empty cells (masked
-values) mean "not given".  The template scenario supplies the ``[campaign]``,
-``[trace]`` and ``[ages]`` tables and any ``[star]`` value the row leaves out.
+default units of the scenario keys (``kinage keys star``).  The template
+scenario supplies the ``[campaign]``, ``[trace]`` and ``[ages]`` tables and any
+``[star]`` value the row leaves out.
+
+Missing values (the rule for NaN): an empty cell, a masked value and a NaN
+(``nan`` in CSV, NaN in ECSV) all mean "not given" for that star, exactly as
+if the column were absent for that row: the template's ``[star]`` value is
+used when it has one, otherwise the key is absent.  A star that then lacks a
+value its stages need (e.g. ``parallax`` for tracing) fails alone with a
+reason naming the key; the other stars run.  Infinite cells are not missing
+values: they are rejected for that star like any out-of-range value.  Names
+are required, unique and at most 200 characters long.
 """
 
 import hashlib
@@ -67,8 +76,8 @@ def read_star_rows(path):
             if np.ma.is_masked(val):
                 continue
             unit = tab[col].unit
-            if isinstance(val, (np.floating, float)) and not math.isfinite(float(val)):
-                continue
+            if isinstance(val, (np.floating, float)) and math.isnan(float(val)):
+                continue  # NaN means "not given" (see the module docstring)
             if isinstance(val, np.generic):
                 val = val.item()
             if unit is not None and isinstance(val, (int, float)):
@@ -77,9 +86,12 @@ def read_star_rows(path):
         name = str(row.get("name", "")).strip()
         if not name:
             raise InputError(f"stars table {path.name} row {i + 1}, column 'name'", "empty name")
+        if len(name) > 200:
+            raise InputError(f"stars table {path.name} row {i + 1}, column 'name'",
+                             f"names are at most 200 characters long (got {len(name)} characters)")
         if name in seen:
             raise InputError(f"stars table {path.name} row {i + 1}, column 'name'",
-                             f"duplicate name {name!r} (also row {seen[name] + 1})")
+                             f"duplicate name '{name}' (also row {seen[name] + 1})")
         seen[name] = i
         row["name"] = name
         rows.append(row)

@@ -5,6 +5,7 @@ string such as ``"4.2 mas"`` parsed with :mod:`astropy.units`.  Wrong
 dimensions (``"4 km/s"`` for a parallax) are reported with the field name.
 """
 
+import functools
 import math
 
 import astropy.units as u
@@ -66,8 +67,14 @@ def parse_quantity(value, unit, where, *, allow_array=False):
         If the value is not a number, cannot be parsed, is not finite, or has
         the wrong dimension.
     """
-    unit = u.Unit(unit)
-    expected = f"a number in {unit.to_string() or 'dimensionless units'} or a string with a unit of {_physical(unit)}"
+    unit = _unit(unit)
+
+    class _Expected:  # the message text, built only when a message is
+        def __format__(self, spec):
+            return (f"a number in {unit.to_string() or 'dimensionless units'} or a string with a unit of "
+                    f"{_physical(unit)}")
+
+    expected = _Expected()
     if isinstance(value, bool):
         raise InputError(where, f"expected {expected} (got {value!r})")
     if isinstance(value, str) and len(value) > _MAX_TEXT:
@@ -102,6 +109,16 @@ def parse_quantity(value, unit, where, *, allow_array=False):
     if any(not math.isfinite(float(v)) for v in vals):
         raise InputError(where, f"must be finite (got {format_quantity(q)})")
     return q
+
+
+@functools.lru_cache(maxsize=256)
+def _cached_unit(text):
+    return u.Unit(text)
+
+
+def _unit(unit):
+    """``astropy.units.Unit(unit)``, with unit strings parsed once (parsing dominates reading a scenario)."""
+    return _cached_unit(unit) if isinstance(unit, str) else u.Unit(unit)
 
 
 def _equivalencies(unit):

@@ -64,7 +64,7 @@ def scenario_dict(tables=None, **changes):
     """A copy of :data:`BASE` restricted to ``tables`` with ``changes`` = {table: {key: value or None}}."""
     raw = {k: (dict(v) if isinstance(v, dict) else v) for k, v in BASE.items()}
     if tables is not None:
-        raw = {k: v for k, v in raw.items() if not isinstance(v, dict) or k in tables}
+        raw = {k: v for k, v in raw.items() if not isinstance(v, dict) or k in tables or k == "star"}
     for table, keys in changes.items():
         if not isinstance(keys, dict):
             raw[table] = keys
