@@ -53,7 +53,7 @@ DEMO_CASES = (
     DemoCase("radio", "radio pulsar, 0.4 us TOAs from an invented site: timing measures proper motion and parallax, "
                       "which trace it to its birth association",
              "radio", ("scenario.toml", "associations.ecsv", "toas.ecsv")),
-    DemoCase("population", "18 invented stars through kinage batch: birth associations and ages of a population",
+    DemoCase("population", "14 invented stars through kinage batch: birth associations and ages of a population",
              "", ("population.ecsv", "population_template.toml", "associations.ecsv"), kind="batch"),
 )
 DEFAULT_CASE = "xray"

@@ -108,7 +108,7 @@ def plot_population(table, axes=None):
         ax1.plot(lim, lim, ls="--", color="0.4", lw=0.8, label="equal to the characteristic age")
         ax1.set_xscale("log")
         ax1.set_yscale("log")
-        ax1.legend(loc="upper left", fontsize=5.5)
+        ax1.legend(loc="lower left", bbox_to_anchor=(0.0, 1.01), fontsize=5.5)
     else:
         ax1.text(0.5, 0.5, "no star has a kinematic age or a plane crossing", ha="center", va="center",
                  transform=ax1.transAxes)
@@ -122,7 +122,7 @@ def plot_population(table, axes=None):
     ax2.set_xticks(idx, [str(n) + (" *" if a else "") for n, a in zip(table["name"], assoc)], rotation=90,
                    fontsize=5)
     ax2.set_ylabel("fraction of draws, best association")
-    ax2.set_title("* traced to a favoured association", fontsize=6)
+    ax2.set_xlabel("* traced to a favoured association", fontsize=6)
     ax2.legend(loc="upper right", fontsize=6)
     return fig
 

@@ -25,11 +25,17 @@ POPULATION_CAPTION = ("Left: stars traced to a birth association (filled) have k
                       "association, against the chance rate of the control draws.")
 
 
+def _name(x):
+    """Association name from a summary cell; '' for none (empty, masked or written as '--')."""
+    t = str(x).strip()
+    return "" if t in ("", "--", "None", "nan") or getattr(x, "mask", False) is True else t
+
+
 def population_summary(table):
     """Plain sentences about a batch summary table (astropy Table from ``summary.ecsv``)."""
     n = len(table)
     ok = np.asarray(table["status"]) == "ok"
-    fav = np.array([bool(str(x)) for x in table["favoured_association"]]) & ok
+    fav = np.array([bool(_name(x)) for x in table["favoured_association"]], bool) & ok
     parts = [f"{n} stars: {int(ok.sum())} finished, {n - int(ok.sum())} failed."]
     parts.append(f"{int(fav.sum())} are traced to a favoured birth association; "
                  f"{int(ok.sum() - fav.sum())} are not (for them only the plane-crossing time is known).")
@@ -46,7 +52,7 @@ def population_summary(table):
 def _rows(table):
     out = []
     for r in table:
-        fav = str(r["favoured_association"]) or "none"
+        fav = _name(r["favoured_association"]) or "none"
         kin = r["kinematic_age"]
         src = str(r["kinematic_age_source"])
         kin_txt = fmt_age(float(kin), 2) if np.isfinite(kin) else "n/a"

@@ -49,11 +49,11 @@ def test_interface_keys_present(demo_run):
 
 
 def test_demo_birthplace_is_recovered(demo_run):
-    # the demo star was made (scripts/make_demo.py) at the centre of "Serrat OB3" 0.52 Myr ago
+    # the demo star was made (scripts/make_demo.py) at the centre of "Vessen OB2" 0.75 Myr ago
     t = demo_run.stages["trace"].to_dict()
-    assert t["associations"][0]["name"] == "Serrat OB3"
+    assert t["associations"][0]["name"] == "Vessen OB2"
     age = t["associations"][0]["age_yr"]
-    assert age["lo68"] < 0.52e6 < age["hi68"] or abs(age["median"] - 0.52e6) < 0.15e6
+    assert age["lo68"] < 0.75e6 < age["hi68"] or abs(age["median"] - 0.75e6) < 0.15e6
     # the ages stage used the trace's kinematic age
     k = demo_run.stages["ages"].to_dict()["kinematic_age_yr"]
     assert abs(k["median"] - age["median"]) / age["median"] < 0.1
@@ -99,7 +99,7 @@ def test_report_opens_in_headless_browser(demo_run, tmp_path):
 
 def test_mistake_stops_before_any_stage(tmp_path, capsys):
     scn = reduced_demo(tmp_path / "bad")
-    scn.write_text(scn.read_text().replace('parallax_error = "0.25 mas"', 'parallax_error = "0.25 km/s"'))
+    scn.write_text(scn.read_text().replace('parallax_error = "0.08 mas"', 'parallax_error = "0.08 km/s"'))
     out = tmp_path / "out"
     assert main(["run", str(scn), "--out", str(out), "--quiet"]) == 2
     assert "[star] parallax_error" in capsys.readouterr().err
@@ -109,8 +109,8 @@ def test_mistake_stops_before_any_stage(tmp_path, capsys):
 def test_late_stage_failure_keeps_earlier_results(tmp_path, capsys):
     # a temperature far below every cooling curve makes the ages stage fail
     scn = reduced_demo(tmp_path / "late", samples=200)
-    text = scn.read_text().replace('temperature = "86 eV"', 'temperature = "0.5 eV"')
-    text = text.replace('temperature_error = "4 eV"', 'temperature_error = "0.05 eV"')
+    text = scn.read_text().replace('temperature = "74 eV"', 'temperature = "0.5 eV"')
+    text = text.replace('temperature_error = "3 eV"', 'temperature_error = "0.05 eV"')
     scn.write_text(text)
     out = tmp_path / "out"
     assert main(["run", str(scn), "--out", str(out), "--quiet"]) == 1
