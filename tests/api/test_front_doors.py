@@ -213,3 +213,21 @@ def test_provenance_records_versions_and_command_line():
         assert v[name] == metadata.version(name)  # importlib.metadata: the installed distributions
     assert v["kinage"] == kinage.__version__ and v["python"] == ".".join(map(str, sys.version_info[:3]))
     assert prov["command_line"].split()[-1] == Path(sys.argv[-1]).name or sys.argv[-1] in prov["command_line"]
+
+
+def test_run_writes_results_with_provenance(tmp_path):
+    raw = {"title": "Tamsin-7 (invented)", "star": _star(),
+           "campaign": {"start": "2028-02-01", "baseline": 3 * u.yr, "visits_per_year": 4, "toa_error": 0.2 * u.ms},
+           "ages": {"kinematic_age": 1.1 * u.Myr, "kinematic_age_error": 0.2 * u.Myr, "samples": 300,
+                    "shklovskii": False}}
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore", kinage.KinageWarning)
+        run = kinage.run(raw, tmp_path / "out", report=False, products=False)
+    data = json.loads((tmp_path / "out" / "results.json").read_text())
+    assert data["stages_completed"] == ["forecast", "ages"] and not run.failed
+    prov = data["provenance"]
+    assert prov["versions"]["astropy"] == metadata.version("astropy") and "command_line" in prov
+    # tau_c = P / (2 Pdot) (Lorimer & Kramer 2005, eq. 3.14), by hand with astropy (no Shklovskii term)
+    tau = (0.6271 * u.s / (2 * 2.1e-15)).to_value(u.yr)
+    assert data["ages"]["characteristic_age_yr"] == pytest.approx(tau, rel=1e-9)
+    assert repr(run).startswith("<RunResult") and len(repr(run)) < 400
