@@ -83,7 +83,8 @@ def _pm_remedy(r):
     elif r.plan.span_yr > 0:
         # sigma_mu ~ T^-3/2 at a fixed cadence (white noise)
         k = (r.pm_error_along_motion / target) ** (2.0 / 3.0)
-        parts.append(f"a baseline {factor_words(k)} times longer than {r.plan.span_yr:.1f} yr")
+        parts.append(f"a baseline of about {_num(k * r.plan.span_yr)} yr ({factor_words(k)} times longer, "
+                     "at the same cadence)")
     return (f"measuring the expected {_num(r.motion.pm_masyr)} mas/yr at {r.target_significance:g} sigma would "
             "need " + ", or ".join(parts))
 
@@ -162,8 +163,12 @@ def _schedule_hint(r):
     sch = r.schedules or {}
     if r.plan.schedule != "even" or "parallax_error_mas" not in sch.get("parallax", {}):
         return ""
-    ratio = sch["even"]["parallax_error_mas"] / sch["parallax"]["parallax_error_mas"]
+    best = sch["parallax"]["parallax_error_mas"]
+    ratio = sch["even"]["parallax_error_mas"] / best
     if ratio <= 2.0:
         return ""
-    return (f" Placing the same visits near the parallax extremes (schedule = \"parallax\") would make the parallax "
-            f"error {factor_words(ratio)} times smaller.")
+    s = (f" Placing the same visits near the parallax extremes (schedule = \"parallax\") would make the parallax "
+         f"error {factor_words(ratio)} times smaller")
+    if best > PARALLAX_LIMIT_MAS:
+        return s + ", though still not a measurement."
+    return s + f" ({_num(best)} mas)."
