@@ -150,10 +150,13 @@ _TRACE = [
     Key("integration_tolerance", "float", default=1e-7, positive=True, lower=1e-14, upper=1e-4,
         doc="relative and absolute tolerance of galpy's adaptive integrator (rtol = atol; galpy's own default is "
             "1e-12); 1e-7 changes d_min by < 2e-3 pc over 10 Myr (convergence study in DEVELOPERS.md)"),
-    Key("control_error", "float", default=0.003, positive=True, upper=0.5,
-        doc="Monte Carlo standard error wanted for every chance rate; control draws are added until "
-            "f (1 - f) / N <= control_error^2 (at most as many as the star draws; 0.003 gives a 4% chance "
-            "rate +/- 0.3% with ~4,300 draws)"),
+    Key("control_relative_error", "float", default=0.1, positive=True, upper=1.0,
+        doc="Monte Carlo standard error wanted for every chance rate f, relative to f; control draws are added "
+            "until f (1 - f) / N <= max(control_relative_error x f, control_absolute_error)^2 (never more than "
+            "the star draws; the defaults need at most ~5,000 control draws)"),
+    Key("control_absolute_error", "float", default=0.002, positive=True, upper=0.5,
+        doc="the same as an absolute error, which rules for small chance rates (below "
+            "control_absolute_error / control_relative_error = 2% by default)"),
     Key("seed", "int", nonnegative=True, doc="random seed (default: the command-line --seed, else 1)"),
     Key("potential", "str", default="MWPotential2014", doc="Galactic potential parameter set, or 'none' for straight lines"),
     Key("solar_parameters", "str",

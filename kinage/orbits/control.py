@@ -1,16 +1,20 @@
-"""How many control draws the chance rate needs, and running them.
+"""How many control draws the chance rates need, and running them.
 
 The chance rate of an association is the encounter fraction f of control
 draws (the star's draws with the proper-motion direction turned at random).
 With N control draws its Monte Carlo standard error is the binomial
-sqrt(f (1 - f) / N), so a target error e needs N = f (1 - f) / e^2 draws, at
-most 0.25 / e^2 (f = 1/2).  kinage runs a first round of
-:data:`FIRST_ROUND` control draws, estimates every association's f with
-(k + 2) / (N + 4) (the Agresti & Coull 1998, Am. Stat. 52, 119 centre, so that
-a count of zero does not promise zero error), and adds draws until the
-largest required N over all associations is reached, never more than there
-are star draws.  With the default e = 0.003 a chance rate of 4% is measured
-with ~4,300 control draws (instead of as many as the star draws).
+sqrt(f (1 - f) / N).  The wanted error is max(r f, e): relative (r =
+``[trace] control_relative_error``, default 10%) for common rates, absolute
+(e = ``control_absolute_error``, default 0.002) for rare ones, so
+
+    N = f (1 - f) / max(r f, e)^2,
+
+at most ~1 / (r e) = 5,000 draws with the defaults (at f = e / r = 2%).
+kinage runs a first round of :data:`FIRST_ROUND` control draws, estimates
+every association's f with (k + 2) / (N + 4) (the Agresti & Coull 1998,
+Am. Stat. 52, 119 centre, so that a count of zero does not promise zero
+error), and adds draws until the largest N over all associations is reached,
+never more than there are star draws.
 
 The control result has the same layout as the star's (per-association d_min,
 tau, edge for every control draw, pairing draw i with association draw
@@ -32,7 +36,7 @@ MAX_ROUNDS = 3
 
 
 def required_control_draws(ctrl, adraws, afailed, cfg):
-    """Control draws that give every association's chance rate the standard error ``cfg['control_error']``.
+    """Control draws that give every association's chance rate its wanted standard error (module docstring).
 
     Parameters
     ----------
@@ -42,13 +46,13 @@ def required_control_draws(ctrl, adraws, afailed, cfg):
     afailed : dict
         Failed association draws {row: reason}.
     cfg : dict
-        Trace settings (``factor``, ``tolerance``, ``control_error``).
+        Trace settings (``factor``, ``tolerance``, ``control_relative_error``, ``control_absolute_error``).
 
     Returns
     -------
     int
     """
-    e = float(cfg["control_error"])
+    r, e = float(cfg["control_relative_error"]), float(cfg["control_absolute_error"])
     n = ctrl["dmin"].shape[1]
     bad = np.zeros(n, bool)
     bad[[i for i in ctrl["failed"] if i < n]] = True
@@ -61,7 +65,7 @@ def required_control_draws(ctrl, adraws, afailed, cfg):
                              adraws.radius_pc[j], adraws.age_myr[j], cfg["factor"], cfg["tolerance"])
         nv = int(valid.sum())
         p = (int(enc.sum()) + 2.0) / (nv + 4.0)
-        need = max(need, p * (1.0 - p) / e**2 * (n / max(nv, 1)))
+        need = max(need, p * (1.0 - p) / max(r * p, e) ** 2 * (n / max(nv, 1)))
     return int(np.ceil(need))
 
 

@@ -58,7 +58,8 @@ def _settings(scenario, samples, potential):
         "factor": float(tr.get("encounter_radius_factor")),
         "tolerance": tr.value("age_tolerance", "Myr"),
         "control_runs": int(tr.get("control_runs")),
-        "control_error": float(tr.get("control_error")),
+        "control_relative_error": float(tr.get("control_relative_error")),
+        "control_absolute_error": float(tr.get("control_absolute_error")),
         "integration_tolerance": float(tr.get("integration_tolerance")),
         "chunk_size": int(tr.get("chunk_size")),
         "field_prior": check_field_prior(tr.get("field_prior", DEFAULT_FIELD_PRIOR)),
@@ -142,7 +143,8 @@ def trace(scenario, *, solution=None, rng=None, samples=None, potential=None, pr
     n_control = 0
     if n_max_control:
         # control draws for all star draws (so the numbers do not depend on how many are used),
-        # integrated only as far as the chance rate's precision needs ([trace] control_error)
+        # integrated only as far as the chance rates' precision needs ([trace] control_relative_error,
+        # control_absolute_error)
         cdraws = rotated_proper_motions(draws, control_rng, frame=frame, velocity_prior=cfg["velocity_prior"])
         cpos, cvel = cdraws.galactocentric(frame)
         ctrl = control_draws_needed(cpos, cvel, run, assoc, adraws, afailed, cfg, n_max_control,
