@@ -118,42 +118,46 @@ def _improve(x, cmat, block, chosen, max_sweeps):
     if not np.isfinite(value):
         return chosen, value, 0, 0
     by_block = [np.flatnonzero(block == b) for b in range(block.max() + 1)]
-    sweeps = exchanges = 0
-    stale = True
+    sweeps = exchanges = version = 0
+    cache = {}
+    minv = _inverse(x[chosen])
     for sweeps in range(1, max_sweeps + 1):
         changed = False
         for slot in range(chosen.size):
-            if stale:  # M^-1 from scratch after each exchange (p x p: cheap, and no drift)
-                minv = _inverse(x[chosen])
-                q = x @ minv                        # (K, p): M^-1 x_j for every candidate
-                a = np.einsum("ij,ij->i", q, x)     # x_j^T M^-1 x_j
-                uc = q @ cmat                       # (K, k): C^T M^-1 x_j
-                stale = False
             i = chosen[slot]
-            cand = by_block[block[i]]
-            cand = cand[~taken[cand]]
-            if cand.size == 0:
+            b = block[i]
+            if cache.get(b, (-1,))[0] != version:  # this year's candidates against the current M^-1
+                idx = by_block[b]
+                q = x[idx] @ minv                       # (K_b, p): M^-1 x_j
+                cache[b] = (version, idx, q, np.einsum("ij,ij->i", q, x[idx]), q @ cmat)
+            _, idx, q, a, uc = cache[b]
+            free = ~taken[idx]
+            if not np.any(free):
                 continue
-            d_i, u_i = a[i], uc[i]
-            b = q[cand] @ x[i]                  # x_j^T M^-1 x_i
-            u_j = uc[cand]
+            cand, q, a, u_j = idx[free], q[free], a[free], uc[free]
+            mi = minv @ x[i]
+            d_i, u_i = float(x[i] @ mi), cmat.T @ mi    # x_i^T M^-1 x_i, C^T M^-1 x_i
+            bj = q @ x[i]                               # x_j^T M^-1 x_i
             # swap x_i -> x_j: M' = M + x_j x_j^T - x_i x_i^T (rank two); Woodbury gives
             # tr C^T M'^-1 C = value - [(1-d_i)|u_j|^2 + 2 b (u_i.u_j) - (1+a_j)|u_i|^2] / det,
             # det = (1+a_j)(1-d_i) + b^2 = det M' / det M  (Fedorov's delta function plus one)
-            det = (1 + a[cand]) * (1 - d_i) + b * b
-            gain = ((1 - d_i) * np.sum(u_j * u_j, axis=1) + 2 * b * (u_j @ u_i) - (1 + a[cand]) * (u_i @ u_i))
+            det = (1 + a) * (1 - d_i) + bj * bj
+            gain = (1 - d_i) * np.sum(u_j * u_j, axis=1) + 2 * bj * (u_j @ u_i) - (1 + a) * (u_i @ u_i)
             with np.errstate(divide="ignore", invalid="ignore"):
                 new = np.where(det > 1e-10, value - gain / det, np.inf)
             best = int(np.argmin(new))
             if new[best] < value * (1 - _REL_TOL):
                 j = cand[best]
-                exact = criterion(x[np.where(chosen == i, j, chosen)], cmat)  # guard against round-off
+                trial = np.where(chosen == i, j, chosen)
+                exact = criterion(x[trial], cmat)  # guard against round-off
                 if exact < value * (1 - _REL_TOL):
                     taken[i], taken[j] = False, True
                     chosen[slot] = j
                     value = exact
                     exchanges += 1
-                    changed = stale = True
+                    changed = True
+                    minv = _inverse(x[chosen])  # from scratch (p x p: cheap, and no drift)
+                    version += 1
         if not changed:
             break
     return np.sort(chosen), value, sweeps, exchanges
