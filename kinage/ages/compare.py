@@ -13,6 +13,7 @@ from pathlib import Path
 import numpy as np
 
 from .._results import ResultDisplay
+from .._units import quantity_edge
 from ..io.results import interval
 from .cooling_age import cooling_age
 from .draws import draw_kinematic_age, draw_spin, read_settings
@@ -163,6 +164,7 @@ class AgesResult(ResultDisplay):
         return paths
 
 
+@quantity_edge(None, kinematic_age_samples="yr")
 def compare_ages(scenario, *, kinematic_age_samples=None, kinematic_age_source=None, rng=None, heating=None):
     """Spin-down, field-decay, cooling and kinematic ages of one star, compared.
 
@@ -172,7 +174,7 @@ def compare_ages(scenario, *, kinematic_age_samples=None, kinematic_age_source=N
         Uses ``[star]`` (spin_period, spin_period_derivative, temperature or
         luminosity, proper motion and parallax/distance for the Shklovskii
         term) and ``[ages]`` (defaults when absent).
-    kinematic_age_samples : ndarray, yr, optional
+    kinematic_age_samples : ndarray (yr) or Quantity [time], optional
         Monte Carlo kinematic ages from the trace stage; otherwise
         ``[ages] kinematic_age`` +- error, drawn lognormally; otherwise none.
     kinematic_age_source : str, optional

@@ -121,3 +121,17 @@ def test_every_physical_function_is_covered():
             obj = getattr(mod, name)
             if inspect.isfunction(obj) and hasattr(obj, "__kinage_units__"):
                 assert name in covered, f"{mod.__name__}.{name} takes physical values but has no unit test case"
+
+
+def test_compare_ages_reads_kinematic_age_samples_with_their_unit():
+    # the same kinematic ages in Myr (Quantity) and in yr (plain) give the same comparison
+    import kinage
+
+    scn = kinage.scenario_from_dict({"star": {"spin_period": 0.6271, "spin_period_derivative": 2.1e-15},
+                                     "ages": {"samples": 300}})
+    rng = np.random.default_rng(4)
+    ages_myr = rng.normal(1.1, 0.1, 500)
+    a = kinage.ages.compare_ages(scn, kinematic_age_samples=ages_myr * u.Myr, rng=1)
+    b = kinage.ages.compare_ages(scn, kinematic_age_samples=ages_myr * 1e6, rng=1)
+    assert a.to_dict()["kinematic_age_yr"]["median"] == pytest.approx(b.to_dict()["kinematic_age_yr"]["median"])
+    assert a.to_dict()["kinematic_age_yr"]["median"] == pytest.approx(np.median(ages_myr) * 1e6, rel=0.05)
