@@ -112,10 +112,15 @@ class SunWindow:
         """Move epochs to the nearest allowed, not yet used day; returns new MJDs.
 
         The fractional part of each epoch is kept.  Epochs are handled in time
-        order, so an earlier visit has the first claim on a day.
+        order, so an earlier visit has the first claim on a day.  A day is
+        allowed with :data:`SUN_MARGIN_DEG` to spare, and, for epochs during the
+        day, only when the next day's 00:00 is allowed too.
         """
         mjd = np.asarray(mjd, float)
-        ok_days = self.mjd[self.allowed]
+        ok = self.safe()
+        if np.any(mjd - np.floor(mjd) > 1e-9):
+            ok = ok & np.append(ok[1:], False)
+        ok_days = self.mjd[ok]
         if ok_days.size == 0:
             raise InputError("[campaign] sun_avoidance",
                              f"the source is never {self.angle_deg:g} deg from the Sun; lower the angle")

@@ -131,6 +131,16 @@ def test_motion_schedule_never_worse_than_even(ra, dec, pa):
     assert np.unique(np.floor(motion.mjd)).size == motion.n_visits  # one visit a day
 
 
+@pytest.mark.parametrize("schedule", ["even", "parallax"])
+def test_visits_during_the_day_keep_the_sun_angle(schedule):
+    # a start at 17:00 TDB for a source near the ecliptic: visits keep their time of day (even) or move to
+    # 00:00 (optimised); either way astropy's Sun is at least 45 deg away at the visit itself
+    ra, dec = 118.5, 21.0
+    c = _campaign(ra, dec, start="2029-02-10T17:00:00", sun_avoidance=45, visits_per_year=12, baseline=2)
+    plan = make_plan(c, ra, dec, schedule=schedule)
+    assert np.all(sun_angle(plan.mjd, ra, dec) >= 45.0)
+
+
 # -- the forecast through the command line -------------------------------------------------------------
 # an invented star whose quarterly visits from 2029-01-13 fall near the zero crossings of the half-yearly
 # parallax signature (found by scanning the start date with independent_errors above)
