@@ -57,8 +57,9 @@ def gls_step(design, resid, noise, method="woodbury"):
     chi2 : float
         R^T C^-1 R before the step.
     """
-    fisher = fisher_matrix(design, noise, method)
-    cov = covariance_from_fisher(fisher)
-    rhs = np.atleast_1d(noise.quadratic(design, resid, method=method))
-    chi2 = float(noise.quadratic(resid, method=method))
-    return -cov @ rhs, cov, chi2
+    # one pass over the TOAs: [M R]^T C^-1 [M R] holds the Fisher matrix, M^T C^-1 R and chi-square
+    x = np.column_stack([design, resid])
+    q = np.atleast_2d(noise.quadratic(x, method=method))
+    p = design.shape[1]
+    cov = covariance_from_fisher(q[:p, :p])
+    return -cov @ q[:p, p], cov, float(q[p, p])

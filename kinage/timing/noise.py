@@ -115,10 +115,17 @@ class NoiseModel:
     def _inner(self):
         """Cholesky factor of S = Phi^-1 + F^T N^-1 F (cached)."""
         if self._sigma_cho is None:
-            fn = self.basis / self.white_var[:, None]
-            s = self.basis.T @ fn + np.diag(1.0 / self.phi)
+            # F^T N^-1 F as a symmetric product of the whitened basis (much faster than a general product)
+            bs = self._whitened_basis()
+            s = bs.T @ bs + np.diag(1.0 / self.phi)
             self._sigma_cho = linalg.cho_factor(s, lower=True)
         return self._sigma_cho
+
+    def _whitened_basis(self):
+        """N^-1/2 F (cached)."""
+        if getattr(self, "_bs", None) is None:
+            self._bs = self.basis / np.sqrt(self.white_var)[:, None]
+        return self._bs
 
     def solve(self, b, method="woodbury"):
         """C^-1 b for b of shape (n,) or (n, k)."""
@@ -136,6 +143,13 @@ class NoiseModel:
         b = a if b is None else b
         if method == "dense":
             return np.asarray(a).T @ self.solve(b, method="dense")
+        if b is a and np.ndim(a) == 2:  # symmetric: X^T C^-1 X through the whitened X and basis
+            xs = np.asarray(a, float) / np.sqrt(self.white_var)[:, None]
+            out = xs.T @ xs
+            if self.has_red:
+                fx = self._whitened_basis().T @ xs
+                out = out - fx.T @ linalg.cho_solve(self._inner(), fx)
+            return out
         a = np.asarray(a, float)
         b = np.asarray(b, float)
         w = 1.0 / self.white_var

@@ -161,11 +161,15 @@ def simulate_toas(scenario, *, rng=None, inject=None, frequency_mhz=None):
     grid = TimeGrid.from_times(plan.times, epoch, reference, freq_col)
     pulses = model.pulse_numbers(grid, theta, offsets=True)
     hi, lo = grid.seconds, grid.seconds_lo
-    for _ in range(5):  # Newton on the arrival time of pulse N (observer geometry moved each step)
+    for it in range(5):  # Newton on the arrival time of pulse N (observer geometry moved each step)
         ph, pl, tau, (freq, freq_dot, freq_ddot) = model.phase_dd(grid, theta, offsets=True)
         frac = (ph - pulses) + pl
-        hi, lo = precision.dd_add_float(hi, lo, -frac / (freq + tau * (freq_dot + tau * freq_ddot / 2)))
-        grid = _grid_at(epoch, hi, lo, reference, freq_col)
+        dt = -frac / (freq + tau * (freq_dot + tau * freq_ddot / 2))
+        hi, lo = precision.dd_add_float(hi, lo, dt)
+        if it < 2:
+            grid = _grid_at(epoch, hi, lo, reference, freq_col)
+        else:  # steps below ~1e-4 s: move the observer along its velocity (error ~ a dt^2 / c < 1e-15 s)
+            grid = _moved(grid, hi, lo, dt, reference)
     noise = noise_from_campaign(c, hi, errors)
     hi, lo = precision.dd_add_float(hi, lo, noise.draw(rng))
     times = (epoch + hi * u.s) + lo * u.s
@@ -186,6 +190,17 @@ def simulate_toas(scenario, *, rng=None, inject=None, frequency_mhz=None):
     motion = inputs.expected_proper_motion(scenario) if star.get("pm_ra_cosdec") is None else None
     sets = list(motion.parameter_sets) if motion is not None else []
     return SimulationResult(tab, vals, seed, sets)
+
+
+def _moved(grid, hi, lo, dt, reference):
+    shift = grid.velocity * dt[:, None]
+    removed = grid.removed
+    if removed is not None:  # barycentred: the removed Roemer delay r.s_ref moves with the observer
+        from .model import _unit
+
+        s_ref = _unit(np.radians(reference.barycentred_ra_deg), np.radians(reference.barycentred_dec_deg))
+        removed = removed + shift @ s_ref
+    return replace(grid, seconds=hi, seconds_lo=lo, earth=grid.earth + shift, sun=grid.sun - shift, removed=removed)
 
 
 def _grid_at(epoch, hi, lo, reference, freq_col):
