@@ -364,7 +364,8 @@ def optimised_epochs(schedule, ra_deg, dec_deg, nominal, baseline_yr, window, *,
     even = window.shift(nominal)
     res = exchange_design(rows, cmat, block, counts, start=_nearest_free(cand, block, even, start), rng=rng)
     # the even plan itself is a candidate answer: an optimised schedule is never worse than it
-    even_value = criterion(candidate_rows(ra_deg, dec_deg, np.sort(even), spin_terms) / res.scale, cmat / res.scale[:, None])
+    even_rows = candidate_rows(ra_deg, dec_deg, np.sort(even), spin_terms)
+    even_value = criterion(even_rows / res.scale, cmat / res.scale[:, None])
     if even_value <= res.value:
         return np.sort(even)
     return cand[res.chosen]

@@ -84,8 +84,8 @@ def _exhaustive(rows, cmat, blocks, counts):
 
 @pytest.mark.parametrize("schedule,direction", [("parallax", None), ("motion", (0.6, -0.8)), ("motion", None)])
 def test_exchange_finds_the_exhaustive_optimum(schedule, direction):
-    # two campaign years, 10 candidate days each (every 36.5 d), 5 visits a year, spin_terms=1 (7 parameters):
-    # 252^2 = 63,504 designs searched exhaustively (the definition of the exact optimum)
+    # two campaign years with 11 and 9 candidate days (every 36.5 d), 5 visits a year, spin_terms=1 (7 parameters):
+    # 462 x 126 = 58,212 designs searched exhaustively (the definition of the exact optimum)
     start = 61500.0
     cand = start + np.arange(20) * 36.5
     rows = candidate_rows(210.0, 35.0, cand, spin_terms=1)
