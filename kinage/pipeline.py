@@ -79,6 +79,11 @@ def preflight(scenario, samples=None):
         from .timing import read_toas
 
         loaded["toas"] = read_toas(scenario.campaign.toas)
+        from .timing.toas import check_fit_table
+
+        # too few TOAs, all on one day: input problems, found before any stage (the fit repeats the check
+        # with its exact parameter count: 5 astrometric + phase + spin terms, + DM with several frequencies)
+        check_fit_table(loaded["toas"], str(scenario.campaign.toas), 6 + int(scenario.campaign.get("spin_terms", 2)))
     if "trace" in stages:
         from .associations import read_associations
 

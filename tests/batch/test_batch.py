@@ -16,7 +16,7 @@ from kinage.batch.stars import read_star_rows, star_seed
 from kinage.errors import InputError
 
 DEMO = Path(__file__).resolve().parents[2] / "data_demo"
-N_STARS = 6
+N_STARS = 4  # enough for two workers, an interruption part-way and a corrupt third row
 
 TEMPLATE = """
 [star]
@@ -24,14 +24,14 @@ name = "template"
 
 [trace]
 associations = "{assoc}"
-samples = 150
-association_samples = 30
+samples = 80
+association_samples = 20
 control_runs = 2
-max_age = "3 Myr"
+max_age = "2 Myr"
 seed = 42
 
 [ages]
-samples = 500
+samples = 300
 """
 
 
@@ -93,11 +93,32 @@ def test_rerun_skips_finished_stars(inputs, reference):
     assert f"{N_STARS} already done, 0 to run" in r.stdout
 
 
-def test_one_worker_gives_identical_numbers(inputs, reference, tmp_path):
+@pytest.fixture(scope="module")
+def forced_one_worker(inputs, reference, tmp_path_factory):
+    """A copy of the finished reference batch redone from scratch with ``--force`` on one worker.
+
+    Returns (output folder, completed process, input hashes before the rerun).  One run serves both the
+    worker-count test and the --force test: every star is recomputed, by a single worker.
+    """
+    import shutil
+
+    out = tmp_path_factory.mktemp("batch_forced") / "forced"
+    shutil.copytree(reference, out)
+    before = {n: r["input_hash"] for n, r in _results(out).items()}
+    for f in out.glob("stars/*/star.json"):  # mark the copies so that a skipped star would show
+        rec = json.loads(f.read_text())
+        rec["results"]["trace"]["associations"][0]["encounter_fraction"] = -1.0
+        f.write_text(json.dumps(rec))
+    r = _batch(inputs, out, "--workers", "1", "--force")
+    return out, r, before
+
+
+def test_one_worker_gives_identical_numbers(reference, forced_one_worker):
     # seeds derive from the batch seed and each star's name, not from scheduling (common practice, no source)
-    r = _batch(inputs, tmp_path / "one", "--workers", "1", "--quiet")
+    out, r, _ = forced_one_worker
     assert r.returncode == 0, r.stderr
-    a, b = _results(reference), _results(tmp_path / "one")
+    a, b = _results(reference), _results(out)
+    assert set(a) == set(b)
     for name in a:
         assert _numbers(a[name]) == _numbers(b[name]), name
 
@@ -112,7 +133,8 @@ def test_interrupted_batch_resumes_without_loss_or_duplicates(inputs, reference,
     os.killpg(p.pid, sig)
     p.communicate(timeout=120)
     n_done = len(list((out / "stars").glob("*/star.json")))
-    assert p.returncode == 130 and n_done < N_STARS or p.returncode == 0 and n_done == N_STARS
+    # 130 after SIGINT, 143 after SIGTERM (128 + signal number), each with a message (issue 15)
+    assert p.returncode == 128 + sig and n_done < N_STARS or p.returncode == 0 and n_done == N_STARS
     r = _batch(inputs, out, "--workers", "2", "--quiet")
     assert r.returncode == 0, r.stderr
     folders = [f for f in (out / "stars").iterdir()]
@@ -167,10 +189,10 @@ def test_scheduler_address_uses_the_same_code_path(inputs, reference, tmp_path):
     assert {n: _numbers(x) for n, x in a.items()} == {n: _numbers(x) for n, x in b.items()}
 
 
-def test_force_redoes_finished_stars(inputs, tmp_path):
-    out = tmp_path / "forced"
-    assert _batch(inputs, out, "--workers", "1", "--quiet").returncode == 0
-    first = {n: r["input_hash"] for n, r in _results(out).items()}
-    r = _batch(inputs, out, "--workers", "1", "--force")
+def test_force_redoes_finished_stars(forced_one_worker):
+    out, r, first = forced_one_worker
     assert r.returncode == 0 and f"0 already done, {N_STARS} to run" in r.stdout
-    assert {n: r["input_hash"] for n, r in _results(out).items()} == first
+    recs = _results(out)
+    assert {n: rec["input_hash"] for n, rec in recs.items()} == first
+    # every star was recomputed: none keeps the marker written into the finished copies
+    assert all(rec["results"]["trace"]["associations"][0]["encounter_fraction"] >= 0 for rec in recs.values())

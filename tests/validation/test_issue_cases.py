@@ -324,3 +324,39 @@ def test_non_dask_server_as_scheduler(tmp_path, capsys):
     assert time.perf_counter() - t0 < 30
     assert_one_line_error(status, err, "--scheduler")
     assert not (tmp_path / "p").exists()
+
+
+# --- TOA tables (value checks live in kinage/timing/toas.py) -------------------------------------------------
+
+def _toa_case(tmp_path, kind):
+    import numpy as np
+    from astropy.table import Table
+    from astropy.time import Time
+
+    from .conftest import DEMO
+
+    tab = Table.read(DEMO / "toas.ecsv", format="ascii.ecsv")
+    col = tab["mjd"]
+    m = np.asarray(col.mjd if isinstance(col, Time) else col, float)
+    new = {"mjd1e7": m - m[0] + 1e7, "negative": m - m[0] - 500.0,
+           "span1000yr": m[0] + (m - m[0]) * (365250.0 / (m[-1] - m[0])),  # 1000 yr: beyond 2100
+           "oneday": m[0] + np.linspace(0, 0.5, len(m)), "few": m[:3]}[kind]
+    out = Table()
+    out["mjd"] = new
+    out["error"] = tab["error"][: len(new)]
+    (tmp_path / "in").mkdir(exist_ok=True)
+    path = tmp_path / "in" / f"{kind}.ecsv"
+    out.write(path, format="ascii.ecsv")
+    return path
+
+
+@pytest.mark.parametrize("kind", ["mjd1e7", "negative", "span1000yr", "oneday", "few"])
+@pytest.mark.parametrize("verb", ["fit", "run"])
+def test_bad_toa_tables(tmp_path, capsys, kind, verb):
+    toas = _toa_case(tmp_path, kind)
+    scn = write_case(tmp_path / "in", scenario_dict(tables=("campaign",), campaign={"toas": toas.name}))
+    out = tmp_path / "out"
+    argv = ["fit", toas, "--scenario", scn] if verb == "fit" else ["run", scn]
+    status, _, err = run_cli([*argv, "--out", out, "--json", tmp_path / "r.json"], capsys)
+    assert_one_line_error(status, err, toas.name)
+    assert not out.exists() and not (tmp_path / "r.json").exists()
