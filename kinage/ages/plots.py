@@ -26,6 +26,17 @@ def age_axis_unit(values_yr):
     return 1e6, "Myr"
 
 
+def _plain_log_ticks(axis):
+    """Log axis labelled at 1, 2, 5 x 10^k in plain numbers, without crowded minor labels."""
+    from matplotlib.ticker import FuncFormatter, LogLocator, NullFormatter
+
+    lo, hi = axis.get_view_interval()
+    decades = np.log10(max(hi, 1e-300) / max(lo, 1e-300))
+    axis.set_major_locator(LogLocator(base=10, subs=(1.0, 2.0, 5.0) if decades < 1.6 else (1.0,)))
+    axis.set_major_formatter(FuncFormatter(lambda v, _: f"{v:g}"))
+    axis.set_minor_formatter(NullFormatter())
+
+
 def _finish(fig, path):
     if path is None:
         return fig
@@ -68,6 +79,7 @@ def plot_age_ladder(rows, path=None, title=None, ax=None):
         ax.set_xscale("log")
         if finite:
             ax.set_xlim(min(finite) / scale / 3.0, max(finite) / scale * 3.0)
+            _plain_log_ticks(ax.xaxis)
         else:
             ax.text(0.5, 0.5, "no ages available", transform=ax.transAxes, ha="center", va="center")
         ax.set_ylim(-0.7, len(rows) - 0.3)

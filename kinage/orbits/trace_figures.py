@@ -170,15 +170,15 @@ def plot_sky(result, ax=None, n_tracks=60, n_assoc_tracks=12):
     ax.set_aspect("equal")
     ax.set_xlabel(f"offset along Galactic longitude (deg; l increases to the left) from l = {lon0:.1f}°")
     ax.set_ylabel(f"offset along Galactic latitude (deg) from b = {lat0:+.1f}°")
-    ax.set_title(f"Past tracks over the last {t_show:.2g} Myr (co-rotating frame); "
-                 "circles and star: positions today; arrows point into the past")
+    ax.set_title(f"Past tracks over the last {t_show:.2g} Myr (co-rotating frame)\n"
+                 "star and circles: positions today; arrows point into the past", fontsize=7.5)
     ax.legend(loc="upper left", bbox_to_anchor=(1.01, 1.0), fontsize=6)
     return fig
 
 
 def sky_window_myr(result):
-    """How far back the sky map draws tracks, Myr: twice the favoured (or best) association's upper 68% encounter
-    time, at least 0.5 Myr, at most the integration window."""
+    """How far back the sky map draws tracks, Myr: 1.3 times the favoured (or best) association's upper 68%
+    encounter time, at least 0.3 Myr, at most the integration window."""
     max_myr = result.settings["max_age_yr"] / 1e6
     best = result.best()
     hi = None
@@ -190,7 +190,7 @@ def sky_window_myr(result):
                 break
     if hi is None:
         return max_myr
-    return float(min(max_myr, max(0.5, 2.0 * hi)))
+    return float(min(max_myr, max(0.3, 1.3 * hi)))
 
 
 def _time_arrows(ax, x, y, col):
@@ -263,12 +263,12 @@ def plot_dmin_control(result, name=None, ax=None):
     if sig:
         x = np.linspace(0, top, 300)
         ax.plot(x, separation_pdf(x, sig), color=FAVOURED_COLOR, lw=1.3,
-                label=f"common origin, Hoogerwerf et al. 2001 eq. A4 (sigma = {sig:.2g} pc)")
+                label=f"common origin (Hoogerwerf et al. 2001, A4; sigma {sig:.2g} pc)")
     ax.axvline(radius, color="0.3", ls="--", lw=0.8, label="radius criterion")
     ax.set_xlim(0, top)
     ax.set_xlabel(f"closest approach to {s['name']} d_min (pc)")
     ax.set_ylabel("fraction of draws per pc")
-    ax.legend(loc="upper right", fontsize=6)
+    ax.legend(loc="lower left", bbox_to_anchor=(0.0, 1.01), fontsize=6)
     return fig
 
 
@@ -309,7 +309,11 @@ def plot_plane_crossing(result, ax=None):
     ax.set_xlim(0, max_myr)
     ax.set_xlabel("time since the last Galactic mid-plane crossing (Myr ago)")
     ax.set_ylabel("number of draws")
-    ax.legend(loc="upper right", fontsize=6)
+    if not ok.any():
+        ax.text(0.5, 0.5, f"no draw crossed z = 0 within {max_myr:g} Myr", ha="center", va="center",
+                transform=ax.transAxes)
+    if ax.get_legend_handles_labels()[0]:
+        ax.legend(loc="lower left", bbox_to_anchor=(0.0, 1.01), fontsize=6)
     return fig
 
 

@@ -65,8 +65,36 @@ def _ellipse(centre, cov, n=200, k=1.0):
     return centre[0] + pts[0], centre[1] + pts[1]
 
 
+def _draw(ax, shown, ref, legend):
+    half = 3.0 * max(np.sqrt(np.max(np.diag(c))) for _, _, c in ref)
+    cx = np.mean([v[0] for _, v, _ in ref])
+    cy = np.mean([v[1] for _, v, _ in ref])
+    half = max(half, 1.2 * max(max(abs(v[0] - cx), abs(v[1] - cy)) for _, v, _ in ref) + half / 3)
+    for lab, v, c in shown:
+        col, ls = _STYLE.get(lab.split(" ")[0], ("0.3", "-"))
+        s = np.sqrt(np.diag(c))
+        text = f"{lab}: ({v[0]:.5g} ± {s[0]:.2g}, {v[1]:.5g} ± {s[1]:.2g}) mas/yr"
+        if np.max(s) >= _UNCONSTRAINED_MASYR:
+            text = f"{lab}: not constrained (errors {np.max(s):.2g} mas/yr, beyond the axes)"
+        x, y = _ellipse(v, c)
+        lw = {"timing": 2.6, "combined": 1.0}.get(lab.split(" ")[0], 1.4)  # combined drawn thin over a wide timing
+        ax.plot(x, y, color=col, ls=ls, lw=lw, label=text if legend else None)
+        x2, y2 = _ellipse(v, c, k=2.0)
+        ax.plot(x2, y2, color=col, ls=":", lw=0.7)
+        ax.plot([v[0]], [v[1]], marker="+", color=col, ms=6)
+    ax.set_xlim(cx - half, cx + half)
+    ax.set_ylim(cy - half, cy + half)
+    ax.set_aspect("equal")
+    ax.set_xlabel(r"$\mu_{\alpha*}$ = pm_ra_cosdec (mas/yr)")
+    ax.set_ylabel(r"$\mu_\delta$ = pm_dec (mas/yr)")
+    ax.ticklabel_format(useOffset=False)
+
+
 def plot_pm_ellipses(items, ax=None):
     """1-sigma (and 2-sigma dotted) proper-motion error ellipses, mas/yr.
+
+    When one ellipse is more than 20 times smaller than the largest shown, a
+    second panel zooms onto it (with ``ax`` given, only the wide view is drawn).
 
     Parameters
     ----------
@@ -77,35 +105,27 @@ def plot_pm_ellipses(items, ax=None):
     -------
     matplotlib.figure.Figure
     """
-    fig, ax = figure_for(ax, width="column", aspect=0.9)
     shown = [(lab, np.asarray(v, float), np.asarray(c, float)) for lab, v, c in items
              if np.all(np.isfinite(c)) and np.all(np.isfinite(v))]
     good = [it for it in shown if np.sqrt(np.max(np.diag(it[2]))) < _UNCONSTRAINED_MASYR]
     ref = good or shown
+    sizes = [np.sqrt(np.max(np.diag(c))) for _, _, c in ref]
+    zoom = ax is None and len(sizes) > 1 and max(sizes) > 20 * min(sizes)
+    if zoom:
+        from .style import new_figure
+
+        fig, (ax, ax2) = new_figure(2, 1, width="page", aspect=0.45)
+    else:
+        fig, ax = figure_for(ax, width="column", aspect=0.9)
     if not ref:
         ax.text(0.5, 0.5, "no proper-motion errors to show", ha="center", transform=ax.transAxes)
         return fig
-    half = 3.0 * max(np.sqrt(np.max(np.diag(c))) for _, _, c in ref)
-    cx = np.mean([v[0] for _, v, _ in ref])
-    cy = np.mean([v[1] for _, v, _ in ref])
-    half = max(half, 1.2 * max(max(abs(v[0] - cx), abs(v[1] - cy)) for _, v, _ in ref) + half / 3)
-    for lab, v, c in shown:
-        col, ls = _STYLE.get(lab.split(" ")[0], ("0.3", "-"))
-        s = np.sqrt(np.diag(c))
-        text = f"{lab}: ({v[0]:.4g} ± {s[0]:.2g}, {v[1]:.4g} ± {s[1]:.2g}) mas/yr"
-        if np.max(s) >= _UNCONSTRAINED_MASYR:
-            text = f"{lab}: not constrained (errors {np.max(s):.2g} mas/yr, beyond the axes)"
-        x, y = _ellipse(v, c)
-        ax.plot(x, y, color=col, ls=ls, lw=1.3, label=text)
-        x2, y2 = _ellipse(v, c, k=2.0)
-        ax.plot(x2, y2, color=col, ls=":", lw=0.7)
-        ax.plot([v[0]], [v[1]], marker="+", color=col, ms=6)
-    ax.set_xlim(cx - half, cx + half)
-    ax.set_ylim(cy - half, cy + half)
-    ax.set_aspect("equal")
-    ax.set_xlabel(r"proper motion $\mu_{\alpha*}$ = pm_ra_cosdec (mas/yr)")
-    ax.set_ylabel(r"proper motion $\mu_\delta$ = pm_dec (mas/yr)")
+    _draw(ax, shown, ref, legend=True)
     ax.set_title("1 sigma (solid, dashed) and 2 sigma (dotted)", fontsize=7)
+    if zoom:
+        small = [it for it in ref if np.sqrt(np.max(np.diag(it[2]))) <= 20 * min(sizes)]
+        _draw(ax2, shown, small, legend=False)
+        ax2.set_title("zoom onto the smallest ellipses", fontsize=7)
     fig.legend(loc="outside lower center", fontsize=5.5, ncol=1)
     return fig
 

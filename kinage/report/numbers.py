@@ -48,13 +48,27 @@ def _sig_round(x, sig=2):
     return round(x, sig - 1 - int(math.floor(math.log10(abs(x)))))
 
 
-def _decimals_for(err, sig=2):
-    """Decimals that show ``err`` with ``sig`` significant figures (may be negative)."""
-    return sig - 1 - int(math.floor(math.log10(abs(err))))
+def _decimals_for(err, sig=None):
+    """Decimals that show ``err`` rounded by the Particle Data Group rule (may be negative).
+
+    The three leading digits of the error decide: 100-354 keep two significant
+    figures, 355-949 one, 950-999 round up to 1000 and keep two (Particle Data
+    Group, Review of Particle Physics, Introduction: rounding).  ``sig`` forces
+    a number of significant figures instead.
+    """
+    exp = int(math.floor(math.log10(abs(err))))
+    if sig is not None:
+        return sig - 1 - exp
+    lead = int(abs(err) / 10.0 ** (exp - 2))
+    if lead < 355:
+        return 1 - exp
+    if lead < 950:
+        return -exp
+    return 1 - (exp + 1)
 
 
-def round_to_error(value, error, sig=2):
-    """(value text, error text) rounded to the error's precision."""
+def round_to_error(value, error, sig=None):
+    """(value text, error text) rounded to the error's precision (Particle Data Group rule by default)."""
     if error is None or not math.isfinite(error) or error <= 0:
         return fmt(value), None
     d = _decimals_for(error, sig)
@@ -69,7 +83,7 @@ def round_to_error(value, error, sig=2):
     return f"{value:.{d}f}", f"{error:.{d}f}"
 
 
-def value_error(value, error, unit="", sig=2):
+def value_error(value, error, unit="", sig=None):
     """``'12.3 ± 0.4 mas/yr'``; without an error the value alone with 3 significant figures."""
     if value is None or (isinstance(value, float) and not math.isfinite(value)):
         return "n/a"
@@ -137,7 +151,7 @@ def fmt_interval(d, unit=""):
     width = min(abs(med - lo), abs(hi - med)) or max(abs(med - lo), abs(hi - med))
     if not width:
         return fmt(med) + tail
-    d_ = _decimals_for(width, 2)
+    d_ = _decimals_for(width)
     if d_ <= 0 or abs(med) >= 1e5:
         return f"{fmt(_sig_round(med, 3))} (68%: {fmt(_sig_round(lo, 2))}–{fmt(_sig_round(hi, 2))}){tail}"
     return f"{med:.{d_}f} (68%: {lo:.{d_}f}–{hi:.{d_}f}){tail}"
