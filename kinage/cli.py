@@ -129,6 +129,8 @@ def build_parser():
     p.add_argument("--workers", type=int, default=2, metavar="N", help="local worker processes (default 2)")
     p.add_argument("--force", action="store_true", help="redo stars whose results exist")
     p.add_argument("--samples", type=int, metavar="N", help="Monte Carlo draws per star (overrides the template)")
+    p.add_argument("--no-figures", action="store_true",
+                   help="skip the population figure (stars never draw figures in a batch; saves matplotlib's start-up)")
     _common(p)
 
     p = verb("keys")

@@ -1,17 +1,29 @@
-"""Benchmark of the tracing stage; prints measured ratios side by side.
+"""Benchmark of the tracing stage; prints ratios measured side by side in one run.
 
-1. trace: N star draws x 30 associations over 10 Myr (no control runs), against
-   galpy's bare integration of the same orbits (same grid, integrator, chunks);
-2. a naive loop integrating one draw at a time (one galpy Orbit per draw,
-   closest approach per association in numpy), timed on a subset and scaled;
-3. peak memory (maxrss) of a run with 1,000,000 draws through chunking, in a
-   subprocess.
+Every timing is the wall time of a fresh subprocess, imports included, repeated
+in turn and reduced to the minimum (the machine is shared, so minima of
+interleaved runs are the fairest figures):
 
-Usage: python scripts/bench_trace.py [--quick]
+* ``kinage trace`` with the defaults (control runs included) of a scenario with
+  N star draws x 30 associations (200 draws each), 10 Myr;
+* a plain script: galpy integrating only the star's N draws at galpy's default
+  accuracy (rtol = atol = 1e-12) on a 401-point grid (chunks of 20,000);
+* the floor: galpy integrating the minimum orbits of that trace (star draws,
+  the control draws it used, association draws) at the chosen
+  ``integration_tolerance`` and ``time_steps``;
+* ``kinage trace`` with 1, 2 and all cores (OMP_NUM_THREADS).
+
+It also times, in process, one chunk's integration against the fused
+search-and-refinement kernel (pure numpy), the share a compiled kernel could
+at most remove.
+
+Usage: python scripts/bench_trace.py [--sizes 20000 100000] [--repeats 3] [--memory N]
 """
 
 import argparse
+import os
 import resource
+import shutil
 import subprocess
 import sys
 import tempfile
@@ -21,129 +33,225 @@ from pathlib import Path
 
 import numpy as np
 
-sys.path.insert(0, str(Path(__file__).resolve().parents[1]))  # run from a checkout
+ROOT = Path(__file__).resolve().parents[1]
+sys.path.insert(0, str(ROOT))  # run from a checkout
 
-from kinage import scenario_from_dict  # noqa: E402
-from kinage._galpy import import_galpy
-from kinage.orbits import trace
-from kinage.orbits.integrate import _integrate_rows, _to_galpy, galpy_potential
-from kinage.orbits.trace import CHUNK_BYTES
-from kinage.params import get
-
-STEPS = 401  # the default [trace] time_steps
 HEADER = ("name,ra,dec,distance,distance_error,pm_ra_cosdec,pm_ra_cosdec_error,pm_dec,pm_dec_error,"
           "radial_velocity,radial_velocity_error,radius,age")
+N_ASSOC, M_ASSOC, MAX_AGE = 30, 200, 10.0
+
+_GALPY_SCRIPT = r'''
+import sys, time
+import numpy as np
+import galpy.orbit, galpy.potential
+from galpy.orbit import Orbit
+from galpy.util import conversion
+t0 = time.perf_counter()
+vxvv = np.load(sys.argv[1])
+steps, tol, chunk = int(sys.argv[2]), float(sys.argv[3]), int(sys.argv[4])
+ro, vo = 8.0, 220.0
+t = np.linspace(0.0, -10.0, steps) / (1000.0 * conversion.time_in_Gyr(vo, ro))
+kw = {} if tol <= 0 else {"rtol": tol, "atol": tol}
+for a in range(0, len(vxvv), chunk):
+    o = Orbit(vxvv[a:a + chunk], ro=ro, vo=vo)
+    o.integrate(t, galpy.potential.MWPotential2014, method="dop853_c", progressbar=False, **kw)
+print("integrated", len(vxvv), "orbits in", round(time.perf_counter() - t0, 2), "s")
+'''
 
 
-def _scenario(tmp, n, n_assoc, control_runs=0, steps=None):
-    steps = STEPS if steps is None else steps
+def _kinage_command():
+    exe = shutil.which("kinage", path=str(Path(sys.executable).parent)) or shutil.which("kinage")
+    return [exe] if exe else [sys.executable, "-m", "kinage"]
+
+
+def write_case(folder, n):
+    """Scenario and association table of the benchmark case in ``folder``; returns the scenario path."""
     rng = np.random.default_rng(0)
-    rows = []
-    for i in range(n_assoc):
-        rows.append(f"Bench Group-{i},{rng.uniform(0, 360):.3f},{rng.uniform(-30, 30):.3f},{rng.uniform(200, 900):.1f},"
-                    f"20,{rng.normal(0, 5):.2f},0.3,{rng.normal(0, 5):.2f},0.3,{rng.normal(0, 15):.1f},2,20,15")
-    p = Path(tmp) / "bench_assoc.csv"
-    p.write_text("\n".join([HEADER] + rows) + "\n")
-    return scenario_from_dict({
-        "star": {"ra": 120.0, "dec": -20.0, "parallax": 2.0, "parallax_error": 0.2, "pm_ra_cosdec": -40.0,
-                 "pm_ra_cosdec_error": 1.0, "pm_dec": 25.0, "pm_dec_error": 1.0},
-        "trace": {"associations": str(p), "samples": n, "association_samples": 200, "max_age": 10.0,
-                  "time_steps": steps,
-                  "control_runs": control_runs, "seed": 1}})
+    rows = [f"Bench Group-{i},{rng.uniform(0, 360):.3f},{rng.uniform(-30, 30):.3f},{rng.uniform(200, 900):.1f},"
+            f"20,{rng.normal(0, 5):.2f},0.3,{rng.normal(0, 5):.2f},0.3,{rng.normal(0, 15):.1f},2,20,15"
+            for i in range(N_ASSOC)]
+    folder = Path(folder)
+    (folder / "bench_assoc.csv").write_text("\n".join([HEADER] + rows) + "\n")
+    path = folder / "bench.toml"
+    path.write_text(f"""[star]
+name = "Bench star"
+ra = 120.0
+dec = -20.0
+parallax = 2.0
+parallax_error = 0.2
+pm_ra_cosdec = -40.0
+pm_ra_cosdec_error = 1.0
+pm_dec = 25.0
+pm_dec_error = 1.0
+
+[trace]
+associations = "bench_assoc.csv"
+samples = {n}
+association_samples = {M_ASSOC}
+max_age = {MAX_AGE}
+potential = "MWPotential2014"
+seed = 1
+""")
+    return path
 
 
-def _galpy_setup(result):
-    """Frame, galpy potential, ro, vo, times (Myr) and times in galpy's natural units of a trace result."""
-    import_galpy()
-    from galpy.util import conversion
+def initial_conditions(scenario_path, folder):
+    """galpy initial conditions of the star draws, of the minimum orbit set, and the trace settings.
 
-    pset = get("potential", result.settings["potential"])
-    ro, vo = pset.values["ro_kpc"], pset.values["vo_kms"]
-    times = result.data["times"]
-    return (result.data["frame"], galpy_potential(pset), ro, vo, times,
-            times / (1000.0 * conversion.time_in_Gyr(vo, ro)))
+    Runs the trace once in this process (not timed) for the number of control
+    draws it uses; control draws are the star draws with turned proper motions.
+    """
+    from kinage.io.scenario import load_scenario
+    from kinage.kinematics import rotated_proper_motions
+    from kinage.orbits import trace
+    from kinage.orbits.integrate import _to_galpy
+    from kinage.pipeline import stage_seed
 
-
-def bare_galpy(result, n):
-    """galpy's integration alone of the same star + association orbits, same chunks."""
-    frame, pot, ro, vo, times, t_nat = _galpy_setup(result)
-    pos, vel = result.data["draws"].galactocentric(frame)
-    apos, avel = result.data["adraws"].galactocentric(frame)
-    cap = int(CHUNK_BYTES // (len(times) * 48))
-    t0 = time.perf_counter()
-    for p, v in ((apos, avel), (pos, vel)):
-        vxvv = _to_galpy(p, v, ro, vo)
-        for a in range(0, len(vxvv), cap):
-            _integrate_rows(vxvv[a:a + cap], t_nat, pot, "dop853_c", ro, vo)
-    return time.perf_counter() - t0
-
-
-def naive_loop(result, n_sub):
-    """One galpy Orbit per draw, then a numpy closest approach for every association; seconds per draw."""
-    frame, pot, ro, vo, times, t_nat = _galpy_setup(result)
-    from galpy.orbit import Orbit
-
-    d = result.data["draws"]
-    assoc = result.data["assoc"]
-    cols_full = np.searchsorted(-times, -assoc.times)
-    na, m = result.data["adraws"].n_assoc, result.data["adraws"].m
-    t0 = time.perf_counter()
+    scn = load_scenario(scenario_path)
     with warnings.catch_warnings():
         warnings.simplefilter("ignore")
-        for i in range(n_sub):
-            p, v = frame.to_galactocentric(d.ra_deg[i:i + 1], d.dec_deg[i:i + 1], d.distance_pc[i:i + 1],
-                                           d.pm_ra_cosdec[i:i + 1], d.pm_dec[i:i + 1], d.radial_velocity[i:i + 1])
-            o = Orbit(_to_galpy(p, v, ro, vo)[0], ro=ro, vo=vo)
-            o.integrate(t_nat, pot, method="dop853_c", progressbar=False)
-            arr = o.getOrbit()
-            x = np.stack([-arr[:, 0] * np.cos(arr[:, 5]), arr[:, 0] * np.sin(arr[:, 5]), arr[:, 3]], -1) * ro
-            for j in range(na):
-                a = assoc.pos[j * m + i % m]
-                dd = np.linalg.norm(x[cols_full] - a, axis=1)
-                np.argmin(dd)
-    return (time.perf_counter() - t0) / n_sub
+        res = trace(scn, rng=stage_seed(1, "trace"))
+    frame, draws, adraws = res.data["frame"], res.data["draws"], res.data["adraws"]
+    n_control = int(res.settings["control_draws"])
+    cdraws = rotated_proper_motions(draws, np.random.default_rng(5), frame=frame, velocity_prior=_prior(res))
+    star = _to_galpy(*draws.galactocentric(frame), 8.0, 220.0)
+    ctrl = _to_galpy(*cdraws.galactocentric(frame), 8.0, 220.0)[:n_control]
+    assoc = _to_galpy(*adraws.galactocentric(frame), 8.0, 220.0)
+    np.save(Path(folder) / "star.npy", star)
+    np.save(Path(folder) / "minimum.npy", np.concatenate([star, ctrl, assoc]))
+    return res.settings, n_control
+
+
+def _prior(res):
+    from kinage.kinematics import velocity_prior
+
+    return velocity_prior(res.settings["velocity_prior"])
+
+
+def _wall(cmd, env=None, cwd=None):
+    t0 = time.perf_counter()
+    out = subprocess.run(cmd, capture_output=True, text=True, env=env, cwd=cwd)
+    dt = time.perf_counter() - t0
+    if out.returncode != 0:
+        raise RuntimeError(f"{' '.join(map(str, cmd))} failed:\n{out.stderr[-2000:]}")
+    return dt
+
+
+def _env(cores):
+    env = dict(os.environ)
+    env.pop("OMP_NUM_THREADS", None)
+    if cores is not None:
+        env["OMP_NUM_THREADS"] = str(cores)
+    return env
+
+
+def kernel_share(scenario_path):
+    """In-process seconds of one chunk's galpy integration and of the fused search over all associations."""
+    from kinage.io.scenario import load_scenario
+    from kinage.orbits import trace
+    from kinage.orbits.chunks import BIRTH_RADII, REFINE_MIN_PC, REFINE_RADII, integrate_associations
+    from kinage.orbits.hermite import StarChunk, closest_on_grid
+    from kinage.orbits.integrate import integrate_orbits, set_thread_integrator_cores
+    from kinage.params import get
+
+    scn = load_scenario(scenario_path)
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore")
+        res = trace(scn, samples=20_000)
+    st = res.settings
+    pset = get("potential", st["potential"])
+    times, frame = res.data["times"], res.data["frame"]
+    adraws = res.data["adraws"]
+    assoc, _ = integrate_associations(*adraws.galactocentric(frame), times, pset, tolerance=st["integration_tolerance"],
+                                      method="dop853_c", rows_cap=10**6)
+    pos, vel = res.data["draws"].galactocentric(frame)
+    set_thread_integrator_cores(1)
+    t0 = time.perf_counter()
+    bundle = integrate_orbits(pos, vel, times, pset, tolerance=st["integration_tolerance"])
+    t1 = time.perf_counter()
+    star = StarChunk(bundle, 0, adraws.m, origin=assoc.origin)
+    for j in range(adraws.n_assoc):
+        r = adraws.radius_pc[j]
+        closest_on_grid(star, assoc, j, refine_below_pc=max(REFINE_RADII * r, REFINE_MIN_PC),
+                        want_position_below_pc=BIRTH_RADII * r)
+    t2 = time.perf_counter()
+    return t1 - t0, t2 - t1
 
 
 def memory_child(n):
+    from kinage.io.scenario import load_scenario
+    from kinage.orbits import trace
+
     with tempfile.TemporaryDirectory() as tmp:
-        res = trace(_scenario(tmp, n, 30), progress=False)
+        with warnings.catch_warnings():
+            warnings.simplefilter("ignore")
+            res = trace(load_scenario(write_case(tmp, n)))
     peak_mb = resource.getrusage(resource.RUSAGE_SELF).ru_maxrss / 1024.0
     print(f"PEAK_MB {peak_mb:.0f} N {res.n_samples}")
 
 
 def main():
     ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])
-    ap.add_argument("--quick", action="store_true", help="small sizes (a minute or two)")
+    ap.add_argument("--sizes", type=int, nargs="+", default=[20_000, 100_000], help="star draws per case")
+    ap.add_argument("--repeats", type=int, default=3, help="interleaved repeats (minimum taken)")
+    ap.add_argument("--scaling-size", type=int, default=20_000, help="star draws of the core-scaling runs")
+    ap.add_argument("--memory", type=int, metavar="N", help="also measure peak memory of a trace with N draws")
     ap.add_argument("--memory-child", type=int, help=argparse.SUPPRESS)
     args = ap.parse_args()
     if args.memory_child:
         memory_child(args.memory_child)
         return
-    n = 10_000 if args.quick else 100_000
-    n_mem = 100_000 if args.quick else 1_000_000
-    rows = []
-    for steps in (STEPS, 2001):
-        with tempfile.TemporaryDirectory() as tmp:
-            scn = _scenario(tmp, n, 30, steps=steps)
-            res = trace(scn, samples=200)  # warm-up (imports, potential set-up)
-            res = trace(scn)
-            t_bare = bare_galpy(res, n)
-            t0 = time.perf_counter()
-            res = trace(scn)
-            t_trace = time.perf_counter() - t0
-        t_naive = naive_loop(res, 100 if args.quick else 300) * n
-        rows.append((steps, t_trace, t_bare, t_naive))
-    out = subprocess.run([sys.executable, __file__, "--memory-child", str(n_mem)], capture_output=True, text=True)
-    peak = next((line.split()[1] for line in out.stdout.splitlines() if line.startswith("PEAK_MB")), "failed")
-    print(f"tracing benchmark: {n} star draws x 30 associations (200 draws each), 10 Myr, "
-          f"{res.settings['potential']}, dop853_c, no control runs; naive loop timed on a subset and scaled")
-    print(f"{'grid steps':>10} {'trace (s)':>10} {'bare galpy (s)':>15} {'trace/bare':>11} {'naive (s)':>10} "
-          f"{'naive/trace':>12}")
-    for steps, t_trace, t_bare, t_naive in rows:
-        print(f"{steps:10d} {t_trace:10.1f} {t_bare:15.1f} {t_trace / t_bare:11.2f} {t_naive:10.0f} "
-              f"{t_naive / t_trace:12.1f}")
-    print(f"peak memory for {n_mem} draws (default grid, chunked): {peak} MB")
-    print("targets: trace/bare <= ~1.3, naive/trace >= 20, peak < 2048 MB for 1,000,000 draws")
+    kin = _kinage_command()
+    cores_all = len(os.sched_getaffinity(0))
+    lines = []
+    with tempfile.TemporaryDirectory() as tmp:
+        script = Path(tmp) / "plain_galpy.py"
+        script.write_text(_GALPY_SCRIPT)
+        for n in args.sizes:
+            folder = Path(tmp) / f"n{n}"
+            folder.mkdir()
+            scn = write_case(folder, n)
+            settings, n_control = initial_conditions(scn, folder)
+            steps, tol = int(settings["time_steps"]), float(settings["integration_tolerance"])
+            runs = {"trace": [], "plain": [], "floor": []}
+            for _ in range(args.repeats):
+                runs["trace"].append(_wall(kin + ["trace", str(scn), "--quiet"], env=_env(None), cwd=folder))
+                runs["plain"].append(_wall([sys.executable, str(script), str(folder / "star.npy"), "401", "0",
+                                            "20000"], env=_env(None)))
+                runs["floor"].append(_wall([sys.executable, str(script), str(folder / "minimum.npy"), str(steps),
+                                            str(tol), "200000"], env=_env(None)))
+            t = {k: min(v) for k, v in runs.items()}
+            lines.append((n, n_control, steps, tol, t))
+        scaling = []
+        folder = Path(tmp) / "scaling"
+        folder.mkdir()
+        scn = write_case(folder, args.scaling_size)
+        for cores in sorted({1, 2, cores_all}):
+            scaling.append((cores, min(_wall(kin + ["trace", str(scn), "--quiet"], env=_env(cores), cwd=folder)
+                                       for _ in range(max(2, args.repeats - 1)))))
+        t_int, t_search = kernel_share(scn)
+    print(f"tracing benchmark: N star draws x {N_ASSOC} associations ({M_ASSOC} draws each), {MAX_AGE:g} Myr, "
+          f"MWPotential2014, dop853_c; wall times of fresh processes (imports included), minimum of "
+          f"{args.repeats} interleaved runs; {cores_all} cores")
+    print(f"{'N':>8} {'controls':>8} {'grid':>5} {'tol':>6} {'kinage trace':>13} {'plain galpy':>12} {'ratio':>6} "
+          f"{'floor':>7} {'ratio':>6}")
+    for n, nc, steps, tol, t in lines:
+        print(f"{n:8d} {nc:8d} {steps:5d} {tol:6.0e} {t['trace']:12.2f}s {t['plain']:11.2f}s "
+              f"{t['trace'] / t['plain']:6.2f} {t['floor']:6.2f}s {t['trace'] / t['floor']:6.2f}")
+    print("  plain galpy: the star's N draws only, galpy default accuracy (1e-12), 401-point grid; "
+          "floor: star + control + association draws at the chosen tolerance and grid")
+    print("  targets: trace / plain galpy <= 1.0, trace / floor <= 1.5")
+    base = scaling[0][1]
+    print(f"core scaling, kinage trace, {args.scaling_size} draws: " +
+          ", ".join(f"{c} core{'s' if c > 1 else ''} {t:.2f} s ({base / t:.2f}x)" for c, t in scaling))
+    print(f"fused search + Hermite refinement (pure numpy), 20,000 draws x {N_ASSOC} associations, one core: "
+          f"{t_search:.2f} s against {t_int:.2f} s of galpy integration ({t_search / t_int:.2f}x); "
+          "no compiled kernel: it could remove at most this share")
+    if args.memory:
+        out = subprocess.run([sys.executable, __file__, "--memory-child", str(args.memory)], capture_output=True,
+                             text=True)
+        peak = next((ln.split()[1] for ln in out.stdout.splitlines() if ln.startswith("PEAK_MB")), "failed")
+        print(f"peak memory of a trace with {args.memory} draws (chunked): {peak} MB")
 
 
 if __name__ == "__main__":

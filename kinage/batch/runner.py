@@ -298,7 +298,8 @@ def _run_batch_locked(args, out, as_completed, write_summary):
     finally:
         signal.signal(signal.SIGTERM, previous)
     timing["cluster_and_tasks_s"] = time.perf_counter() - t_start
-    files = write_summary(plan.out_dir, seed=plan.seed, timing=timing)
+    files = write_summary(plan.out_dir, seed=plan.seed, timing=timing,
+                          figures=not getattr(args, "no_figures", False))
     failed = [r for r in records if r.get("status") != "ok"]
     say(f"done: {len(records) - len(failed)} ok, {len(failed)} failed; summary in {files[0]}")
     for r in failed:

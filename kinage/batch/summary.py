@@ -134,14 +134,16 @@ def _population_figure(table, path):
         return save_figure(plot_population(table), path)
 
 
-def write_summary(out_dir, seed=None, timing=None):
-    """Write ``summary.ecsv``, ``population.png`` and ``batch.json`` into ``out_dir``."""
+def write_summary(out_dir, seed=None, timing=None, figures=True):
+    """Write ``summary.ecsv``, ``population.png`` (unless ``figures`` is False) and ``batch.json`` into ``out_dir``."""
     out_dir = Path(out_dir)
     records = collect_records(out_dir)
     table = summary_table(records)
     with atomic_path(out_dir / "summary.ecsv") as tmp:
         table.write(tmp, format="ascii.ecsv", overwrite=True)
-    files = [out_dir / "summary.ecsv", _population_figure(table, out_dir / "population.png")]
+    files = [out_dir / "summary.ecsv"]
+    if figures:
+        files.append(_population_figure(table, out_dir / "population.png"))
     n_failed = int(np.sum(table["status"] != "ok")) if len(table) else 0
     files.append(write_json(out_dir / "batch.json",
                             {"n_stars": len(table), "n_failed": n_failed, "timing": timing or {},
