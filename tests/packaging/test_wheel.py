@@ -63,4 +63,10 @@ def test_wheel_runs_demo_and_batch_from_an_empty_folder(tmp_path):
           else str(site / "kinage" / "data_demo" / "population.ecsv"),
           "--scenario", str(site / "kinage" / "data_demo" / "population_template.toml"),
           "--out", "population", "--samples", "20", "--workers", "1", "--quiet"], cwd=empty, timeout=240)
-    assert any((empty / "population").iterdir())
+    made = {p.name for p in (empty / "population").iterdir()}
+    assert {"batch.json", "summary.ecsv"} <= made, made
+    batch = json.loads((empty / "population" / "batch.json").read_text())
+    import astropy.table
+
+    stars = astropy.table.Table.read(site / "kinage" / "data_demo" / "population.ecsv", format="ascii.ecsv")
+    assert batch["n_stars"] == len(stars) and batch["n_failed"] == 0
