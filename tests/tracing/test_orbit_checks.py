@@ -28,7 +28,17 @@ def test_force_free_closest_approach_matches_closed_form(which, null_potential_s
     s = integrate_orbits(ps, vs, times, pset)
     a = integrate_orbits(pa, va, times, pset)
     res = _closest(s, a, coarse_columns(len(times)))
-    d_ref, tau_ref = straight_line_closest_approach((ps - pa) * 1000, (vs - va) * KMS_TO_PCMYR, 10.0)
+    # closed form typed here (not kinage's straight-line helper); backwards in time, so t in [-10, 0] Myr:
+    # t* = clip(-dr.dv / |dv|^2, -10, 0), tau = -t*; velocity km/s -> pc/Myr from astropy units
+    import astropy.units as u
+
+    dr = (ps - pa) * 1000.0
+    dv = (vs - va) * (1 * u.km / u.s).to_value(u.pc / u.Myr)
+    t_star = np.clip(-np.sum(dr * dv, axis=1) / np.sum(dv * dv, axis=1), -10.0, 0.0)
+    d_ref = np.linalg.norm(dr + dv * t_star[:, None], axis=1)
+    tau_ref = -t_star
+    d_own, tau_own = straight_line_closest_approach(dr, dv, 10.0)  # kinage's helper agrees too
+    np.testing.assert_allclose(d_own, d_ref, rtol=0, atol=1e-9)
     assert np.max(np.abs(res["dmin_pc"] - d_ref)) < 1e-6
     interior = (tau_ref > 1e-6) & (tau_ref < 10 - 1e-6)
     assert interior.sum() > 50
