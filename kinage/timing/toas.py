@@ -212,7 +212,13 @@ def _parse_times(col, scale, where):
     bad = np.flatnonzero(~np.isfinite(mjd))
     if bad.size:
         raise InputError(f"{where} row {bad[0] + 1}, column 'mjd'", "must be finite")
-    t = t.tdb
+    import warnings
+
+    from .geometry import iers_offline
+
+    with iers_offline(), warnings.catch_warnings():  # leap seconds from astropy's bundled table, no download
+        warnings.filterwarnings("ignore", module="erfa")
+        t = t.tdb
     t.format = "mjd"
     t.out_subfmt = "*"  # full precision stays in the two-part Time; .mjd gives floats (write_toas writes text)
     return t
