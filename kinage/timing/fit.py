@@ -48,7 +48,7 @@ from .forecast_result import TIMING_ASSUMPTIONS
 from .gls import gls_step
 from .model import TimeGrid, TimingModel
 from .priors import prior_solution
-from .reference import TOAReference, resolve_reference
+from .reference import TOAReference, resolve_reference, timing_assumptions
 from .toas import check_fit_table, frequency_column, read_toas, site_times, validate_toas
 
 __all__ = ["fit_toas", "FitResult", "STEP_TOLERANCE"]
@@ -323,6 +323,8 @@ def _result(model, grid, theta, pulses, noise, method, c, epoch, tab, history, c
         iterations=len(history), mjd=mjd, residuals_s=resid, errors_s=np.sqrt(noise.white_var),
         signature_s=sig_toa, signature_grid=(dense, dsig), final_step_sigma=float(history[-1][1]),
         reference=reference, warnings=warnings,
+        assumptions=timing_assumptions(reference, grid.frequency_mhz is not None) + [
+            "generalised least squares with fixed noise parameters (Coles et al. 2011, MNRAS 418, 561)"],
     )
 
 

@@ -28,7 +28,7 @@ import numpy as np
 
 from ..errors import InputError
 
-__all__ = ["REFERENCE_KINDS", "REFERENCE_KEYS", "TOAReference", "resolve_reference"]
+__all__ = ["REFERENCE_KINDS", "REFERENCE_KEYS", "TOAReference", "resolve_reference", "timing_assumptions"]
 
 REFERENCE_KINDS = ("geocentre", "site", "barycentre")
 #: key -> default unit (None: a string)
@@ -226,3 +226,18 @@ def _ephemeris(value, campaign):
         raise InputError("[campaign] ephemeris", "reading a JPL ephemeris file needs the 'jplephem' package "
                          "(pip install jplephem), or use 'builtin'") from None
     return str(path)
+
+
+def timing_assumptions(reference, dispersion=False):
+    """The assumption sentences of a simulation or fit with this TOA reference."""
+    from .forecast_result import TIMING_ASSUMPTIONS
+
+    eph = ("astropy's built-in ephemeris (ERFA epv00)" if reference.ephemeris == "builtin"
+           else f"the JPL ephemeris {Path(reference.ephemeris).name} read through astropy")
+    out = [f"Roemer and parallax delays from the observer's barycentric position in {eph} "
+           "(Lorimer & Kramer 2005, Handbook of Pulsar Astronomy, ch. 8)",
+           f"TOAs referred to the {reference.describe()} in TDB; solar Shapiro delay included"
+           + ("; dispersion delay at the barycentric frequency" if dispersion else "; no dispersion delay")
+           + ("; the user's barycentring assumed to have removed the Roemer and Shapiro delays for the stated "
+              "position" if reference.kind == "barycentre" else "")]
+    return out + [a for a in TIMING_ASSUMPTIONS if not a.startswith(("Roemer", "TOAs referred"))]

@@ -31,7 +31,7 @@ from .forecast_result import TIMING_ASSUMPTIONS
 from . import precision
 from .model import ASTRO_PARAMETERS, TimeGrid, TimingModel
 from .plan import make_plan
-from .reference import resolve_reference
+from .reference import resolve_reference, timing_assumptions
 from .toas import write_toas
 
 __all__ = ["simulate_toas", "SimulationResult"]
@@ -189,7 +189,7 @@ def simulate_toas(scenario, *, rng=None, inject=None, frequency_mhz=None):
     tab.meta.update(reference.to_meta())
     motion = inputs.expected_proper_motion(scenario) if star.get("pm_ra_cosdec") is None else None
     sets = list(motion.parameter_sets) if motion is not None else []
-    return SimulationResult(tab, vals, seed, sets)
+    return SimulationResult(tab, vals, seed, sets, timing_assumptions(reference, freq_col is not None))
 
 
 def _moved(grid, hi, lo, dt, reference):
