@@ -100,6 +100,11 @@ def _earth_sun_direct(jd1, jd2, ephemeris):
         vel = pvb["v"] * _AU_M / _DAY_S / _C_M_S
         sun = (pvb["p"] - pvh["p"]) * _AU_S
         return pos, vel, sun
+    return _earth_sun_astropy(jd1, jd2, ephemeris)
+
+
+def _earth_sun_astropy(jd1, jd2, ephemeris):
+    """The same through astropy's ``get_body_barycentric(_posvel)`` with a named ephemeris (a JPL file path)."""
     import astropy.units as u
     from astropy.coordinates import get_body_barycentric, get_body_barycentric_posvel, solar_system_ephemeris
     from astropy.time import Time

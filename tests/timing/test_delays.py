@@ -129,3 +129,15 @@ def test_site_reference_moves_the_observer_by_up_to_21_ms():
     diff = model.delay(geo, np.zeros(5)) - model.delay(cen, np.zeros(5))
     radius = (const.R_earth / const.c).to_value(u.s)
     assert np.ptp(diff) == pytest.approx(2 * radius, rel=0.01)
+
+
+def test_jpl_ephemeris_route_through_astropy_matches_the_builtin_route():
+    # a JPL file is read by astropy's get_body_barycentric(_posvel) under solar_system_ephemeris.set(path); no
+    # kernel is available offline, so the same astropy route is checked with astropy's 'builtin' ephemeris
+    from kinage.timing.geometry import _earth_sun_astropy, _earth_sun_direct
+
+    t = Time(60800, format="mjd", scale="tdb") + np.linspace(0, 900, 25) * u.d
+    a = _earth_sun_astropy(t.jd1, t.jd2, "builtin")
+    b = _earth_sun_direct(t.jd1, t.jd2, "builtin")
+    for x, y in zip(a, b):
+        np.testing.assert_allclose(x, y, rtol=0, atol=1e-12)
