@@ -1,27 +1,20 @@
-"""Notebook display for result objects: ``plot(kind=None, ax=None)``, a short ``repr`` and ``_repr_html_``.
+"""Notebook display for result objects: ``plot(kind=None, ax=None)``, a short ``repr``, ``_repr_html_``, ``table()``.
 
-Result classes inherit :class:`ResultDisplay` and name their figures in
-``_plot_kinds`` (kind -> ``"module:function"`` of a drawing function owned by
-the stage, or ``"adapter:name"`` for one of the small adapters below) and their
-key numbers in ``_key_numbers()``.
+Result classes inherit :class:`ResultDisplay` (with ``@dataclass(repr=False)``).  Their figures are named
+in :data:`PLOTS` (kind -> ``"module:function"`` of a drawing function owned by the stage, or
+``"adapter:name"`` for a small adapter below), their key numbers in :data:`KEY_NUMBERS` and their main
+table in :data:`TABLES`, all by class name, so the result modules only name the mixin.
 
-Drawing functions follow one contract: ``func(result, path=None, *, ax=None)``
-(stage-specific positional arguments allowed) draws into ``ax`` when given
-(otherwise a new figure), saves a PNG only when ``path`` is given, and returns
-the Figure.  For a drawing function that still takes only ``(result, path)``
-and uses :func:`kinage.report.style.new_figure` / ``save_figure``, this module
-redirects those two helpers while it runs, so the figure is drawn into the
-given Axes (a multi-panel figure splits the Axes' area) and returned instead of
-saved.  File writing stays in ``write_products``.
+Drawing functions follow one contract: ``func(result, ..., ax=None)`` draws into ``ax`` when given
+(otherwise into a new figure) and returns the Figure; a multi-panel figure may take ``fig=`` instead
+(a figure or subfigure to fill).  They never save: file writing stays in ``write_products``.  Nothing
+here selects a matplotlib backend.
 """
 
 import importlib
 import inspect
-import threading
 
 __all__ = ["ResultDisplay", "draw", "scenario_repr", "scenario_html"]
-
-_LOCK = threading.RLock()
 
 
 def _table(self):
@@ -127,11 +120,6 @@ def _available(spec):
 def _resolve(spec):
     if callable(spec):
         return spec
-    if isinstance(spec, tuple):  # alternatives, first available wins
-        for alt in spec[:-1]:
-            if _available(alt):
-                return _resolve(alt)
-        return _resolve(spec[-1])
     mod, _, name = spec.partition(":")
     if mod == "adapter":
         return globals()[f"_adapt_{name}"]
@@ -169,9 +157,7 @@ def draw(spec, *args, ax=None, **kwargs):
             ax.remove()
         out = func(*args, fig=target, **kwargs)
         return top if top is not None else _figure_of(out, None)
-    with _redirect(func, ax) as box:
-        out = func(*args, **({"path": None} if "path" in params else {}), **kwargs)
-    return box.get("fig") or _figure_of(out, ax)
+    raise TypeError(f"{func.__module__}.{func.__name__} takes neither ax= nor fig=; it cannot draw into an Axes")
 
 
 def _figure_of(out, ax):
@@ -186,107 +172,10 @@ def _figure_of(out, ax):
     raise TypeError("the drawing function returned no Figure")
 
 
-class _redirect:
-    """Temporarily route the module's new_figure / save_figure through the given Axes."""
-
-    def __init__(self, func, ax):
-        self.module = inspect.getmodule(func)
-        self.ax = ax
-        self.box = {}
-        self.saved = {}
-
-    def __enter__(self):
-        _LOCK.acquire()
-        g = vars(self.module)
-        for name in ("new_figure", "save_figure"):
-            if name in g:
-                self.saved[name] = g[name]
-        original_new = self.saved.get("new_figure")
-        ax, box = self.ax, self.box
-
-        def new_figure(ncols=1, nrows=1, width="column", aspect=0.75, **kw):
-            if ax is None:
-                fig, axes = original_new(ncols, nrows, width=width, aspect=aspect, **kw)
-            else:
-                fig, axes = ax.figure, _split(ax, nrows, ncols, **kw)
-            box["fig"] = fig
-            return fig, axes
-
-        def save_figure(fig, path=None):
-            box["fig"] = fig
-            return fig
-
-        if original_new is not None:
-            g["new_figure"] = new_figure
-        if "save_figure" in self.saved:
-            g["save_figure"] = save_figure
-        return box
-
-    def __exit__(self, *exc):
-        g = vars(self.module)
-        g.update(self.saved)
-        _LOCK.release()
-        return False
-
-
-def _split(ax, nrows, ncols, sharex=False, sharey=False, **_):
-    """Axes for an nrows x ncols figure inside the area of ``ax`` (``ax`` itself when 1 x 1)."""
-    import numpy as np
-
-    if nrows * ncols == 1:
-        return ax
-    fig = ax.figure
-    spec = ax.get_subplotspec() if hasattr(ax, "get_subplotspec") else None
-    axes = []
-    if spec is not None:
-        grid = spec.subgridspec(nrows, ncols)
-        ax.remove()
-        for i in range(nrows):
-            for j in range(ncols):
-                share = {"sharex": axes[0]} if sharex and axes else {}
-                if sharey and axes:
-                    share["sharey"] = axes[0]
-                axes.append(fig.add_subplot(grid[i, j], **share))
-    else:  # a free-standing Axes: divide its box
-        x0, y0, w, h = ax.get_position().bounds
-        ax.remove()
-        for i in range(nrows):
-            for j in range(ncols):
-                rect = (x0 + j * w / ncols, y0 + (nrows - 1 - i) * h / nrows, w / ncols * 0.9, h / nrows * 0.85)
-                axes.append(fig.add_axes(rect))
-    arr = np.array(axes, dtype=object).reshape(nrows, ncols)
-    return arr.ravel() if 1 in (nrows, ncols) else arr
-
-
 # ------------------------------------------------------------------ adapters
 def _adapter(func):
     func._kinage_adapter = True
     return func
-
-
-@_adapter
-def _adapt_trace(result, kind, ax=None, name=None):
-    """Trace figures drawn by kinage.orbits.products (the association: ``name`` or the best one)."""
-    products = importlib.import_module("kinage.orbits.products")
-    names = {"sky": ("sky_figure", "_sky"), "dmin_tau": ("dmin_tau_figure", "_dmin_tau"),
-             "tau_hist": ("tau_hist_figure", "_tau_hist"), "birth": ("birth_figure", "_birth_xyz")}[kind]
-    func = next((getattr(products, n) for n in names if hasattr(products, n)), None)
-    if func is None:
-        raise NotImplementedError(f"kinage.orbits.products has no figure for {kind!r}")
-    args = [result]
-    if kind != "sky":
-        s = result.best() if name is None else next((a for a in result.associations if a["name"] == name), None)
-        if s is None:
-            from .errors import InputError
-
-            raise InputError("name", f"no association {name!r} in this result" if name else "no associations")
-        args.append(s)
-    return draw(func, *args, ax=ax)
-
-
-for _kind in ("sky", "dmin_tau", "tau_hist", "birth"):
-    globals()[f"_adapt_trace_{_kind}"] = _adapter(
-        lambda result, ax=None, name=None, _k=_kind: _adapt_trace(result, _k, ax=ax, name=name))
 
 
 @_adapter
@@ -397,12 +286,12 @@ def _ages_table(r):
 PLOTS = {
     "ForecastResult": {"baseline": "kinage.timing.plots:forecast_figure", "plan": "kinage.timing.plots:plan_figure"},
     "FitResult": {"residuals": "kinage.timing.plots:residual_figure"},
-    "TraceResult": {"sky": ("kinage.orbits.trace_figures:plot_sky", "adapter:trace_sky"),
-                    "dmin_tau": ("kinage.orbits.trace_figures:plot_dmin_tau", "adapter:trace_dmin_tau"),
+    "TraceResult": {"sky": "kinage.orbits.trace_figures:plot_sky",
+                    "dmin_tau": "kinage.orbits.trace_figures:plot_dmin_tau",
                     "dmin_control": "kinage.orbits.trace_figures:plot_dmin_control",
-                    "tau_hist": ("kinage.orbits.trace_figures:plot_tau_hist", "adapter:trace_tau_hist"),
+                    "tau_hist": "kinage.orbits.trace_figures:plot_tau_hist",
                     "plane_crossing": "kinage.orbits.trace_figures:plot_plane_crossing",
-                    "birth": ("kinage.orbits.trace_figures:plot_birth_xyz", "adapter:trace_birth")},
+                    "birth": "kinage.orbits.trace_figures:plot_birth_xyz"},
     "AgesResult": {"ladder": "adapter:ages_ladder", "cooling": "adapter:ages_cooling"},
 }
 KEY_NUMBERS = {"ForecastResult": _forecast_numbers, "FitResult": _fit_numbers, "SimulationResult": _simulation_numbers,

@@ -129,6 +129,14 @@ def test_trace_against_an_in_memory_qtable_needs_no_file(tmp_path, monkeypatch):
     assert isinstance(t, QTable) and t["dmin_median"].unit == u.pc
     samples = res.kinematic_age_samples(favoured_only=False)
     assert samples.unit == u.yr
+    import matplotlib.pyplot as plt
+
+    kinds = res.plot_kinds()
+    assert kinds[0] == "sky" and "dmin_tau" in kinds
+    for kind in kinds:  # every figure draws into the Axes it is given
+        fig, ax = plt.subplots()
+        assert res.plot(kind, ax=ax) is fig, kind
+        plt.close(fig)
     with pytest.raises(kinage.InputError, match="associations"):
         kinage.trace(kinage.scenario_from_dict({"star": _star(), "trace": small}))
 
