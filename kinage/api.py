@@ -51,7 +51,7 @@ def load_scenario(path, **kwargs):
     return _load(path, **kwargs)
 
 
-def _plain(value, key):
+def _plain(value, key, where=""):
     """A Python value the scenario reader understands, from numpy / astropy objects."""
     import astropy.units as u
     import numpy as np
@@ -74,11 +74,11 @@ def _plain(value, key):
             unit = u.solMass if key.name == "masses" else u.dimensionless_unscaled
             return [float(x) for x in np.atleast_1d(value.to_value(unit))]
         if key.kind == "float" and value.isscalar:
-            unit = 1 / u.yr if key.name == "visits_per_year" else u.dimensionless_unscaled
+            unit = u.Unit("1 / yr") if key.name == "visits_per_year" else u.dimensionless_unscaled
             try:
                 return float(value.to_value(unit))
             except u.UnitConversionError:
-                raise InputError(f"[{key.name}]", f"expected a number in {unit.to_string() or 'dimensionless units'}"
+                raise InputError(where or key.name, f"expected a number in {unit.to_string() or 'dimensionless units'}"
                                  f" (got {value})") from None
         if key.kind == "int" and value.isscalar and value.unit == u.dimensionless_unscaled:
             return int(value.value)
@@ -140,7 +140,7 @@ def scenario_from_dict(mapping, base_dir=".", source=None, **kwargs):
                     raw[table][name] = _PLACEHOLDER
                     continue
                 base = name[:-len("_error")] if name.endswith("_error") and name not in keys else name
-                raw[table][name] = _plain(value, keys.get(base))
+                raw[table][name] = _plain(value, keys.get(base), f"[{table}] {name}")
         else:
             raw[table] = content
     allow = set(kwargs.pop("allow_missing", ()))
