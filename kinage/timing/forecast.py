@@ -20,7 +20,7 @@ motion) at the plan's baseline.
 import numpy as np
 
 from ..astrometry import AstrometricSolution
-from ..errors import InputError
+from ..errors import ConvergenceError, InputError
 from ..progress import progress_bar
 from . import inputs
 from .gls import covariance_from_fisher, fisher_matrix
@@ -188,6 +188,22 @@ def forecast(scenario, *, progress=False, method="woodbury"):
         schedules = compare_schedules(c, model, plan, cov, errors, motion, window, ra, dec, epoch, method,
                                       np.nan_to_num(astro0))
         warnings += schedule_warnings(schedules, plan.schedule)
+        if _even_is_better(schedules, plan.schedule):
+            # the optimiser works with white noise; with red or added noise the even dates may win: keep those
+            from dataclasses import replace
+
+            name, what = plan.schedule, _SCHEDULE_AIM[plan.schedule]
+            even = make_plan(c, ra, dec, window=window, schedule="even")
+            plan = replace(even, schedule=name, notes=even.notes + [
+                f"with this noise model the even plan gives the smaller {what}, so its dates are used"])
+            warnings.append(plan.notes[-1])
+            epoch = star.get("epoch") or _midpoint(plan.mjd)
+            grid = TimeGrid.from_times(plan.times, epoch)
+            cov = astrometric_covariance(model, grid, errors, c, method=method, astro=np.nan_to_num(astro0))
+            solution = AstrometricSolution(epoch, ra, dec, astro0, cov, source="forecast")
+            sig_pm = pm_error_along(cov, motion.direction)
+            pm_sig = motion.pm_masyr / sig_pm if motion.pm_masyr is not None else None
+            schedules[name] = dict(schedules["even"])
 
     sweep = _baseline_sweep(model, c, star, sweep_mjd, sweep_nominal, errors * sweep_scale, motion, vpy, max_b,
                             progress)
@@ -288,7 +304,10 @@ def _reverse(model, grid, errors, c, motion, sig_pm, target_sig, plan):
     out = {"target_pm_error_masyr": float(target), "baseline_yr": plan.span_yr}
 
     def pm_err(k):
-        cov = astrometric_covariance(model, grid, errors * k, c)
+        try:
+            cov = astrometric_covariance(model, grid, errors * k, c)
+        except ConvergenceError:  # tiny white errors under strong red noise: numerically singular
+            return np.inf
         return pm_error_along(cov, motion.direction)
 
     k = target / sig_pm  # exact when the noise is white and proportional to the TOA errors
@@ -355,6 +374,17 @@ def compare_schedules(c, model, plan, cov, errors, motion, window, ra, dec, epoc
             "mjd": [float(m) for m in p.mjd],
         }
     return out
+
+
+_SCHEDULE_AIM = {"parallax": "parallax error", "motion": "proper-motion error along the motion"}
+_SCHEDULE_KEY = {"parallax": "parallax_error_mas", "motion": "pm_error_along_motion_masyr"}
+
+
+def _even_is_better(schedules, current):
+    """Whether the even plan beats the optimised one at its own aim under the full noise model."""
+    key = _SCHEDULE_KEY.get(current)
+    ev, mine = schedules.get("even", {}), schedules.get(current, {})
+    return key is not None and key in ev and key in mine and ev[key] < mine[key] * (1 - 1e-6)
 
 
 def _date_ranges(mjd):
