@@ -31,6 +31,7 @@ import numpy as np
 from scipy.integrate import quad, solve_ivp
 from scipy.optimize import brentq
 
+from .._units import quantity_edge
 from ..errors import InputError, ModelRangeError
 from ..params import ParameterSet, get
 from .envelope import ENVELOPES, TB_MAX_K, TB_MIN_K, TS_MIN_K, star_structure
@@ -106,6 +107,7 @@ class CoolingModel:
         return c0, lmu, self.direct_urca_erg_s * frac
 
 
+@quantity_edge(None, b0_gauss="G", decay_timescale_yr="yr", radius_km="km")
 def field_decay_heating(b0_gauss, decay_timescale_yr, radius_km=12.0, efficiency=1.0):
     """Heating rate from exponential field decay, as a function of time.
 
@@ -116,10 +118,10 @@ def field_decay_heating(b0_gauss, decay_timescale_yr, radius_km=12.0, efficiency
 
     Parameters
     ----------
-    b0_gauss : float, G
+    b0_gauss : float (G) or Quantity [magnetic flux density]
         Initial field.
-    decay_timescale_yr : float, yr
-    radius_km : float, km
+    decay_timescale_yr : float (yr) or Quantity [time]
+    radius_km : float (km) or Quantity [length]
     efficiency : float
         Fraction of the released energy that heats the core, in [0, 1].
 

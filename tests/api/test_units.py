@@ -14,7 +14,7 @@ import pytest
 
 from kinage import UnitInputError
 from kinage.ages import envelope, field_decay, spindown
-from kinage.ages.cooling import cooling_curve
+from kinage.ages.cooling import cooling_curve, field_decay_heating
 from kinage.errors import InputError
 
 cooling_age_mod = importlib.import_module("kinage.ages.cooling_age")  # kinage.ages.cooling_age is also a function
@@ -114,9 +114,18 @@ def test_cooling_age_and_curve_with_quantities():
     np.testing.assert_allclose(c2.T_inf_K, c1.T_inf_K, rtol=1e-9)
 
 
+def test_field_decay_heating_with_quantities():
+    # 1e13 G = 1e9 T (1 T = 1e4 G, SI definition); same heating rate from plain and Quantity arguments
+    plain = field_decay_heating(1e13, 1e6, 12.0, 0.5)
+    q = field_decay_heating(1e9 * u.T, 1 * u.Myr, 12000 * u.m, 0.5)
+    assert q(3e5) == pytest.approx(plain(3e5), rel=1e-12)
+    with pytest.raises(UnitInputError):
+        field_decay_heating(1e13 * u.km, 1e6)
+
+
 def test_every_physical_function_is_covered():
-    covered = {c[0].__name__ for c in CASES} | {"star_structure", "cooling_age"}
-    for mod in (spindown, field_decay, envelope, cooling_age_mod):
+    covered = {c[0].__name__ for c in CASES} | {"star_structure", "cooling_age", "field_decay_heating"}
+    for mod in (spindown, field_decay, envelope, cooling_age_mod, importlib.import_module("kinage.ages.cooling")):
         for name in mod.__all__:
             obj = getattr(mod, name)
             if inspect.isfunction(obj) and hasattr(obj, "__kinage_units__"):
