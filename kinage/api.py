@@ -268,7 +268,15 @@ def simulate(scenario, *, rng=None, **kwargs):
     return _warn(simulate_toas(as_scenario(scenario), rng=rng, **kwargs), FitWarning)
 
 
-def fit(toas, scenario, **kwargs):
+def _looks_like_scenario(obj):
+    from .io.scenario import Scenario
+
+    if isinstance(obj, (Scenario, dict)):
+        return True
+    return isinstance(obj, (str, Path)) and Path(obj).suffix.lower() == ".toml"
+
+
+def fit(toas, scenario=None, **kwargs):
     """Fit arrival times (:func:`kinage.timing.fit_toas`).
 
     Parameters
@@ -277,6 +285,8 @@ def fit(toas, scenario, **kwargs):
         A TOA file (ECSV / CSV) or a table with columns ``mjd`` and ``error``.
     scenario : Scenario, path or dict
         ``[star]`` starting values and spin; ``[campaign]`` noise and priors.
+        ``fit(scenario)`` alone fits the scenario's ``[campaign] toas``; the two
+        arguments may also come in the other order.
 
     Returns
     -------
@@ -284,7 +294,14 @@ def fit(toas, scenario, **kwargs):
     """
     from .timing import fit_toas
 
-    return _warn(fit_toas(toas, as_scenario(scenario), **kwargs), FitWarning)
+    if scenario is None or (_looks_like_scenario(toas) and not _looks_like_scenario(scenario)):
+        toas, scenario = scenario, toas
+    scn = as_scenario(scenario)
+    if toas is None:
+        toas = scn.campaign.get("toas") if scn.campaign is not None else None
+        if toas is None:
+            raise InputError("toas", "give a TOA table (path or astropy Table) or [campaign] toas")
+    return _warn(fit_toas(toas, scn, **kwargs), FitWarning)
 
 
 def _with_associations(scn, associations):
@@ -346,7 +363,8 @@ def trace(scenario, associations=None, *, solution=None, rng=None, samples=None,
     return _warn(result, TraceWarning)
 
 
-def compare_ages(scenario, trace_result=None, *, kinematic_age=None, rng=None, **kwargs):
+def compare_ages(scenario, trace_result=None, *, kinematic_age=None, kinematic_age_samples=None, rng=None,
+                 **kwargs):
     """Compare the kinematic, spin-down and cooling ages (:func:`kinage.ages.compare_ages`).
 
     Parameters
@@ -356,8 +374,8 @@ def compare_ages(scenario, trace_result=None, *, kinematic_age=None, rng=None, *
     trace_result : TraceResult, optional
         Its favoured association's encounter times give the kinematic age
         (else its plane-crossing times).
-    kinematic_age : Quantity or ndarray (yr), optional
-        Kinematic-age samples (a scalar is one exact value) instead.
+    kinematic_age, kinematic_age_samples : Quantity or ndarray (yr), optional
+        Kinematic-age samples (a scalar is one exact value) instead (either name).
     rng : numpy.random.Generator | int | None
 
     Returns
@@ -371,6 +389,8 @@ def compare_ages(scenario, trace_result=None, *, kinematic_age=None, rng=None, *
     from .pipeline import kinematic_age_input
 
     scn = as_scenario(scenario)
+    if kinematic_age is None:
+        kinematic_age = kinematic_age_samples
     if kinematic_age is not None:
         samples = np.atleast_1d(np.asarray(to_plain(kinematic_age, "yr", "kinematic_age"), float))
         label = kwargs.pop("kinematic_age_source", "given to kinage.compare_ages")
