@@ -5,6 +5,7 @@ import re
 import shutil
 import subprocess
 
+import numpy as np
 import pytest
 
 from kinage.cli import main
@@ -53,23 +54,83 @@ def test_demo_birthplace_is_recovered(demo_run):
     t = demo_run.stages["trace"].to_dict()
     assert t["associations"][0]["name"] == "Vessen OB2"
     age = t["associations"][0]["age_yr"]
-    assert age["lo68"] < 0.75e6 < age["hi68"] or abs(age["median"] - 0.75e6) < 0.15e6
+    # the 68% interval covers the true age and the median is within 6% (the reduced demo gives ~2%; the interval
+    # is ~8% wide): a 10% error in the orbits or the time grid fails
+    assert age["lo68"] <= 0.75e6 <= age["hi68"]
+    assert age["median"] == pytest.approx(0.75e6, rel=0.06)
     # the ages stage used the trace's kinematic age
     k = demo_run.stages["ages"].to_dict()["kinematic_age_yr"]
     assert abs(k["median"] - age["median"]) / age["median"] < 0.1
 
 
+_NUMBER = re.compile(r"(?<![\w.])(-?\d[\d,]*(?:\.\d+)?(?:e[+-]?\d+)?)")
+
+
+def _summary_numbers(text):
+    """(value, half rounding step, token, following text) of every number written in a sentence."""
+    out = []
+    for m in _NUMBER.finditer(text):
+        tok = m.group(1)
+        if tok.startswith("-") and m.start() > 0 and text[m.start() - 1].isalnum():
+            tok = tok[1:]  # "62.8 kyr-156 kyr", "736-801": a range, not a minus sign
+        t = tok.replace(",", "")
+        mant, _, exp = t.partition("e")
+        if "." in mant:
+            step = 10.0 ** -len(mant.split(".")[1])
+        else:  # an integer: "200" may be 2 significant figures, so allow its trailing zeros
+            step = 10.0 ** (len(mant) - len(mant.rstrip("0"))) if mant.strip("-0") else 1.0
+        step *= 10.0 ** int(exp or 0)
+        out.append((float(t), 0.5 * step * (1 + 1e-9), tok, text[m.end():m.end() + 12]))
+    return out
+
+
+def _json_numbers(x):
+    if isinstance(x, bool) or x is None:
+        return []
+    if isinstance(x, (int, float)):
+        return [float(x)] if np.isfinite(x) else []
+    if isinstance(x, dict):
+        return [v for y in x.values() for v in _json_numbers(y)]
+    if isinstance(x, list):
+        return [v for y in x for v in _json_numbers(y)]
+    return []
+
+
+# unit changes a sentence may make (yr -> kyr/Myr, s -> ms/us, ...) and the fixed wording that is not a result
+_SCALES = (1.0, 1e-3, 1e-6, 1e-9, 1e3, 1e6)
+
+
 def test_report_summary_is_traceable_to_results_json(demo_run):
+    import html as h
+
     d = json.loads((demo_run.out_dir / "results.json").read_text())
     html = (demo_run.out_dir / "report.html").read_text()
     md = (demo_run.out_dir / "report.md").read_text()
-    import html as h
-
+    checked = 0
     for stage, text in d["summary"].items():
         assert h.escape(text) in html, stage
         assert text in md, stage
-        # every number in the summary sentence appears in the stage's JSON section (rounded)
-        assert re.findall(r"\d", text)
+        # every number in the summary sentence is a number of the stage's JSON section, rounded as printed
+        # (in the same unit or a decimal multiple); "68%" names the interval (lo68/hi68 keys); a "factor x" or
+        # "x times" is the ratio of two JSON numbers that the sentence also prints
+        values = np.array(_json_numbers(d[stage]))
+        assert values.size, stage
+        scaled = np.concatenate([values * f for f in _SCALES])
+        nums = _summary_numbers(text)
+        assert nums, stage
+        matched = []
+        for x, half, tok, after in nums:
+            if x == 68 and after.startswith("%"):
+                continue
+            hit = np.abs(scaled - x) <= half
+            if hit.any():
+                matched.append(values[np.nonzero(hit)[0] % values.size])
+                checked += 1
+                continue
+            ratios = [a / b for m1 in matched for m2 in matched for a in m1 for b in m2 if b]
+            assert any(abs(r - x) <= half for r in ratios), f"{stage}: {tok!r} ({after!r}) is not in results.json"
+            checked += 1
+    assert checked >= 20  # the four summaries carry many numbers
 
 
 def test_report_is_self_contained(demo_run):
