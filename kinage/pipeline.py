@@ -75,6 +75,11 @@ def preflight(scenario, samples=None):
     """
     loaded = {}
     stages = plan_stages(scenario)
+    c = scenario.campaign
+    if c is not None and c.get("toa_error") is None and c.get("pulsed_fraction") is not None:
+        from .timing.photons import profile_from_campaign
+
+        profile_from_campaign(c)  # a bad pulse shape or template is an input error, found before any stage
     if "fit" in stages:
         from .timing import read_toas
 

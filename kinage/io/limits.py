@@ -14,12 +14,12 @@ from ..errors import InputError
 __all__ = ["memory_limit_bytes", "trace_memory_bytes", "trace_seconds", "check_resources", "MAX_TRACE_MINUTES"]
 
 #: longest tracing run (estimated) a scenario may ask for
-MAX_TRACE_MINUTES = 15
-# Cost per orbit: ~120 us on the 401-step grid (DEVELOPERS.md: 100,000 draws over 10 Myr in 12 s) plus
-# ~15 us per Myr integrated (measured: 1,100 orbits over 300 Myr in ~5 s on the 2-core development machine).
+MAX_TRACE_MINUTES = 60
+# Cost per orbit: ~120 us for integration and closest-approach search on the default grid (DEVELOPERS.md:
+# 100,000 draws x 30 associations over 10 Myr in 12 s) plus ~1 us per Myr integrated (measured 2026-12-02:
+# 4,280 orbits over 13 Gyr in 40 s of CPU time on the 2-core development machine).
 _S_PER_ORBIT = 1.2e-4
-_S_PER_ORBIT_STEP = 1.2e-4 / 401
-_S_PER_ORBIT_MYR = 1.5e-5
+_S_PER_ORBIT_MYR = 1.0e-6
 _BYTES_PER_POINT = 6 * 8 * 4  # 6 phase-space floats, float64, ~4 working copies (integration, frames, search)
 
 
@@ -50,8 +50,8 @@ def trace_memory_bytes(samples, chunk_size, time_steps, n_associations, associat
 
 
 def trace_seconds(orbits, time_steps, max_age_myr):
-    """Rough run time of a trace, s: orbits x (per-step cost x time_steps + per-Myr cost x max_age)."""
-    return orbits * (_S_PER_ORBIT_STEP * time_steps + _S_PER_ORBIT_MYR * max_age_myr)
+    """Rough run time of a trace, s: orbits x (fixed cost on a grid of ``time_steps`` + cost per Myr integrated)."""
+    return orbits * (_S_PER_ORBIT * max(1.0, time_steps / 401) + _S_PER_ORBIT_MYR * max_age_myr)
 
 
 def check_resources(scenario, samples=None, n_associations=None):

@@ -477,10 +477,11 @@ def _bound_text(key, x, shown_value):
     """The problem with number ``x`` against the key's sign and range, or None."""
     why = f": {key.reason}" if key.reason else ""
     unit = f" {key.unit}" if key.unit and key.kind != "float" else ""
+    sign_why = why if key.lower is not None else ""  # a reason given for an upper bound says nothing of the sign
     if key.positive and not x > 0:
-        return f"must be positive{why} (got {shown_value})"
+        return f"must be positive{sign_why} (got {shown_value})"
     if key.nonnegative and x < 0:
-        return f"must not be negative{why} (got {shown_value})"
+        return f"must not be negative{sign_why} (got {shown_value})"
     lo, hi = key.lower, key.upper
     if lo is not None and (x < lo or (key.lower_open and x == lo)):
         return f"must be {'above' if key.lower_open else 'at least'} {lo:g}{unit}{why} (got {shown_value})"

@@ -360,3 +360,16 @@ def test_bad_toa_tables(tmp_path, capsys, kind, verb):
     status, _, err = run_cli([*argv, "--out", out, "--json", tmp_path / "r.json"], capsys)
     assert_one_line_error(status, err, toas.name)
     assert not out.exists() and not (tmp_path / "r.json").exists()
+
+
+def test_memory_estimate_names_the_limit(tmp_path, capsys):
+    # 1e6 draws x 1e5 steps x 6 float64 values is ~5 TB before copies: beyond any machine (arithmetic)
+    raw = scenario_dict(trace={"samples": 1_000_000, "chunk_size": 1_000_000, "time_steps": 100_000,
+                               "control_runs": 0})
+    line = _bad(tmp_path, capsys, "trace", raw, "[trace] time_steps", "memory limit")
+    assert "GB" in line
+
+
+def test_run_time_estimate_names_the_limit(tmp_path, capsys):
+    raw = scenario_dict(trace={"samples": 1_000_000, "control_runs": 1000})
+    _bad(tmp_path, capsys, "run", raw, "[trace] samples", "minutes per trace")
