@@ -20,6 +20,7 @@ import glob
 import importlib
 import os
 import sys
+import threading
 import warnings
 
 import numpy as np
@@ -296,6 +297,9 @@ def integrate_orbits(pos, vel, times, potential, *, method="dop853_c", tolerance
         return StraightOrbits(pos, vel, times)
     import_galpy()
     from galpy.util import conversion
+
+    if threading.current_thread() is threading.main_thread():
+        set_thread_integrator_cores(integration_cores())  # e.g. batch workers: 1 (worker threads set their own)
 
     ro, vo = float(potential.values["ro_kpc"]), float(potential.values["vo_kms"])
     t_nat = np.asarray(times, float) / (1000.0 * conversion.time_in_Gyr(vo, ro))
