@@ -229,9 +229,45 @@ def star_from_skycoord(coord, **values):
 
 
 # ------------------------------------------------------------------ stages
-def _warn(result, category):
-    emit(getattr(result, "warnings", None) or [], category, stacklevel=4)
+def _recorded(result):
+    msgs = getattr(result, "warnings", None)
+    if msgs is None and isinstance(getattr(result, "data", None), dict):
+        msgs = result.data.get("warnings")  # a trace keeps them with its data
+    return [str(m) for m in msgs or []]
+
+
+def _warn(result, category, raised=()):
+    """Raise (and log) the warnings ``result`` records that the stage did not already raise."""
+    raised = [r.lower() for r in raised]
+    emit([m for m in _recorded(result) if not any(m.rstrip(".").lower() in r for r in raised)], category,
+         stacklevel=4)
     return result
+
+
+def _stage(func, category, *args, **kwargs):
+    """Run a stage; warnings kinage's own modules raise come out as ``category`` (a KinageWarning)."""
+    result, raised = _catching(func, category, *args, **kwargs)
+    return _warn(result, category, raised)
+
+
+def _catching(func, category, *args, **kwargs):
+    """``func(*args, **kwargs)`` and the texts of the warnings it raised (re-raised as described in :func:`_stage`)."""
+    import warnings
+
+    root = str(Path(__file__).resolve().parent)
+    with warnings.catch_warnings(record=True) as caught:
+        warnings.simplefilter("always")
+        result = func(*args, **kwargs)
+    raised = []
+    for w in caught:
+        text = str(w.message)
+        if str(w.filename).startswith(root) and not issubclass(w.category, KinageWarning):
+            emit([text], category, stacklevel=4)
+            raised.append(text)
+        else:  # someone else's warning (numpy, astropy, ...) or already a KinageWarning: pass it on unchanged
+            warnings.warn_explicit(w.message, w.category, w.filename, w.lineno, source=w.source)
+            raised.append(text)
+    return result, raised
 
 
 def forecast(scenario, *, progress=False, **kwargs):
@@ -252,7 +288,7 @@ def forecast(scenario, *, progress=False, **kwargs):
     """
     from .timing import forecast as _forecast
 
-    return _warn(_forecast(as_scenario(scenario), progress=progress, **kwargs), ForecastWarning)
+    return _stage(_forecast, ForecastWarning, as_scenario(scenario), progress=progress, **kwargs)
 
 
 def simulate(scenario, *, rng=None, **kwargs):
@@ -265,7 +301,7 @@ def simulate(scenario, *, rng=None, **kwargs):
     """
     from .timing import simulate_toas
 
-    return _warn(simulate_toas(as_scenario(scenario), rng=rng, **kwargs), FitWarning)
+    return _stage(simulate_toas, FitWarning, as_scenario(scenario), rng=rng, **kwargs)
 
 
 def _looks_like_scenario(obj):
@@ -301,7 +337,7 @@ def fit(toas, scenario=None, **kwargs):
         toas = scn.campaign.get("toas") if scn.campaign is not None else None
         if toas is None:
             raise InputError("toas", "give a TOA table (path or astropy Table) or [campaign] toas")
-    return _warn(fit_toas(toas, scn, **kwargs), FitWarning)
+    return _stage(fit_toas, FitWarning, toas, scn, **kwargs)
 
 
 def _with_associations(scn, associations):
@@ -358,9 +394,8 @@ def trace(scenario, associations=None, *, solution=None, rng=None, samples=None,
     scn, table = _with_associations(as_scenario(scenario), associations)
     if solution is not None and hasattr(solution, "solution") and not hasattr(solution, "covariance"):
         solution = solution_for_trace(scn, solution)
-    result = _trace(scn, solution=solution, rng=rng, samples=samples, potential=potential, progress=progress,
-                    associations=table, **kwargs)
-    return _warn(result, TraceWarning)
+    return _stage(_trace, TraceWarning, scn, solution=solution, rng=rng, samples=samples, potential=potential,
+                  progress=progress, associations=table, **kwargs)
 
 
 def compare_ages(scenario, trace_result=None, *, kinematic_age=None, kinematic_age_samples=None, rng=None,
@@ -397,8 +432,8 @@ def compare_ages(scenario, trace_result=None, *, kinematic_age=None, kinematic_a
     else:
         samples, label = kinematic_age_input(scn, trace_result)
         label = kwargs.pop("kinematic_age_source", label)
-    result = _compare(scn, kinematic_age_samples=samples, kinematic_age_source=label, rng=rng, **kwargs)
-    return _warn(result, AgesWarning)
+    return _stage(_compare, AgesWarning, scn, kinematic_age_samples=samples, kinematic_age_source=label, rng=rng,
+                  **kwargs)
 
 
 def run(scenario, out_dir, *, seed=None, samples=None, progress=False, report=True, products=True, log=None):
@@ -429,11 +464,11 @@ def run(scenario, out_dir, *, seed=None, samples=None, progress=False, report=Tr
     from .warnings import logger
 
     scn = as_scenario(scenario)
-    result = run_pipeline(scn, out_dir, seed=seed, samples=samples, progress=progress, report=report,
-                          products=products, log=log or logger.info)
+    result, raised = _catching(run_pipeline, KinageWarning, scn, out_dir, seed=seed, samples=samples,
+                               progress=progress, report=report, products=products, log=log or logger.info)
     for stage, res in result.stages.items():
         category = {"forecast": ForecastWarning, "fit": FitWarning, "trace": TraceWarning,
                     "ages": AgesWarning}.get(stage, KinageWarning)
-        emit(getattr(res, "warnings", None) or [], category)
+        _warn(res, category, raised)
     emit([f"stage '{s}' failed: {m}" for s, m in result.failed.items()], KinageWarning)
     return result

@@ -261,3 +261,16 @@ def test_fit_takes_toas_as_path_or_table_in_either_order(tmp_path):
     assert a.n_toas == len(read_toas(toa_path))
     ages = kinage.compare_ages(scn_path, kinematic_age_samples=[0.9, 1.0, 1.1] * u.Myr)
     assert ages.to_dict()["kinematic_age_yr"]["median"] == pytest.approx(1.0e6, rel=0.1)
+
+
+def test_trace_warnings_come_out_once_as_trace_warnings():
+    small = {"samples": 40, "association_samples": 10, "control_runs": 0, "max_age": 2 * u.Myr, "time_steps": 101,
+             "potential": "MWPotential2014", "solar_parameters": "astropy-v4.0"}  # a Sun from another Galaxy
+    scn = kinage.scenario_from_dict({"star": _star(), "trace": small})
+    with warnings.catch_warnings(record=True) as caught:
+        warnings.simplefilter("always")
+        res = kinage.trace(scn, associations=_assoc_qtable())
+    ours = [w for w in caught if issubclass(w.category, kinage.KinageWarning)]
+    assert res.to_dict()["warnings"], "the mismatch is recorded in the result"
+    assert len(ours) == 1 and ours[0].category.__name__ == "TraceWarning"
+    assert "solar parameters" in str(ours[0].message).lower()
