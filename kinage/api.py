@@ -398,17 +398,17 @@ def trace(scenario, associations=None, *, solution=None, rng=None, samples=None,
                   progress=progress, associations=table, **kwargs)
 
 
-def compare_ages(scenario, trace_result=None, *, kinematic_age=None, kinematic_age_samples=None, rng=None,
-                 **kwargs):
+def compare_ages(scenario, trace_result=None, *, trace=None, kinematic_age=None, kinematic_age_samples=None,
+                 rng=None, **kwargs):
     """Compare the kinematic, spin-down and cooling ages (:func:`kinage.ages.compare_ages`).
 
     Parameters
     ----------
     scenario : Scenario, path or dict
         ``[star]`` spin and temperature; ``[ages]`` settings (defaults when absent).
-    trace_result : TraceResult, optional
+    trace_result, trace : TraceResult, optional
         Its favoured association's encounter times give the kinematic age
-        (else its plane-crossing times).
+        (else its plane-crossing times); either name.
     kinematic_age, kinematic_age_samples : Quantity or ndarray (yr), optional
         Kinematic-age samples (a scalar is one exact value) instead (either name).
     rng : numpy.random.Generator | int | None
@@ -424,6 +424,7 @@ def compare_ages(scenario, trace_result=None, *, kinematic_age=None, kinematic_a
     from .pipeline import kinematic_age_input
 
     scn = as_scenario(scenario)
+    trace_result = trace_result if trace_result is not None else trace
     if kinematic_age is None:
         kinematic_age = kinematic_age_samples
     if kinematic_age is not None:
