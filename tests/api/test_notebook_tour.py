@@ -1,4 +1,4 @@
-"""The notebook-style worked example (docs/examples/notebook_tour.py) runs and finds the birthplace it was built from."""
+"""The notebook-style worked example (docs/examples/notebook_tour.py) runs and finds its planted birthplace."""
 
 import os
 import re
