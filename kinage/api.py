@@ -184,7 +184,9 @@ def star_from_skycoord(coord, **values):
         Further ``[star]`` keys: errors (``distance_error``, ``pm_dec_error``,
         ...), ``parallax`` when the SkyCoord has no distance, ``name``, spin
         (``spin_period``, ``spin_period_derivative``), ``temperature``, ...
-        Values given here win over the SkyCoord's.
+        Values given here win over the SkyCoord's.  With ``parallax_error``
+        (and no ``parallax``) the SkyCoord's distance is taken as a parallax
+        (1 / distance, e.g. from ``Distance(parallax=...)``).
 
     Returns
     -------
@@ -223,6 +225,9 @@ def star_from_skycoord(coord, **values):
         star["epoch"] = coord.obstime
     if "parallax" in values and "distance" in star and "distance" not in values:
         star.pop("distance")  # an explicit parallax replaces the SkyCoord's distance
+    elif "parallax_error" in values and "parallax" not in values and "distance" in star:
+        # a parallax error with the SkyCoord's distance: the distance is a parallax (Distance(parallax=...))
+        star["parallax"] = q(star.pop("distance").to(u.mas, equivalencies=u.parallax()), u.mas)
     star.update(values)
     scenario_from_dict({"star": star}, source="star_from_skycoord")  # validate now, naming the key
     return star

@@ -12,6 +12,7 @@ import json
 import math
 import os
 import platform
+import sys
 import tempfile
 from pathlib import Path
 
@@ -140,7 +141,6 @@ def versions():
 def command_line():
     """The command line of this process (``sys.argv`` joined with shell quoting)."""
     import shlex
-    import sys
 
     argv = list(sys.argv) or [""]
     argv[0] = os.path.basename(argv[0]) or "python"
@@ -166,8 +166,10 @@ def provenance(*, scenario=None, seed=None, parameter_sets=(), input_files=(), c
     -------
     dict
         ``kinage_version``, ``command``, ``command_line`` (this process's
-        ``sys.argv``), ``seed``, ``created_utc``, ``python``, ``versions``
-        (:func:`versions`), ``parameter_sets``, ``input_sha256``.
+        ``sys.argv``, shell-quoted) and ``argv`` (as a list), ``seed``,
+        ``created_utc``, ``python``, ``versions`` (:func:`versions`) and
+        ``numpy_version``, ``astropy_version``, ``galpy_version``,
+        ``scipy_version``, ``parameter_sets``, ``input_sha256``.
     """
     from .scenario import file_sha256
 
@@ -177,6 +179,7 @@ def provenance(*, scenario=None, seed=None, parameter_sets=(), input_files=(), c
     for f in files:
         if f is not None and Path(f).is_file():
             hashes[str(f)] = file_sha256(f)
+    vers = versions()
     seen = {}
     for p in parameter_sets:
         if p is not None:
@@ -185,10 +188,12 @@ def provenance(*, scenario=None, seed=None, parameter_sets=(), input_files=(), c
         "kinage_version": __version__,
         "command": command,
         "command_line": command_line(),
+        "argv": list(sys.argv),
         "seed": seed,
         "created_utc": datetime.datetime.now(datetime.timezone.utc).isoformat(timespec="seconds"),
         "python": platform.python_version(),
-        "versions": versions(),
+        "versions": vers,
+        **{f"{name}_version": vers[name] for name in ("numpy", "astropy", "galpy", "scipy")},
         "parameter_sets": list(seen.values()),
         "input_sha256": hashes,
     }

@@ -66,6 +66,13 @@ def test_star_from_galactic_skycoord_matches_astropy():
     noz = SkyCoord(ra=175.9 * u.deg, dec=-28.4 * u.deg, pm_ra_cosdec=48 * u.mas / u.yr, pm_dec=4 * u.mas / u.yr)
     star2 = kinage.star_from_skycoord(noz, parallax=3.1 * u.mas, parallax_error=0.2 * u.mas)
     assert "distance" not in star2 and star2["parallax"] == 3.1 * u.mas
+    # a distance made from a parallax, with the parallax error beside it: the parallax goes into [star]
+    from astropy.coordinates import Distance
+
+    px = SkyCoord(ra=175.9 * u.deg, dec=-28.4 * u.deg, distance=Distance(parallax=3.1 * u.mas),
+                  pm_ra_cosdec=48 * u.mas / u.yr, pm_dec=4 * u.mas / u.yr)
+    star3 = kinage.star_from_skycoord(px, parallax_error=0.2 * u.mas)
+    assert "distance" not in star3 and star3["parallax"].to_value(u.mas) == pytest.approx(3.1, rel=1e-12)
 
 
 def test_star_from_skycoord_rejects_bad_input():
@@ -220,6 +227,7 @@ def test_provenance_records_versions_and_command_line():
     for name in ("numpy", "astropy", "galpy", "scipy"):
         assert v[name] == metadata.version(name)  # importlib.metadata: the installed distributions
     assert v["kinage"] == kinage.__version__ and v["python"] == ".".join(map(str, sys.version_info[:3]))
+    assert prov["numpy_version"] == v["numpy"] and prov["argv"] == sys.argv
     assert prov["command_line"].split()[-1] == Path(sys.argv[-1]).name or sys.argv[-1] in prov["command_line"]
 
 
