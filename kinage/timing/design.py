@@ -163,7 +163,7 @@ def _improve(x, cmat, block, chosen, max_sweeps):
     return np.sort(chosen), value, sweeps, exchanges
 
 
-def exchange_design(rows, cmat, block, counts, start=None, *, n_random=2, agree=3, kicks=None, kick_size=3,
+def exchange_design(rows, cmat, block, counts, start=None, *, n_random=None, agree=3, kicks=None, kick_size=3,
                     max_sweeps=40, rng=None):
     """c-optimal exact design by exchange (see module docstring).
 
@@ -179,12 +179,13 @@ def exchange_design(rows, cmat, block, counts, start=None, *, n_random=2, agree=
     start : ndarray of int, optional
         A starting design (indices); default: evenly spread in each block.
     n_random : int
-        Additional random starts (at most).
+        Additional random starts, at most (default: 2 up to 100 visits, none above: large designs start
+        from the even plan and rely on the kicks).
     agree : int
         Stop once this many starts have ended at the same best criterion.
     kicks, kick_size : int
         Iterated local search after the starts: ``kicks`` times, move ``kick_size`` visits of the best
-        design at random within their year and descend again (default: 8 kicks, fewer above 200 visits).
+        design at random within their year and descend again (default: 8 kicks, fewer above 100 visits).
     rng : numpy.random.Generator | int | None
         Random starts (default seed 0, so the design is reproducible).
 
@@ -214,6 +215,8 @@ def exchange_design(rows, cmat, block, counts, start=None, *, n_random=2, agree=
         starts.append(np.asarray(start, int).copy())
     starts.append(np.concatenate([m[np.round(np.linspace(0, m.size - 1, n)).astype(int)] if n else m[:0]
                                   for m, n in zip(members, counts)]))
+    if n_random is None:
+        n_random = 2 if counts.sum() <= 100 else 0
     for _ in range(n_random):
         starts.append(np.concatenate([rng.choice(m, n, replace=False) for m, n in zip(members, counts)]))
     best, total, hits = None, 0, 0
@@ -231,7 +234,7 @@ def exchange_design(rows, cmat, block, counts, start=None, *, n_random=2, agree=
     # iterated local search: kick the best design (a few visits moved at random within their year) and
     # descend again; keep what improves (common practice for exchange heuristics, no source)
     if kicks is None:  # fewer kicks for large designs: each costs a full sweep over the visits
-        kicks = int(np.clip(1600 // max(int(counts.sum()), 1), 2, 8))
+        kicks = int(np.clip(800 // max(int(counts.sum()), 1), 1, 8))
     for _ in range(kicks if best is not None and np.isfinite(best.value) else 0):
         trial = best.chosen.copy()
         for slot in rng.choice(trial.size, min(kick_size, trial.size), replace=False):
