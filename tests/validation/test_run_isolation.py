@@ -24,31 +24,36 @@ def _forecast_only(tmp_path, **changes):
     return write_case(tmp_path / "in", scenario_dict(tables=("campaign",), **changes))
 
 
+def _star_only(tmp_path):
+    return write_case(tmp_path / "in", scenario_dict(tables=()))  # no stage: results.json and the report only
+
+
 def test_completed_run_replaces_previous_results_as_a_whole(tmp_path, capsys):
     out = tmp_path / "out"
-    status, _, err = run_cli(["run", _forecast_only(tmp_path), "--out", out, "--quiet"], capsys)
+    status, _, err = run_cli(["run", _star_only(tmp_path), "--out", out, "--quiet"], capsys)
     assert status == 0, err
+    (out / "forecast").mkdir()
     (out / "forecast" / "stale_from_old_run.png").write_bytes(b"old")
-    status, _, err = run_cli(["run", _forecast_only(tmp_path), "--out", out, "--quiet"], capsys)
+    status, _, err = run_cli(["run", _star_only(tmp_path), "--out", out, "--quiet"], capsys)
     assert status == 0, err
-    assert not (out / "forecast" / "stale_from_old_run.png").exists()
+    assert not (out / "forecast").exists()
     assert (out / "results.json").is_file() and (out / "report.md").is_file()
     assert not [p for p in tmp_path.iterdir() if p.name.startswith(".out.")]  # no staging folder or lock left
 
 
 def test_interrupted_run_leaves_previous_results_untouched(tmp_path, capsys, monkeypatch):
     out = tmp_path / "out"
-    scn = write_case(tmp_path / "in", scenario_dict(tables=("campaign", "ages")))
-    status, _, err = run_cli(["run", scn, "--out", out, "--quiet"], capsys)
+    status, _, err = run_cli(["run", _star_only(tmp_path), "--out", out, "--quiet"], capsys)
     assert status == 0, err
     before = _snapshot(out)
+    scn = write_case(tmp_path / "in2", scenario_dict(tables=("ages",)))
 
     import kinage.pipeline as pipeline
 
     real = pipeline.run_stage
 
     def interrupted(name, *a, **k):
-        if name == "ages":  # after the forecast stage has written its files into the staging folder
+        if name == "ages":  # the run has started writing into its staging folder
             raise KeyboardInterrupt
         return real(name, *a, **k)
 

@@ -4,6 +4,7 @@ import json
 
 import astropy.units as u
 import numpy as np
+import pytest
 from astropy.table import Table
 
 from .conftest import DEMO, run_cli, scenario_dict, write_case
@@ -43,20 +44,25 @@ def test_toa_error_column_in_ms_gives_the_same_fit(tmp_path, capsys):
             assert np.isclose(fits[1]["sigma"][k], v, rtol=1e-9), k  # ms -> s by astropy.units
 
 
-def test_markdown_report_escapes_user_text(tmp_path, capsys):
+@pytest.mark.parametrize("with_title", [True, False])
+def test_markdown_report_escapes_user_text(tmp_path, capsys, with_title):
+    import re
+
     hostile = "<script>alert(1)</script>\n# Injected heading\n| x | y |"
-    raw = scenario_dict(tables=("campaign",), star={"name": hostile})
-    raw["title"] = "Title <img src=x onerror=alert(1)>\n\n[link](http://example.invalid)"
+    raw = scenario_dict(tables=(), star={"name": hostile})  # no stage: the report still shows title or name
+    if with_title:
+        raw["title"] = "Title <img src=x onerror=alert(1)>\n\n[link](http://example.invalid)"
+    else:
+        raw.pop("title")  # the report is titled with the star's name
     out = tmp_path / "out"
     status, _, err = run_cli(["run", write_case(tmp_path / "in", raw), "--out", out, "--quiet"], capsys)
     assert status == 0, err
     md = (out / "report.md").read_text(encoding="utf-8")
     html = (out / "report.html").read_text(encoding="utf-8")
-    import re
-
+    assert ("img src=x" if with_title else "script") in md  # the user's text is there, escaped
     assert not re.search(r"(?<!\\)<(script|img)", md), [ln for ln in md.splitlines() if "script" in ln or "img" in ln]
     assert "](http://example.invalid)" not in md
-    assert not any(line.startswith("# Injected") for line in md.splitlines())
+    assert not any(line.startswith("# Injected") or line.startswith("| x") for line in md.splitlines())
     assert "<script" not in html and "<img src=x" not in html
 
 
