@@ -257,7 +257,7 @@ def cmd_batch(args):
 
 
 def cmd_keys(args):
-    from .io.schema import SCHEMA
+    from .io.schema import SCHEMA, range_text
 
     for table, keys in SCHEMA.items():
         if args.table and table != args.table:
@@ -267,7 +267,8 @@ def cmd_keys(args):
             unit = f" [{k.unit}]" if k.unit else ""
             default = "" if k.default is None else f" (default {k.default})"
             err = " (+ _error)" if k.error else ""
-            print(f"  {k.name}{unit}{err}{default}: {k.doc}")
+            limits = range_text(k)
+            print(f"  {k.name}{unit}{err}{default}: {k.doc}" + (f" [{limits}]" if limits else ""))
         print()
     return 0
 

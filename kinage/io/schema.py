@@ -11,7 +11,7 @@ unit, which must be positive.
 
 from dataclasses import dataclass
 
-__all__ = ["Key", "SCHEMA", "TABLES"]
+__all__ = ["Key", "SCHEMA", "TABLES", "range_text"]
 
 
 @dataclass(frozen=True)
@@ -264,6 +264,26 @@ _RANGES = {
         "samples": dict(upper=1_000_000, reason="1e6 Monte Carlo draws already give sub-percent intervals"),
     },
 }
+
+
+def range_text(key):
+    """The accepted values of a key in words, e.g. ``'0 <= value < 360 deg'`` or ``"one of 'even', ..."``."""
+    parts = []
+    unit = f" {key.unit}" if key.unit and key.kind != "float" else ""
+    lo = key.lower if key.lower is not None else (0 if key.positive or key.nonnegative else None)
+    lo_open = key.lower_open or (key.lower is None and key.positive)
+    if lo is not None or key.upper is not None:
+        text = "value"
+        if lo is not None:
+            text = f"{lo:g} {'<' if lo_open else '<='} {text}"
+        if key.upper is not None:
+            text += f" {'<' if key.upper_open else '<='} {key.upper:g}"
+        parts.append(text + unit)
+    if isinstance(key.choices, tuple):
+        parts.append("one of " + ", ".join(repr(c) for c in key.choices))
+    if key.max_length:
+        parts.append(f"at most {key.max_length} {'characters' if key.kind == 'str' else 'items'}")
+    return "; ".join(parts)
 
 
 def _with_ranges(table, keys):
