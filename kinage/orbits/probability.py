@@ -149,7 +149,8 @@ def _posteriors(km, vm, kc, kcw, vc, field_prior):
     nc = np.maximum(vc, 1.0)
     alpha = np.clip(kc / CONTROL_HITS, 0.0, 1.0)
     chance = alpha * (kc / nc) + (1.0 - alpha) * (kcw / nc / CONTROL_WIDTH**2)
-    chance = np.maximum(chance, 0.5 / nc)  # at most half a hit when no control draw came near
+    # no control draw came near even for the wide kernel: at most half a wide-kernel passage
+    chance = np.maximum(chance, 0.5 / (nc * CONTROL_WIDTH**2))
     lam = mean_main / chance
     prior_j = (1.0 - field_prior) / n_assoc
     z = field_prior + prior_j * lam.sum(axis=0)
