@@ -4,12 +4,16 @@
 >>> result = trace(scenario, samples=2000)                # doctest: +SKIP
 >>> result.to_dict()["favoured"]                          # doctest: +SKIP
 
-Star draws are integrated in chunks of at most ``[trace] chunk_size`` draws
-(further capped so one chunk's orbit array stays below ~256 MB); association
-draws are integrated once and kept on a coarse grid.  Star draw i is paired
-with draw (i mod m) of every association.  All random numbers come from
-independent streams spawned from one seed, so the chunk size does not change
-the numbers.
+Star, control and association draws are integrated by galpy on the same
+coarse output grid (``[trace] time_steps``, tolerance
+``integration_tolerance``); star draws go in chunks of at most
+``[trace] chunk_size`` draws (further capped so one chunk's arrays stay below
+~256 MB), in parallel threads (:mod:`.chunks`), and closest approaches are
+found by the fused search of :mod:`.hermite`.  Control draws are run only as
+far as the chance rates' wanted precision needs (:mod:`.control`).  Star
+draw i is paired with draw (i mod m) of every association.  All random
+numbers come from independent streams spawned from one seed, so neither the
+chunk size nor the number of cores changes the numbers.
 """
 
 import warnings
