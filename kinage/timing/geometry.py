@@ -19,7 +19,9 @@ celestial-to-intermediate matrix, TDB-TT) are evaluated on a grid of
 half days and interpolated with 8-point Lagrange polynomials when that takes
 fewer evaluations than the TOAs themselves; the interpolation error is
 ~3e-11 s of light travel (measured against astropy: 4e-9 s with whole-day
-nodes), while the Earth rotation angle is evaluated exactly at every TOA.
+nodes); the celestial-to-intermediate matrix uses 2-day nodes (site within
+~2 cm of astropy's), while the Earth rotation angle is evaluated exactly at
+every TOA.
 """
 
 import warnings
@@ -35,6 +37,9 @@ _AU_M = 149597870700.0
 _AU_S = _AU_M / _C_M_S
 _DAY_S = 86400.0
 _NODE_DAYS = 0.5
+#: the celestial-to-intermediate matrix (precession-nutation, shortest period ~5.6 d) and TT-TDB: 2-day nodes
+#: keep the site within ~1 cm of astropy's (tests/timing/test_delays.py)
+_ROTATION_NODE_DAYS = 2.0
 _OFFSETS = np.arange(-3, 5)  # 8 nodes around each point: k-3 .. k+4
 
 
@@ -69,15 +74,15 @@ def iers_offline():
         yield
 
 
-def _lagrange(values_at, jd1, jd2, origin):
+def _lagrange(values_at, jd1, jd2, origin, step=_NODE_DAYS):
     """Interpolate ``values_at(node_days) -> (m, ...)`` to the points, 8-point Lagrange on a regular grid."""
     t = (np.asarray(jd1, float) - origin) + np.asarray(jd2, float)
-    k = np.floor(t / _NODE_DAYS).astype(np.int64)
-    x = t / _NODE_DAYS - k
+    k = np.floor(t / step).astype(np.int64)
+    x = t / step - k
     need = np.unique((k[:, None] + _OFFSETS[None, :]).ravel())
     if need.size >= t.size:
         return None  # sparse points: evaluate directly
-    vals = values_at(need * _NODE_DAYS)
+    vals = values_at(need * step)
     idx = np.searchsorted(need, k[:, None] + _OFFSETS[None, :])
     w = np.ones((t.size, _OFFSETS.size))
     for j, oj in enumerate(_OFFSETS):
@@ -174,7 +179,7 @@ def site_gcrs(location, jd1, jd2):
     notes = []
     with iers_offline(), warnings.catch_warnings(record=True) as caught:
         warnings.simplefilter("always")
-        vals = _lagrange(slow, jd1, jd2, origin)
+        vals = _lagrange(slow, jd1, jd2, origin, _ROTATION_NODE_DAYS)
         if vals is None:
             vals = slow((jd1 - origin) + jd2)
         c2i = vals[:, :9].reshape(-1, 3, 3)
