@@ -86,21 +86,21 @@ def _graticule(ax, lon0, lat0, half):
     fine_l = np.linspace(lon0 - span, lon0 + span, 400)
     for lo in lons:
         x, y = sky_offsets(np.full_like(fine_b, lo), fine_b, lon0, lat0)
-        ax.plot(-x, y, color="0.85", lw=0.5, zorder=0)
+        ax.plot(x, y, color="0.85", lw=0.5, zorder=0)
     for la in lats:
         x, y = sky_offsets(fine_l, np.full_like(fine_l, la), lon0, lat0)
-        ax.plot(-x, y, color="0.55" if la == 0 else "0.85", lw=0.9 if la == 0 else 0.5, zorder=0,
+        ax.plot(x, y, color="0.55" if la == 0 else "0.85", lw=0.9 if la == 0 else 0.5, zorder=0,
                 ls="--" if la == 0 else "-", label="Galactic plane b = 0" if la == 0 else None)
         inside = np.flatnonzero((np.abs(x) < half) & (np.abs(y) < half))
         if inside.size and la % (2 * step) == 0:
             i = inside[0]
-            ax.text(-x[i], y[i], f"b={la:g}°", fontsize=5, color="0.45", va="bottom", ha="right", clip_on=True)
+            ax.text(x[i], y[i], f"b={la:g}°", fontsize=5, color="0.45", va="bottom", ha="right", clip_on=True)
     for lo in lons[:: 2]:
         x, y = sky_offsets(np.full_like(fine_b, lo), fine_b, lon0, lat0)
         inside = np.flatnonzero((np.abs(x) < half) & (np.abs(y) < half))
         if inside.size:
             i = inside[0]
-            ax.text(-x[i], y[i], f"l={lo % 360:g}°", fontsize=5, color="0.45", va="bottom", ha="left", clip_on=True)
+            ax.text(x[i], y[i], f"l={lo % 360:g}°", fontsize=5, color="0.45", va="bottom", ha="left", clip_on=True)
 
 
 def plot_sky(result, ax=None, n_tracks=60, n_assoc_tracks=12):
@@ -128,13 +128,13 @@ def plot_sky(result, ax=None, n_tracks=60, n_assoc_tracks=12):
     xs, ys = [], []
     for i, tr in enumerate(tracks[:n_tracks]):
         x, y = sky_offsets(*_lb(frame, tr, ct), lon0, lat0)
-        ax.plot(-x, y, color=STAR_COLOR, lw=0.4, alpha=0.25, label="star: Monte Carlo tracks" if i == 0 else None)
+        ax.plot(x, y, color=STAR_COLOR, lw=0.4, alpha=0.25, label="star: Monte Carlo tracks" if i == 0 else None)
         xs.append(x)
         ys.append(y)
     med = np.median(np.stack([tr for tr in tracks[:n_tracks]]), axis=0)
     mx, my = sky_offsets(*_lb(frame, med, ct), lon0, lat0)
-    ax.plot(-mx, my, color=STAR_COLOR, lw=1.6, label="star: median track")
-    _time_arrows(ax, -mx, my, STAR_COLOR)
+    ax.plot(mx, my, color=STAR_COLOR, lw=1.6, label="star: median track")
+    _time_arrows(ax, mx, my, STAR_COLOR)
     ax.plot([0], [0], marker="*", ms=11, color=STAR_COLOR, mec="k", mew=0.5, ls="none", zorder=5,
             label=f"{result.star_name} today")
     shown = legend_associations(result)
@@ -146,7 +146,7 @@ def plot_sky(result, ax=None, n_tracks=60, n_assoc_tracks=12):
         rows = d["adraws"].rows(j)[:3]
         for r in rows:
             x, y = sky_offsets(*_lb(frame, assoc.pos[r][keep], ct), lon0, lat0)
-            ax.plot(-x, y, color=OTHER_COLOR, lw=0.4, alpha=0.5,
+            ax.plot(x, y, color=OTHER_COLOR, lw=0.4, alpha=0.5,
                     label="other associations (< 1% probability)" if other_label else None)
             other_label = False
     for s, col in reversed(shown):
@@ -154,13 +154,13 @@ def plot_sky(result, ax=None, n_tracks=60, n_assoc_tracks=12):
         fav = s["name"] == result.favoured
         for k, r in enumerate(d["adraws"].rows(j)[:n_assoc_tracks]):
             x, y = sky_offsets(*_lb(frame, assoc.pos[r][keep], ct), lon0, lat0)
-            ax.plot(-x, y, color=col, lw=1.1 if fav else 0.7, alpha=0.8 if fav else 0.6,
+            ax.plot(x, y, color=col, lw=1.1 if fav else 0.7, alpha=0.8 if fav else 0.6,
                     label=_label(s, result.favoured) if k == 0 else None, zorder=3 if fav else 2)
             xs.append(x)
             ys.append(y)
             if k == 0:
-                ax.plot([-x[0]], [y[0]], marker="o", ms=6 if fav else 4.5, color=col, mec="k", mew=0.5, zorder=4)
-                _time_arrows(ax, -x, y, col)
+                ax.plot([x[0]], [y[0]], marker="o", ms=6 if fav else 4.5, color=col, mec="k", mew=0.5, zorder=4)
+                _time_arrows(ax, x, y, col)
     x_all, y_all = np.concatenate(xs), np.concatenate(ys)
     ok = np.isfinite(x_all) & np.isfinite(y_all)
     half = 1.15 * max(np.percentile(np.abs(x_all[ok]), 99), np.percentile(np.abs(y_all[ok]), 99), 1.0)
