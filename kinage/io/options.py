@@ -52,6 +52,7 @@ def check_arguments(args):
     for attr, name in (("json", "--json"), ("output", "--output")):
         if getattr(args, attr, None) is not None:
             setattr(args, attr, check_output_file(getattr(args, attr), name))
+    _no_overwrite(args)
     samples = getattr(args, "samples", None)
     if samples is not None:
         from .schema import SCHEMA
@@ -78,6 +79,19 @@ def check_arguments(args):
         if potential.lower() not in {n.lower() for n in names}:
             raise InputError("--potential", f"expected one of {', '.join(names)} (got {potential!r})")
     return args
+
+
+def _no_overwrite(args):
+    """An output file must not be one of the inputs (``--json star.toml`` would destroy the scenario)."""
+    inputs = {}
+    for attr in ("scenario", "toas", "stars", "trace_json"):
+        if getattr(args, attr, None) is not None:
+            inputs[os.path.realpath(getattr(args, attr))] = _INPUTS[attr][0]
+    for attr, name in (("json", "--json"), ("output", "--output")):
+        value = getattr(args, attr, None)
+        if value is not None and os.path.realpath(value) in inputs:
+            raise InputError(name, f"{value} is also the input {inputs[os.path.realpath(value)]}; writing there "
+                                   "would destroy it")
 
 
 _HOST = re.compile(r"^(\[[0-9A-Fa-f:.]+\]|[A-Za-z0-9]([A-Za-z0-9.-]{0,251}[A-Za-z0-9])?)$")

@@ -373,3 +373,12 @@ def test_memory_estimate_names_the_limit(tmp_path, capsys):
 def test_run_time_estimate_names_the_limit(tmp_path, capsys):
     raw = scenario_dict(trace={"samples": 1_000_000, "control_runs": 1000})
     _bad(tmp_path, capsys, "run", raw, "[trace] samples", "minutes per trace")
+
+
+@pytest.mark.parametrize("verb", ["ages", "trace", "forecast"])
+def test_json_onto_the_scenario_is_refused(tmp_path, capsys, verb):
+    path = write_case(tmp_path / "in", scenario_dict())
+    before = path.read_text()
+    status, _, err = run_cli([verb, path, "--json", path], capsys)
+    assert_one_line_error(status, err, "--json", "input")
+    assert path.read_text() == before
