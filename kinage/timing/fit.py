@@ -146,7 +146,7 @@ class FitResult(ResultDisplay):
     def summary(self):
         v, s = self.solution.values_dict(), self.solution.sigma_dict()
         pri = " combined with the external prior" if self.solution.source == "timing+prior" else ""
-        text = (f"The timing fit of {self.n_toas} TOAs{pri} gives a proper motion of "
+        text = (f"The timing fit of {self.n_toas} TOAs (at the {self.reference.kind}){pri} gives a proper motion of "
                 f"{v['pm_ra_cosdec_masyr']:.3g} +/- {s['pm_ra_cosdec_masyr']:.2g} (ra*cos dec) and "
                 f"{v['pm_dec_masyr']:.3g} +/- {s['pm_dec_masyr']:.2g} (dec) mas/yr and a parallax of "
                 f"{v['parallax_mas']:.3g} +/- {s['parallax_mas']:.2g} mas "
@@ -305,6 +305,9 @@ def _result(model, grid, theta, pulses, noise, method, c, epoch, tab, history, c
     prior = prior_solution(c, timing)
     solution = timing.combine(prior, source="timing+prior") if prior is not None else timing
     warnings = list(grid.notes)
+    if grid.frequency_mhz is not None and not model.fit_dispersion:
+        warnings.append(f"one observing frequency: the dispersion measure is held at [star] dispersion_measure = "
+                        f"{model.dispersion_measure:g} pc cm^-3, not fitted")
     period = 1.0 / values[6]
     if np.max(np.abs(resid)) > 0.25 * period:
         warnings.append("residuals exceed a quarter of the spin period: the pulse numbering may be wrong")
