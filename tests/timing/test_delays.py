@@ -141,3 +141,15 @@ def test_jpl_ephemeris_route_through_astropy_matches_the_builtin_route():
     b = _earth_sun_direct(t.jd1, t.jd2, "builtin")
     for x, y in zip(a, b):
         np.testing.assert_allclose(x, y, rtol=0, atol=1e-12)
+
+
+def test_site_beyond_the_bundled_earth_orientation_tables_warns_and_uses_predictions():
+    # astropy's bundled IERS tables end about a year after the astropy-iers-data release; later site TOAs use
+    # astropy's predictions (nothing downloads) and the geometry says so
+    site = TOAReference("site", 10.0, 40.0, 100.0)
+    inside = Time(59500, format="mjd", scale="tdb") + np.linspace(0, 30, 5) * u.d
+    beyond = Time(66000, format="mjd", scale="tdb") + np.linspace(0, 30, 5) * u.d
+    assert observer_geometry(inside.jd1, inside.jd2, site).warnings == []
+    geo = observer_geometry(beyond.jd1, beyond.jd2, site)
+    assert any("predictions" in w for w in geo.warnings)
+    assert np.all(np.isfinite(geo.position))
