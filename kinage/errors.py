@@ -6,7 +6,10 @@ Every error that a user can cause with an input file is a :class:`InputError`
 found.  The command line prints these as one line and exits with status 2.
 """
 
+import re
+
 __all__ = [
+    "plain_text",
     "KinageError",
     "InputError",
     "ScenarioError",
@@ -14,6 +17,19 @@ __all__ = [
     "ConvergenceError",
     "StageError",
 ]
+
+
+_NUMPY_REPR = re.compile(r"\bnp\.(?:float|int|uint|complex|str_|bytes_|bool_?|longdouble|datetime64)\w*\(([^()]*)\)")
+
+
+def plain_text(text):
+    """``text`` with numpy scalar reprs made plain: ``np.float64(0.0)`` -> ``0.0``, ``np.str_('a')`` -> ``'a'``.
+
+    numpy 2 shows its scalars' type in ``repr``; a user reading a message wants the value only.
+    """
+    if not isinstance(text, str):
+        return text
+    return _NUMPY_REPR.sub(r"\1", text)
 
 
 class KinageError(Exception):
@@ -33,9 +49,9 @@ class InputError(KinageError, ValueError):
     """
 
     def __init__(self, where, problem):
-        self.where = where
-        self.problem = problem
-        super().__init__(f"{where}: {problem}" if where else problem)
+        self.where = plain_text(where)
+        self.problem = plain_text(problem)
+        super().__init__(f"{self.where}: {self.problem}" if self.where else self.problem)
 
 
 class ScenarioError(InputError):

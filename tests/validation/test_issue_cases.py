@@ -382,3 +382,18 @@ def test_json_onto_the_scenario_is_refused(tmp_path, capsys, verb):
     status, _, err = run_cli([verb, path, "--json", path], capsys)
     assert_one_line_error(status, err, "--json", "input")
     assert path.read_text() == before
+
+
+def test_toa_error_zero_message_has_no_numpy_repr(tmp_path, capsys):
+    from astropy.table import Table
+
+    from .conftest import DEMO
+
+    tab = Table.read(DEMO / "toas.ecsv", format="ascii.ecsv")
+    tab["error"][4] = 0.0
+    (tmp_path / "in").mkdir()
+    path = tmp_path / "in" / "zero.ecsv"
+    tab.write(path, format="ascii.ecsv")
+    scn = write_case(tmp_path / "in", scenario_dict(tables=("campaign",)))
+    status, _, err = run_cli(["fit", path, "--scenario", scn], capsys)
+    assert_one_line_error(status, err, "row 5", "'error'")
