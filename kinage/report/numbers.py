@@ -215,6 +215,18 @@ def fit_constrained(data):
             "position": max(s.get("ra_mas", math.inf), s.get("dec_mas", math.inf)) < _MAS_PER_ARCSEC}
 
 
+def _g2(x):
+    """Two significant figures (a forecast error is itself an estimate), plain below 1e4."""
+    if x is None or not math.isfinite(x):
+        return "n/a"
+    r = _sig_round(float(x), 2)
+    if abs(r) < 1:
+        return f"{r:.2g}"
+    if abs(r) < 100:
+        return f"{r:.3g}"
+    return f"{r:.0f}" if abs(r) < 1e5 else f"{r:.1e}"
+
+
 def forecast_rows(d):
     rows = [("visits (TOAs)", f"{d.get('n_toas')} over {fmt(d.get('baseline_yr'))} yr"),
             ("median TOA error", fmt_duration_s(d.get("toa_error_s")))]
@@ -224,15 +236,15 @@ def forecast_rows(d):
                                    ("pm_dec_masyr", "proper-motion error, dec", "mas/yr", "proper_motion"),
                                    ("parallax_mas", "parallax error", "mas", "parallax")):
         e = s.get(key)
-        rows.append((label, f"{fmt(e)} {unit}" if cons.get(what, True) else "not constrained by timing"))
+        rows.append((label, f"{_g2(e)} {unit}" if cons.get(what, True) else "not constrained by timing"))
     if d.get("expected_pm_masyr") is not None:
         rows.append(("expected proper motion", f"{fmt(d['expected_pm_masyr'])} mas/yr"))
     sig = d.get("pm_significance")
     if sig is not None:
-        rows.append(("proper-motion significance of this plan", f"{fmt(sig, 2)} sigma"))
+        rows.append(("proper-motion significance of this plan", f"{_g2(sig)} sigma"))
     need = d.get("baseline_needed_yr")
     target = d.get("target_significance")
-    rows.append((f"baseline for {fmt(target)} sigma", f"{fmt(need)} yr" if need is not None else
+    rows.append((f"baseline for {fmt(target)} sigma", f"{_g2(need)} yr" if need is not None else
                  f"not reached within {fmt(d.get('max_baseline_yr'))} yr"))
     return rows
 
