@@ -2,7 +2,6 @@
 
 import json
 
-import astropy.coordinates as coord
 import astropy.units as u
 import numpy as np
 import pytest
@@ -13,35 +12,21 @@ from kinage.io.results import to_jsonable
 from kinage.kinematics import StarDraws
 from kinage.orbits import trace
 from kinage.orbits.frames import solar_frame
-from kinage.orbits.integrate import integrate_orbits, time_grid
-from kinage.params import get
+from tracing_helpers import galpy_flown_star
 
 HEADER = ("name,ra,dec,distance,distance_error,pm_ra_cosdec,pm_ra_cosdec_error,pm_dec,pm_dec_error,"
           "radial_velocity,radial_velocity_error,radius,age")
 
 
 def _synthetic(tmp_path, seed, age_myr=1.5):
-    """A star born at the centre of 'Lyra Nova-1' age_myr ago with a 350 km/s kick, flown forward with galpy.
+    """A star born at the centre of 'Lyra Nova-1' age_myr ago with a 350 km/s kick, flown with galpy directly.
 
     Returns the scenario dict (observed astrometry with errors) and the true age.
     """
     rng = np.random.default_rng(seed)
-    f = solar_frame("astropy-v4.0")
-    pset = get("potential", "MWPotential2014")
     a = dict(ra=100.0, dec=5.0, distance=450.0, pm_ra_cosdec=-1.5, pm_dec=-0.5, rv=18.0)
-    apos, avel = f.to_galactocentric(a["ra"], a["dec"], a["distance"], a["pm_ra_cosdec"], a["pm_dec"], a["rv"])
-    t = time_grid(age_myr, 201)
-    back = integrate_orbits(apos, avel, t, pset)
-    bpos, bvel = back.state(np.array([0]), np.array([len(t) - 1]))
-    kick = rng.normal(size=3)
-    kick *= 350.0 / np.linalg.norm(kick)
-    fwd = integrate_orbits(bpos, bvel + kick, -t, pset)
-    spos, svel = fwd.state(np.array([0]), np.array([len(t) - 1]))
-    gc = coord.Galactocentric(galcen_distance=f.r0_kpc * u.kpc, z_sun=f.z0_kpc * u.kpc,
-                              galcen_v_sun=f.v_sun_kms * u.km / u.s, roll=0 * u.deg)
-    c = coord.SkyCoord(x=spos[0, 0] * u.kpc, y=spos[0, 1] * u.kpc, z=spos[0, 2] * u.kpc,
-                       v_x=svel[0, 0] * u.km / u.s, v_y=svel[0, 1] * u.km / u.s, v_z=svel[0, 2] * u.km / u.s,
-                       frame=gc).transform_to(coord.ICRS())
+    # flown with galpy alone (tracing_helpers.galpy_flown_star), so kinage's integrator errors cannot cancel
+    c = galpy_flown_star(a, age_myr, 350.0, rng, solar_frame("galpy-default"))
     plx, plx_err, pm_err = 1000 / c.distance.to_value(u.pc), 0.05, 0.2  # VLBI-like errors
     star = {"name": "Testar J0001", "ra": float(c.ra.deg), "dec": float(c.dec.deg),
             "parallax": plx + plx_err * rng.normal(), "parallax_error": plx_err,
@@ -54,14 +39,16 @@ def _synthetic(tmp_path, seed, age_myr=1.5):
     path = tmp_path / "assoc.csv"
     path.write_text("\n".join([HEADER] + rows) + "\n")
     trace_tab = {"associations": str(path), "samples": 2000, "association_samples": 100, "max_age": 4.0,
-                 "time_steps": 401, "seed": seed, "control_runs": 4}
+                 "time_steps": 401, "seed": seed, "control_runs": 4, "potential": "MWPotential2014",
+                 "solar_parameters": "galpy-default"}
     return {"star": star, "trace": trace_tab}, age_myr
 
 
 @pytest.mark.slow
 def test_synthetic_recovery(tmp_path):
-    hits = 0
-    trials = 5
+    # ranking, decoy and bookkeeping per trial; the coverage of the 68% age interval is measured over 40
+    # galpy-flown trials in tests/reference/test_birth_recovery.py (fails below 60%)
+    trials = 3
     for seed in range(trials):
         raw, age = _synthetic(tmp_path, seed)
         res = trace(scenario_from_dict(raw))
@@ -71,11 +58,9 @@ def test_synthetic_recovery(tmp_path):
         assert d["favoured"] == "Lyra Nova-1"
         decoy = d["associations"][1]
         assert not decoy["favoured"] and decoy["encounter_fraction"] < 0.01
-        iv = d["associations"][0]["age_yr"]
-        hits += iv["lo68"] <= age * 1e6 <= iv["hi68"]
+        assert d["associations"][0]["age_yr"]["median"] == pytest.approx(age * 1e6, rel=0.1)
         ages = res.kinematic_age_samples()
         assert ages.size == d["associations"][0]["n_encounters"]
-    assert hits >= 3  # the 68% interval covers the true age in most trials
 
 
 def _small(tmp_path, **trace_kw):
