@@ -32,6 +32,10 @@ def _pcy97_accreted_reference(tb, g14):
 
 @pytest.mark.parametrize("tb, g14", [(1e7, 1.0), (1e8, 1.0), (1e8, 2.4), (5e8, 1.6), (2e9, 1.0)])
 def test_pcy97_fits_at_stated_points(tb, g14):
+    # NOT an outside check: a transcription check of the from-memory fits typed a second time (no published
+    # table of PCY97 points is available offline).  The outside checks of the envelope are the GPE83 worked
+    # point above, the iron fit's closeness to GPE83 below, and the photon-era closed form through the GPE83
+    # envelope in tests/reference/test_cooling_closed_forms.py.
     assert pcy97_iron(tb, g14) == pytest.approx(_pcy97_iron_reference(tb, g14), rel=1e-12)
     assert pcy97_accreted(tb, g14) == pytest.approx(_pcy97_accreted_reference(tb, g14), rel=1e-12)
 
