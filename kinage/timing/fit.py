@@ -212,7 +212,8 @@ def fit_toas(toas, scenario, *, max_iter=30, method="woodbury"):
     tab = read_toas(toas) if isinstance(toas, (str, Path)) else validate_toas(toas)
     star = scenario.star
     c = scenario.campaign
-    reference = resolve_reference(c, tab.meta, where)
+    reference = resolve_reference(c, tab.meta, where, base_dir=_folder(getattr(scenario, "path", None)),
+                                  table_dir=_folder(toas) if isinstance(toas, (str, Path)) else None)
     if c is None:
         c = _DefaultCampaign()
     ra, dec = star.value("ra", "deg"), star.value("dec", "deg")
@@ -265,6 +266,10 @@ def fit_toas(toas, scenario, *, max_iter=30, method="woodbury"):
     last = _result(model, grid, theta, pulses, noise, method, c, epoch, tab, history, cov, reference, False)
     raise ConvergenceError(f"the timing fit did not converge in {max_iter} iterations: {last.warnings[-1]}",
                            last_result=last)
+
+
+def _folder(path):
+    return None if path is None else Path(path).resolve().parent
 
 
 def _dispersion_measure(star):

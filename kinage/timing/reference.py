@@ -143,7 +143,7 @@ def _check_range(key, value, where):
         raise InputError(where, f"must be between {lo:g} and {hi:g} {unit} (got {value!r} {unit})")
 
 
-def resolve_reference(campaign, meta=None, where="TOA table"):
+def resolve_reference(campaign, meta=None, where="TOA table", *, base_dir=None, table_dir=None):
     """The TOA reference from the scenario and (optionally) a TOA table's metadata.
 
     Parameters
@@ -154,6 +154,10 @@ def resolve_reference(campaign, meta=None, where="TOA table"):
         The TOA table's metadata.
     where : str
         Name of the TOA table for messages (its file path).
+    base_dir, table_dir : Path, optional
+        Folders a relative ``ephemeris`` path is taken from: the scenario's
+        (scenario value) and the TOA table's (metadata value); default: the
+        working directory.
 
     Returns
     -------
@@ -171,6 +175,8 @@ def resolve_reference(campaign, meta=None, where="TOA table"):
     for key in REFERENCE_KEYS:
         s = _scenario_value(campaign, key)
         m = _meta_value(meta, key, where)
+        if key == "ephemeris":
+            s, m = _anchored(s, base_dir), _anchored(m, table_dir)
         if s is not None and key in _BOUNDS:
             _check_range(key, s, f"[campaign] {key}")
         if m is not None and key in _BOUNDS:
@@ -201,7 +207,7 @@ def resolve_reference(campaign, meta=None, where="TOA table"):
                 raise InputError(f"[campaign] {key}",
                                  "required with toa_reference = 'barycentre': the position the times were "
                                  f"barycentred for (in the scenario or the metadata of {where})")
-    eph = _ephemeris(vals["ephemeris"], campaign)
+    eph = _ephemeris(vals["ephemeris"])
     lon = vals["site_longitude"]
     if lon is not None and lon > 180.0:
         lon -= 360.0
@@ -211,13 +217,20 @@ def resolve_reference(campaign, meta=None, where="TOA table"):
                         vals["barycentred_dec"] if kind == "barycentre" else None, eph)
 
 
-def _ephemeris(value, campaign):
+def _anchored(value, folder):
+    """A relative ephemeris path taken from ``folder``; 'builtin' and None unchanged."""
+    if value is None or value.strip().lower() == "builtin":
+        return value
+    path = Path(value).expanduser()
+    if not path.is_absolute():
+        path = (Path(folder) if folder is not None else Path.cwd()) / path
+    return str(path)
+
+
+def _ephemeris(value):
     if value is None or str(value).strip().lower() == "builtin":
         return "builtin"
-    path = Path(str(value)).expanduser()
-    if not path.is_absolute():
-        base = getattr(campaign, "base_dir", None)
-        path = (Path(base) if base else Path.cwd()) / path
+    path = Path(str(value))
     if not path.is_file():
         raise InputError("[campaign] ephemeris", f"'builtin' or the path of a JPL ephemeris file; file not found: {path}")
     try:

@@ -138,7 +138,9 @@ def simulate_toas(scenario, *, rng=None, inject=None, frequency_mhz=None):
     c = scenario.campaign
     if c is None:
         raise InputError("[campaign]", "required to simulate TOAs")
-    reference = resolve_reference(c, None, "the simulated table")
+    path = getattr(scenario, "path", None)
+    reference = resolve_reference(c, None, "the simulated table",
+                                  base_dir=None if path is None else Path(path).resolve().parent)
     seed = rng if isinstance(rng, (int, np.integer)) else None
     rng = np.random.default_rng(rng)
     star = scenario.star

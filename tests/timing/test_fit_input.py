@@ -127,3 +127,8 @@ def test_all_toas_on_one_day(tmp_path, good_table, capsys):
 def test_too_few_toas(tmp_path, good_table, capsys):
     line = _run(tmp_path, good_table[:5], "", capsys)
     assert "more TOAs" in line
+
+
+def test_relative_ephemeris_path_is_taken_from_the_scenario_folder(tmp_path, good_table, capsys):
+    line = _run(tmp_path, _with_meta(good_table), 'ephemeris = "kernels/planets.bsp"\n', capsys)
+    assert str(tmp_path / "kernels" / "planets.bsp") in line
