@@ -162,15 +162,6 @@ class TimeGrid:
             obs2 = jd2 - removed / 86400.0
         return cls(ref, hi, geo.position, lo, geo.velocity, geo.sun, removed, freq, tuple(geo.warnings))
 
-    def subset(self, keep, seconds_shift=0.0):
-        """The grid at the selected TOAs, times shifted by ``-seconds_shift`` (s)."""
-        def pick(a):
-            return None if a is None else a[keep]
-
-        hi, lo = pr.dd_add_float(self.seconds[keep], self._lo()[keep], -seconds_shift)
-        return TimeGrid(self.ref + seconds_shift * u.s, hi, self.earth[keep], lo, pick(self.velocity),
-                        pick(self.sun), pick(self.removed), pick(self.frequency_mhz), self.notes)
-
     def _lo(self):
         return np.zeros_like(self.seconds) if self.seconds_lo is None else self.seconds_lo
 
