@@ -21,7 +21,10 @@ the mu = 0 form, sigma fitted by maximum likelihood (sigma^2 = <d^2> / 6), by a
 Kolmogorov-Smirnov test; it also fits (mu, sigma) of eq. A3.  The KS p-value
 is approximate because sigma is fitted, and the minimisation over time removes
 the error component along the relative velocity, so the comparison is a guide
-rather than a calibrated test (as in Hoogerwerf et al. 2001).
+rather than a calibrated test (as in Hoogerwerf et al. 2001).  The trace results
+report only the KS distance: Monte Carlo draws of one star are not independent
+measurements, so a KS p-value on them shrinks as draws are added (the
+birth probabilities of :mod:`.probability` are what rank the associations).
 """
 
 import numpy as np
