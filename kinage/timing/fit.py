@@ -146,16 +146,21 @@ class FitResult(ResultDisplay):
     def summary(self):
         v, s = self.solution.values_dict(), self.solution.sigma_dict()
         pri = " combined with the external prior" if self.solution.source == "timing+prior" else ""
+        if min(s["pm_ra_cosdec_masyr"], s["pm_dec_masyr"]) > 1000.0:
+            # 1 arcsec/yr: faster than any known neutron star, so the fit does not constrain the motion; the
+            # numbers stay in the JSON but are not quoted as if they were measurements
+            plx = ("nor the parallax" if s["parallax_mas"] > 1000.0
+                   else f"though it gives a parallax of {v['parallax_mas']:.3g} +/- {s['parallax_mas']:.2g} mas")
+            return (f"The timing fit of {self.n_toas} TOAs (at the {self.reference.kind}){pri} does not constrain "
+                    f"the proper motion ({plx}): its errors exceed 1 arcsec/yr, where the linearised timing model "
+                    f"has no meaning, so imaging astrometry is needed for the motion (reduced chi-square "
+                    f"{self.chi2_reduced:.2f}{'' if self.converged else ', NOT converged'}).")
         text = (f"The timing fit of {self.n_toas} TOAs (at the {self.reference.kind}){pri} gives a proper motion of "
                 f"{v['pm_ra_cosdec_masyr']:.3g} +/- {s['pm_ra_cosdec_masyr']:.2g} (ra*cos dec) and "
                 f"{v['pm_dec_masyr']:.3g} +/- {s['pm_dec_masyr']:.2g} (dec) mas/yr and a parallax of "
                 f"{v['parallax_mas']:.3g} +/- {s['parallax_mas']:.2g} mas "
                 f"(reduced chi-square {self.chi2_reduced:.2f}"
                 f"{'' if self.converged else ', NOT converged'}).")
-        if min(s["pm_ra_cosdec_masyr"], s["pm_dec_masyr"]) > 1000.0:
-            # 1 arcsec/yr: faster than any known neutron star, so the fit does not constrain the motion
-            text += (" Errors above 1 arcsec/yr mean timing does not constrain this star's motion;"
-                     " values this far from zero are noise, not a measurement.")
         return text
 
     def residual_table(self):
