@@ -56,6 +56,12 @@ class StarDraws:
     def n(self):
         return len(self.ra_deg)
 
+    def part(self, start, stop):
+        """Draws ``start`` to ``stop - 1`` (a view)."""
+        sl = slice(start, stop)
+        return StarDraws(self.ra_deg[sl], self.dec_deg[sl], self.distance_pc[sl], self.pm_ra_cosdec[sl],
+                         self.pm_dec[sl], self.radial_velocity[sl], self.distance_source, self.rv_source)
+
     def galactocentric(self, frame):
         """Positions (kpc) and velocities (km/s) in the Galactocentric frame of ``frame``."""
         return frame.to_galactocentric(self.ra_deg, self.dec_deg, self.distance_pc,

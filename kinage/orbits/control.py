@@ -78,13 +78,15 @@ def _merge(parts):
     return out
 
 
-def control_draws_needed(cpos, cvel, run, assoc, adraws, afailed, cfg, n_max, *, progress=False):
-    """Run control draws (prefixes of ``cpos``/``cvel``) in rounds until the chance rates are precise enough.
+def control_draws_needed(states, run, assoc, adraws, afailed, cfg, n_max, *, progress=False):
+    """Run control draws in rounds until the chance rates are precise enough.
 
     Parameters
     ----------
-    cpos, cvel : ndarray, shape (n, 3), kpc and km/s
-        All possible control draws, in order.
+    states : callable
+        ``states(start, stop)`` -> Galactocentric positions (kpc) and
+        velocities (km/s) of control draws ``start ... stop - 1``, each
+        shape (stop - start, 3); called once per round, in order.
     run : dict
         Keyword arguments of :func:`~kinage.orbits.chunks.run_draws` (times, pset, tolerance, ...).
     assoc, adraws, afailed, cfg :
@@ -100,9 +102,9 @@ def control_draws_needed(cpos, cvel, run, assoc, adraws, afailed, cfg, n_max, *,
     parts, done = [], 0
     target = min(n_max, FIRST_ROUND)
     for _ in range(MAX_ROUNDS):
+        cpos, cvel = states(done, target)
         with progress_bar(target - done, desc="control draws", enabled=progress) as bar:
-            parts.append(run_draws(cpos[done:target], cvel[done:target], assoc=assoc, adraws=adraws, bar=bar,
-                                   offset=done, **run))
+            parts.append(run_draws(cpos, cvel, assoc=assoc, adraws=adraws, bar=bar, offset=done, **run))
         done = target
         ctrl = _merge(parts) if len(parts) > 1 else parts[0]
         if done >= n_max:

@@ -146,12 +146,14 @@ def trace(scenario, *, solution=None, rng=None, samples=None, potential=None, pr
     ctrl = None
     n_control = 0
     if n_max_control:
-        # control draws for all star draws (so the numbers do not depend on how many are used),
-        # integrated only as far as the chance rates' precision needs ([trace] control_relative_error,
-        # control_absolute_error)
-        cdraws = rotated_proper_motions(draws, control_rng, frame=frame, velocity_prior=cfg["velocity_prior"])
-        cpos, cvel = cdraws.galactocentric(frame)
-        ctrl = control_draws_needed(cpos, cvel, run, assoc, adraws, afailed, cfg, n_max_control,
+        # control draws (star draws with turned proper motions), made and integrated only as far as the
+        # chance rates' precision needs ([trace] control_relative_error, control_absolute_error)
+        def control_states(start, stop):  # made round by round from one stream: only the draws used
+            part = rotated_proper_motions(draws.part(start, stop), control_rng, frame=frame,
+                                          velocity_prior=cfg["velocity_prior"])
+            return part.galactocentric(frame)
+
+        ctrl = control_draws_needed(control_states, run, assoc, adraws, afailed, cfg, n_max_control,
                                     progress=progress)
         n_control = ctrl["dmin"].shape[1]
     summaries = _summaries(cfg, adraws, afailed, draws, main, ctrl)
