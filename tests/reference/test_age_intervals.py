@@ -35,7 +35,9 @@ def test_agreement_rate_for_equal_true_ages_is_the_gaussian_two_sigma_rate():
     n, s1, s2 = 4000, 0.25, 0.6
     m1 = 1e5 * np.exp(s1 * rng.standard_normal(n))
     m2 = 1e5 * np.exp(s2 * rng.standard_normal(n))
-    k = sum(compare_intervals(_lognormal_interval(x, s1), _lognormal_interval(y, s2))["consistent"]
-            for x, y in zip(m1, m2))
+    # a lognormal's quantiles scale with its median: take scipy's unit-median interval once per sigma
+    u1, u2 = _lognormal_interval(1.0, s1), _lognormal_interval(1.0, s2)
+    scale = lambda iv, m: {key: v * m for key, v in iv.items()}  # noqa: E731
+    k = sum(compare_intervals(scale(u1, x), scale(u2, y))["consistent"] for x, y in zip(m1, m2))
     p = 2 * stats.norm.cdf(2.0) - 1
     assert stats.binomtest(int(k), n, p).pvalue > 1e-3
