@@ -397,3 +397,9 @@ def test_toa_error_zero_message_has_no_numpy_repr(tmp_path, capsys):
     scn = write_case(tmp_path / "in", scenario_dict(tables=("campaign",)))
     status, _, err = run_cli(["fit", path, "--scenario", scn], capsys)
     assert_one_line_error(status, err, "row 5", "'error'")
+
+
+def test_too_many_visits_names_the_limit(tmp_path, capsys):
+    # 300 visits a year for 200 years is 60,000 visits: a forecast of several minutes
+    raw = scenario_dict(campaign={"visits_per_year": 300, "baseline": "200 yr", "exposure": "1 ks"})
+    _bad(tmp_path, capsys, "forecast", raw, "[campaign] visits_per_year", "10,000 visits")
