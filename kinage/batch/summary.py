@@ -123,7 +123,7 @@ def plot_population(table, axes=None):
                    fontsize=5)
     ax2.set_ylabel("fraction of draws, best association")
     ax2.set_xlabel("* traced to a favoured association", fontsize=6)
-    ax2.legend(loc="upper right", fontsize=6)
+    ax2.legend(loc="lower left", bbox_to_anchor=(0.0, 1.01), fontsize=6, ncol=2)
     return fig
 
 
