@@ -166,13 +166,7 @@ def _dispatch(args, guard):
         from .io.options import check_arguments
 
         check_arguments(args)  # every option checked before anything is read, created or run
-        command = getattr(commands, "cmd_" + args.verb.replace("-", "_"))
-        if getattr(args, "out", None) is not None and args.verb in _SINGLE_STAGE:
-            from .io.rundir import output_lock
-
-            with output_lock(args.out):  # one command at a time per output folder
-                return command(args) or 0
-        return command(args) or 0
+        return getattr(commands, "cmd_" + args.verb.replace("-", "_"))(args) or 0
     except InputError as exc:
         for line in _problem_lines(exc):
             print(f"kinage {args.verb}: error: {line}", file=sys.stderr)
@@ -192,10 +186,6 @@ def _dispatch(args, guard):
         print(f"kinage {args.verb}: unexpected error ({type(exc).__name__}: {exc}); "
               "rerun with --debug for the traceback and please report it", file=sys.stderr)
         return 1
-
-
-#: verbs that write --out themselves (run, demo and batch lock and stage their folders in pipeline / batch)
-_SINGLE_STAGE = ("forecast", "simulate", "fit", "trace", "ages")
 
 
 def _problem_lines(exc):

@@ -28,9 +28,10 @@ def _require_table(scenario, table, verb):
 def _finish(args, result, scenario, verb, seed=None, extra_files=()):
     """Shared tail of the single-stage verbs: products, JSON, summary."""
     if getattr(args, "out", None):
-        from .io.rundir import staged_files
+        from .io.rundir import output_lock, staged_files
 
-        with staged_files(args.out) as work:  # an interrupted write leaves --out as it was
+        # one writer at a time per folder (the lock), and an interrupted write leaves --out as it was
+        with output_lock(args.out), staged_files(args.out) as work:
             files = result.write_products(work)
         _say(args, f"wrote {len(files)} files to {args.out}")
     if getattr(args, "json", None):

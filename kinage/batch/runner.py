@@ -266,12 +266,13 @@ def run_batch(args):
     args.verb = getattr(args, "verb", "batch")
     check_arguments(args)  # workers, scheduler address, paths: before anything is created
     out = args.out or Path("kinage-batch")
-    with output_lock(out):
-        return _run_batch_locked(args, out, as_completed, write_summary)
-
-
-def _run_batch_locked(args, out, as_completed, write_summary):
+    # every input read and checked before anything is created; then one batch at a time per folder
     plan = plan_batch(args.stars, args.scenario, out, seed=args.seed, samples=args.samples, force=args.force)
+    with output_lock(out):
+        return _run_batch_locked(args, plan, as_completed, write_summary)
+
+
+def _run_batch_locked(args, plan, as_completed, write_summary):
     say = (lambda s: None) if args.quiet else print
     previous = signal.signal(signal.SIGTERM, _sigterm_as_interrupt)
     records = list(plan.done)

@@ -403,3 +403,13 @@ def test_too_many_visits_names_the_limit(tmp_path, capsys):
     # 300 visits a year for 200 years is 60,000 visits: a forecast of several minutes
     raw = scenario_dict(campaign={"visits_per_year": 300, "baseline": "200 yr", "exposure": "1 ks"})
     _bad(tmp_path, capsys, "forecast", raw, "[campaign] visits_per_year", "10,000 visits")
+
+
+@pytest.mark.parametrize("verb", ["run", "trace", "forecast", "batch"])
+def test_bad_input_creates_no_folders(tmp_path, capsys, verb):
+    path = write_case(tmp_path / "in", scenario_dict(trace={"samples": -1}, campaign={"exposure": "-1 s"}))
+    out = tmp_path / "a" / "b" / "out"
+    argv = ["batch", path.parent / "population.ecsv", "--scenario", path] if verb == "batch" else [verb, path]
+    status, _, err = run_cli([*argv, "--out", out, "--json", tmp_path / "a" / "r.json"], capsys)
+    assert status == 2, err
+    assert not (tmp_path / "a").exists()
