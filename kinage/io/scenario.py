@@ -16,7 +16,6 @@ Examples
 300.0
 """
 
-import difflib
 import hashlib
 import math
 import os
@@ -28,17 +27,10 @@ import astropy.units as u
 
 from ..errors import InputError, ScenarioError
 from .quantities import format_quantity, parse_quantity, parse_time, shown
+from .checks import MAX_VISITS, check_bounds as _check_bounds, physical_checks as _physical_checks
+from .checks import short as _short, suggest as _suggest
 from .schema import SCHEMA, TOP_LEVEL_KEYS, Key
 
-#: most visits (TOAs) a campaign may plan: a forecast of 10,000 visits takes about a minute (measured on the
-#: 2-core development machine, 2026-12-02: 2,000 visits 12 s, 10,000 visits 41 s of CPU time)
-MAX_VISITS = 10_000
-#: G M_sun / c^2 in km (IAU 2015 nominal solar mass parameter)
-_GM_SUN_C2_KM = 1.4766250
-#: plausible epochs: MJD 15020 (1900-01-01) to 124593 (2200-01-01)
-MJD_RANGE = (15020.0, 124593.0)
-
-__all__ = ["Section", "Scenario", "load_scenario", "scenario_from_dict", "file_sha256"]
 
 
 class Section:
@@ -283,21 +275,6 @@ def scenario_from_dict(raw, base_dir=".", source=None, *, allow_missing=()):
 
 _MAX_TEXT = 10_000  # title / description
 _MAX_NAME = 200  # a string value without its own max_length
-_MAX_PATH = 4096
-
-
-def _short(name, limit=60):
-    """A name as shown in a message: cut when absurdly long."""
-    name = str(name)
-    return name if len(name) <= limit else f"{name[:limit]}... ({len(name)} characters)"
-
-
-def _suggest(name, choices):
-    """' (did you mean X?)' only for a genuinely close match (a typo, not a different word)."""
-    if len(name) > 64:
-        return ""
-    close = difflib.get_close_matches(name, list(choices), n=1, cutoff=0.8)
-    return f" (did you mean '{close[0]}'?)" if close else ""
 
 
 def _parse_section(table, raw, base_dir, problems, allow_missing=frozenset()):
@@ -465,87 +442,6 @@ def _path(val, base_dir, where, must_exist=True):
     return Path(os.path.abspath(p))
 
 
-def _as_given(out, raw):
-    """The value as the user wrote it, for messages (``-86 eV`` stays in eV)."""
-    if isinstance(raw, str):
-        return raw.strip() if len(raw) <= 60 else _short(raw)
-    if isinstance(out, u.Quantity):
-        return format_quantity(out)
-    return shown(out)
-
-
-def _bound_text(key, x, shown_value):
-    """The problem with number ``x`` against the key's sign and range, or None."""
-    why = f": {key.reason}" if key.reason else ""
-    unit = f" {key.unit}" if key.unit and key.kind != "float" else ""
-    sign_why = why if key.lower is not None else ""  # a reason given for an upper bound says nothing of the sign
-    if key.positive and not x > 0:
-        return f"must be positive{sign_why} (got {shown_value})"
-    if key.nonnegative and x < 0:
-        return f"must not be negative{sign_why} (got {shown_value})"
-    lo, hi = key.lower, key.upper
-    if lo is not None and (x < lo or (key.lower_open and x == lo)):
-        return f"must be {'above' if key.lower_open else 'at least'} {lo:g}{unit}{why} (got {shown_value})"
-    if hi is not None and (x > hi or (key.upper_open and x == hi)):
-        return f"must be {'below' if key.upper_open else 'at most'} {hi:g}{unit}{why} (got {shown_value})"
-    return None
-
-
-def _check_bounds(key, out, where, raw=None):
-    """Schema-driven checks of a converted value: sign, range (with the reason), choices, epochs."""
-    if key.kind in ("quantity", "angle", "float", "int"):
-        x = float(out.value if isinstance(out, u.Quantity) else out)
-        if not math.isfinite(x):
-            raise InputError(where, f"must be a finite number (got {_as_given(out, raw)})")
-        problem = _bound_text(key, x, _as_given(out, raw))
-        if problem:
-            raise InputError(where, problem)
-    elif key.kind == "floats":
-        for i, x in enumerate(out):
-            problem = _bound_text(key, x, shown(x))
-            if problem:
-                raise InputError(where, f"value {i + 1}: {problem}")
-    elif key.kind in ("time", "times"):
-        mjd = out.tdb.mjd
-        vals = [float(mjd)] if out.isscalar else [float(m) for m in mjd]
-        lo, hi = MJD_RANGE
-        for v in vals:
-            if not lo <= v <= hi:
-                raise InputError(where, f"must be between 1900 and 2200 (MJD {lo:.0f} to {hi:.0f}): "
-                                        f"a plausible epoch of a measurement or a visit (got MJD {v:.6g})")
-    elif key.kind in ("str", "names") and key.choices is not None:
-        choices = _choices(key.choices)
-        if choices is None:
-            return
-        given = [out] if key.kind == "str" else list(out)
-        lowered = {c.lower() for c in choices}
-        for v in given:
-            if v.lower() not in lowered:
-                raise InputError(where, f"expected one of {', '.join(repr(c) for c in choices)} (got {shown(v)})"
-                                 + _suggest(v, choices))
-
-
-def _choices(spec):
-    """Allowed values of a key: a tuple, a parameter-set kind ('param:potential') or 'envelope'."""
-    if isinstance(spec, (tuple, list)):
-        return tuple(spec)
-    if spec.startswith("param:"):
-        from ..params import KINDS, available
-
-        kind = spec[len("param:"):]
-        return tuple(available(kind)) if kind in KINDS else None
-    if spec == "envelope":
-        import sys
-
-        if "kinage.ages.envelope" not in sys.modules:
-            return _KNOWN_ENVELOPES  # the built-in ones, without importing the ages stage (slow)
-        return tuple(sys.modules["kinage.ages.envelope"].ENVELOPES)
-    return None
-
-
-_KNOWN_ENVELOPES = ("iron", "accreted", "gpe83")
-
-
 def _cross_checks(sections, problems):
     star = sections["star"]
     needs_position = any(t in sections for t in ("campaign", "trace"))
@@ -609,43 +505,3 @@ def _resolve_distance(sections, problems):
         vals[f"{drop}_error"] = None
         given = set(star._given) - {drop, f"{drop}_error"}
         sections["star"] = Section("star", vals, given)
-
-
-def _physical_checks(sections, problems):
-    """Checks across keys that need physics: a neutron star, a campaign that fits its visits, sizes that fit."""
-    ages = sections.get("ages")
-    star = sections["star"]
-    if ages is not None:
-        # Buchdahl (1959): a static star has R > (9/4) G M / c^2; inside it no neutron star exists
-        r_km = ages.value("radius", "km")
-        masses = [("mass", ages.value("mass", "solMass"))] + [("masses", m) for m in (ages.get("masses") or ())]
-        for key, m in masses:
-            limit = 2.25 * _GM_SUN_C2_KM * m
-            if r_km is not None and r_km <= limit:
-                which = "radius" if key == "mass" or ages.given("radius") else key
-                problems.append(InputError(f"[ages] {which}",
-                                           f"a {m:g} Msun star of radius {r_km:g} km lies inside its Buchdahl radius "
-                                           f"({limit:.3g} km = 9/4 GM/c^2; Schwarzschild radius "
-                                           f"{2 * _GM_SUN_C2_KM * m:.3g} km): no such neutron star"))
-                break
-        p0, p = ages.get("initial_period"), star.get("spin_period")
-        if p0 is not None and p is not None and not p0 < p:
-            problems.append(InputError("[ages] initial_period", f"must be shorter than [star] spin_period "
-                                       f"(a spinning-down star was faster at birth; got {format_quantity(p0)} >= "
-                                       f"{format_quantity(p)})"))
-    c = sections.get("campaign")
-    if c is not None:
-        vpy = c.get("visits_per_year")
-        if vpy is not None and c.get("exposure") is not None and c.get("dates") is None:
-            interval_s = 3.15576e7 / vpy
-            if c.exposure.to_value(u.s) > interval_s:
-                problems.append(InputError("[campaign] exposure",
-                                           f"longer than the time between visits ({format_quantity(c.exposure)} > "
-                                           f"{interval_s:.3g} s at {vpy:g} visits per year)"))
-        if vpy is not None and c.get("baseline") is not None and c.get("dates") is None:
-            n = c.baseline.to_value(u.yr) * vpy + 1
-            if n > MAX_VISITS:
-                problems.append(InputError("[campaign] visits_per_year",
-                                           f"{c.baseline.to_value(u.yr):g} yr x {vpy:g} visits per year is {n:.3g} "
-                                           f"visits, above the limit of {MAX_VISITS:,} visits (the forecast's run "
-                                           f"time grows with the visits: ~1 minute at the limit)"))
