@@ -101,14 +101,14 @@ def test_fused_kernel_matches_straight_line_closed_form_on_a_coarse_grid(null_po
 
 
 def test_fused_kernel_matches_a_dense_galpy_grid_in_a_potential():
-    # reference: galpy orbits on a 20,001-point grid, minimum by brute force plus a parabola (Bovy 2015, galpy);
+    # reference: galpy orbits on an 8,001-point grid, minimum by brute force plus a parabola (Bovy 2015, galpy);
     # the kernel sees only a 21-point grid (0.5 Myr steps) of the same orbits
     rng = np.random.default_rng(9)
     n, m = 300, 5
     ps, vs = random_states(rng, n, spread_kpc=0.05, speed=60.0)
     pa, va = random_states(rng, m, spread_kpc=0.05, speed=10.0)
     pset = get("potential", "MWPotential2014")
-    coarse, fine = time_grid(10.0, 21), time_grid(10.0, 20001)
+    coarse, fine = time_grid(10.0, 21), time_grid(10.0, 8001)
     s, a = integrate_orbits(ps, vs, coarse, pset), integrate_orbits(pa, va, coarse, pset)
     p, v = a.components()
     grid = AssociationGrid(np.moveaxis(p, 0, -1), np.moveaxis(v, 0, -1), coarse)
