@@ -32,10 +32,13 @@ _BYTES_PER_VALUE = 8 * 6 * 2  # galpy array + Cartesian copy, per draw and grid 
 
 
 def chunk_rows(n, nt, chunk_size, max_bytes, cores):
-    """Draws per chunk: at most ``chunk_size`` and ``max_bytes`` per chunk, and >= 2 chunks per core when n allows."""
+    """Draws per chunk: at most ``chunk_size`` and ``max_bytes`` per chunk; with several cores, the same whole
+    number (>= 2) of chunks per core, so that the threads finish together."""
     cap = max(1, min(int(chunk_size), int(max_bytes // (nt * _BYTES_PER_VALUE))))
-    if cores > 1:
-        cap = min(cap, max(1000, -(-n // (2 * cores))))
+    if cores > 1 and n > 1000:
+        chunks = max(2 * cores, -(-n // cap))
+        chunks = -(-chunks // cores) * cores  # a whole number of chunks per core
+        cap = max(min(cap, 1000), -(-n // chunks))
     return cap
 
 
