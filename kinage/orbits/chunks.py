@@ -18,7 +18,7 @@ from concurrent.futures import ThreadPoolExecutor
 import numpy as np
 
 from .hermite import AssociationGrid, StarChunk, closest_on_grid
-from .integrate import integrate_orbits, integration_cores, set_thread_integrator_cores
+from .integrate import integrate_orbits, integration_cores
 from .plane import plane_crossing_age
 
 __all__ = ["integrate_associations", "run_draws", "chunk_rows", "N_TRACKS", "BIRTH_RADII", "REFINE_RADII", "REFINE_MIN_PC"]
@@ -62,11 +62,9 @@ def _tracks(bundle):
 
 
 def _one_chunk(a, b, pos_all, vel_all, times, pset, assoc, adraws, tolerance, method, keep_plane, keep_tracks,
-               offset, threads):
-    if threads:
-        set_thread_integrator_cores(1)
+               offset, omp_threads):
     bundle = integrate_orbits(pos_all[a:b], vel_all[a:b], times, pset, method=method, tolerance=tolerance,
-                              quiet=False)
+                              quiet=False, cores=omp_threads)
     na, m = adraws.n_assoc, adraws.m
     out = {"a": a, "b": b, "failed": {offset + a + i: r for i, r in bundle.failed.items()},
            "tracks": _tracks(bundle) if keep_tracks and a == 0 else None}
@@ -147,12 +145,11 @@ def run_draws(pos_all, vel_all, times, pset, assoc, adraws, *, tolerance, method
     with warnings.catch_warnings():  # filters are process-wide: set once here, not in the threads
         warnings.simplefilter("ignore")
         if cores == 1 or len(bounds) == 1:
-            set_thread_integrator_cores(cores)
             for a, b in bounds:
-                collect(_one_chunk(a, b, *args, threads=False))
+                collect(_one_chunk(a, b, *args, omp_threads=cores))
         else:
             with ThreadPoolExecutor(max_workers=cores) as pool:
-                futures = [pool.submit(_one_chunk, a, b, *args, threads=True) for a, b in bounds]
+                futures = [pool.submit(_one_chunk, a, b, *args, omp_threads=1) for a, b in bounds]
                 for f in futures:  # in order, so births stay sorted by draw
                     collect(f.result())
     for j in range(na):

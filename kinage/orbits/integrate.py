@@ -257,7 +257,8 @@ def _integrate_rows(vxvv, t_nat, pot, method, ro, vo, quiet=True, **kw):
     return o.orbit  # the orbit array itself (getOrbit() would copy it)
 
 
-def integrate_orbits(pos, vel, times, potential, *, method="dop853_c", tolerance=None, quiet=True, **galpy_kwargs):
+def integrate_orbits(pos, vel, times, potential, *, method="dop853_c", tolerance=None, quiet=True, cores=None,
+                     **galpy_kwargs):
     """Integrate orbits from their present state back over ``times``.
 
     Parameters
@@ -277,6 +278,9 @@ def integrate_orbits(pos, vel, times, potential, *, method="dop853_c", tolerance
     quiet : bool
         Silence galpy's warnings here (False: the caller does, e.g. around a
         pool of threads, since warning filters are process-wide).
+    cores : int, optional
+        OpenMP threads of galpy's C integrator for this call (default: in the
+        main thread :func:`integration_cores`, elsewhere as set for the thread).
     **galpy_kwargs
         Passed to ``Orbit.integrate`` (e.g. ``rtol``, ``atol``).
 
@@ -298,7 +302,9 @@ def integrate_orbits(pos, vel, times, potential, *, method="dop853_c", tolerance
     import_galpy()
     from galpy.util import conversion
 
-    if threading.current_thread() is threading.main_thread():
+    if cores is not None:
+        set_thread_integrator_cores(cores)
+    elif threading.current_thread() is threading.main_thread():
         set_thread_integrator_cores(integration_cores())  # e.g. batch workers: 1 (worker threads set their own)
 
     ro, vo = float(potential.values["ro_kpc"]), float(potential.values["vo_kms"])
