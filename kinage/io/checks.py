@@ -147,6 +147,13 @@ def physical_checks(sections, problems):
                                        f"(a spinning-down star was faster at birth; got {format_quantity(p0)} >= "
                                        f"{format_quantity(p)})"))
     c = sections.get("campaign")
+    if c is not None and c.given("dates") and not c.given("schedule"):  # a schedule with dates: the plan says so
+        both = [k for k in ("start", "baseline", "visits_per_year") if c.given(k)]
+        if both:
+            problems.append(InputError("[campaign] dates",
+                                       f"given together with {', '.join(repr(k) for k in both)}: explicit dates "
+                                       "replace the regular plan, so give either 'dates' or start, baseline and "
+                                       "visits_per_year"))
     if c is not None:
         vpy = c.get("visits_per_year")
         if vpy is not None and c.get("exposure") is not None and c.get("dates") is None:

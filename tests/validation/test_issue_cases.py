@@ -413,3 +413,8 @@ def test_bad_input_creates_no_folders(tmp_path, capsys, verb):
     status, _, err = run_cli([*argv, "--out", out, "--json", tmp_path / "a" / "r.json"], capsys)
     assert status == 2, err
     assert not (tmp_path / "a").exists()
+
+
+def test_dates_and_regular_plan_conflict(tmp_path, capsys):
+    raw = scenario_dict(campaign={"dates": ["2027-03-01", "2027-09-01", "2028-03-01"]})
+    _bad(tmp_path, capsys, "forecast", raw, "[campaign] dates", "'start'")
