@@ -156,7 +156,7 @@ def trace(scenario, *, solution=None, rng=None, samples=None, potential=None, pr
         ctrl = control_draws_needed(control_states, run, assoc, adraws, afailed, cfg, n_max_control,
                                     progress=progress)
         n_control = ctrl["dmin"].shape[1]
-    summaries = _summaries(cfg, adraws, afailed, draws, main, ctrl)
+    summaries = _summaries(cfg, adraws, afailed, draws, main, ctrl, cores=cores)
     ranked, favoured, field = rank_associations(summaries, field_prior=cfg["field_prior"])
     failed = [{"index": int(i), "kind": "star", "reason": r} for i, r in sorted(main["failed"].items())]
     if ctrl is not None:
@@ -175,11 +175,14 @@ def trace(scenario, *, solution=None, rng=None, samples=None, potential=None, pr
     return result
 
 
-def _summaries(cfg, adraws, afailed, draws, main, ctrl):
+def _summaries(cfg, adraws, afailed, draws, main, ctrl, cores=1):
+    """Per-association statistics; with several cores the associations are summarised in parallel threads
+    (numpy's sorting and quantiles release the GIL), in order, so the result does not depend on ``cores``."""
     bad_star = np.zeros(draws.n, bool)
     bad_star[list(main["failed"])] = True
-    out = []
-    for j, name in enumerate(adraws.names):
+
+    def one(j):
+        name = adraws.names[j]
         abad = np.zeros(adraws.m, bool)
         for i in afailed:
             if i // adraws.m == j:
@@ -197,5 +200,11 @@ def _summaries(cfg, adraws, afailed, draws, main, ctrl):
                                   factor=cfg["factor"], tolerance_myr=cfg["tolerance"], control=control,
                                   control_runs=cfg["control_runs"], distance_pc=draws.distance_pc)
         s["_index"] = j
-        out.append(s)
-    return out
+        return s
+
+    if cores > 1 and adraws.n_assoc > 1:
+        from concurrent.futures import ThreadPoolExecutor
+
+        with ThreadPoolExecutor(max_workers=cores) as pool:
+            return list(pool.map(one, range(adraws.n_assoc)))
+    return [one(j) for j in range(adraws.n_assoc)]
