@@ -196,15 +196,15 @@ def closest_on_grid(star, assoc, j, *, refine_below_pc, want_position_below_pc=N
     times = assoc.times
     nt = len(times)
     step = times[0] - times[1]  # > 0
-    k, kc, fm, f0, fp = star.grid_d2(assoc, j)
-    fm, f0, fp = fm.astype(float), f0.astype(float), fp.astype(float)
-    # parabola f0 + b u + c u^2 through kc - 1, kc, kc + 1 (u in grid steps towards the past), kept on
+    k, kc, fm, fc, fp = star.grid_d2(assoc, j)
+    fm, fc, fp = fm.astype(float), fc.astype(float), fp.astype(float)
+    # parabola fc + b u + c u^2 through kc - 1, kc, kc + 1 (u in grid steps towards the past), kept on
     # the grid and within one step of kc
-    b, c = 0.5 * (fp - fm), 0.5 * (fp - 2.0 * f0 + fm)
+    b, c = 0.5 * (fp - fm), 0.5 * (fp - 2.0 * fc + fm)
     with np.errstate(invalid="ignore", divide="ignore"):
         u = np.where(c > 0, -b / (2.0 * c), (k - kc).astype(float))
     u = np.clip(u, np.maximum(-1.0, -kc), np.minimum(1.0, nt - 1 - kc))
-    d2min = f0 + u * (b + c * u)
+    d2min = fc + u * (b + c * u)
     t = times[kc] - u * step
     dmin = np.sqrt(np.maximum(d2min, 0.0)) * 1000.0
     fine = np.flatnonzero(~(dmin >= refine_below_pc))  # NaN rows too, so failures stay NaN

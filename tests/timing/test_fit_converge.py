@@ -135,7 +135,7 @@ def test_dispersion_measure_offset_fitted_with_two_frequencies():
     d = fit.to_dict()
     assert d["converged"] and "dispersion_measure" in fit.parameters
     assert abs(d["dispersion_measure"] - 30.02) < 4 * d["dispersion_measure_sigma"]
-    # sigma_DM ~ sigma_t / (K |1/f1^2 - 1/f2^2|) / sqrt(N/2) (two-frequency difference; order of magnitude)
+    # sigma_DM ~ sigma_t / (K |1/nu_lo^2 - 1/nu_hi^2|) / sqrt(N/2) (two-frequency difference; order of magnitude)
     k = 4.148808e3 * (1 / 400.0**2 - 1 / 1400.0**2)
     assert 0.3 < d["dispersion_measure_sigma"] / (1e-6 / k / np.sqrt(len(sim.table) / 4)) < 3
 

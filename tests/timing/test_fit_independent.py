@@ -41,8 +41,8 @@ T_SUN = (const.GM_sun / const.c**3).to_value(u.s)  # astropy constants, not kina
 RA, DEC = 97.3, 18.9  # near the ecliptic: the Shapiro delay matters
 TRUE = {"ra_mas": 3.0, "dec_mas": -2.0, "pm_ra_cosdec": 14.0, "pm_dec": -9.0, "parallax": 2.5}
 PERIOD = 0.00431  # s (invented)
-F0 = Decimal(1) / Decimal("0.00431")
-F1 = Decimal("-2.1e-15")
+SPIN_FREQ = Decimal(1) / Decimal("0.00431")
+SPIN_FREQ_DOT = Decimal("-2.1e-15")
 EPOCH = Time(61400.0, format="mjd", scale="tdb")
 SITE = dict(lon=-107.62, lat=34.08, height=2124.0)  # invented telescope site
 
@@ -99,10 +99,10 @@ def _generate(mjd_nominal, site, sigma_s, rng):
         sun = get_body_barycentric("sun", t).xyz.to_value(u.m).T
         delay = _delay(r, s, d, sun)
         tau = [x + Decimal(repr(float(dl))) for x, dl in zip(sec, delay)]
-        phase = [F0 * x + F1 * x * x / 2 for x in tau]
+        phase = [SPIN_FREQ * x + SPIN_FREQ_DOT * x * x / 2 for x in tau]
         if n_pulse is None:
             n_pulse = [p.to_integral_value() for p in phase]
-        sec = [x - (p - n) / (F0 + F1 * tt) for x, p, n, tt in zip(sec, phase, n_pulse, tau)]
+        sec = [x - (p - n) / (SPIN_FREQ + SPIN_FREQ_DOT * tt) for x, p, n, tt in zip(sec, phase, n_pulse, tau)]
     noise = rng.standard_normal(len(sec)) * sigma_s
     return [x + Decimal(repr(float(e))) for x, e in zip(sec, noise)]
 
@@ -145,7 +145,7 @@ def _scenario(tmp_path, extra=""):
 ra = {RA}
 dec = {DEC}
 spin_period = {PERIOD}
-spin_period_derivative = {float(-F1 / F0**2):.6e}
+spin_period_derivative = {float(-SPIN_FREQ_DOT / SPIN_FREQ**2):.6e}
 pm_ra_cosdec = 13.9
 pm_dec = -9.05
 parallax = 2.4
