@@ -22,6 +22,12 @@ def _campaign(**kw):
     return scenario_from_dict({"star": {"ra": RA, "dec": DEC}, "campaign": c}).campaign
 
 
+def _dated_campaign(dates):
+    # explicit dates replace start/baseline/visits_per_year (giving both is an input conflict)
+    c = {"dates": dates, "toa_error": 1e-3, "sun_avoidance": 45}
+    return scenario_from_dict({"star": {"ra": RA, "dec": DEC}, "campaign": c}).campaign
+
+
 def _sun_angle(mjd):
     # independent check straight from astropy: geocentric Sun vs the source
     t = Time(mjd, format="mjd", scale="tdb")
@@ -55,16 +61,21 @@ def test_no_avoidance_keeps_nominal_epochs():
 
 
 def test_explicit_dates_inside_sun_window_are_named():
-    c = _campaign(dates=["2028-01-10", "2028-06-21", "2028-10-01"])
+    c = _dated_campaign(["2028-01-10", "2028-06-21", "2028-10-01"])
     with pytest.raises(InputError, match=r"dates.*2028-06-21"):
         make_plan(c, RA, DEC)
 
 
 def test_explicit_dates_allowed():
-    c = _campaign(dates=["2028-01-10", "2028-03-21", "2028-10-01"])
+    c = _dated_campaign(["2028-01-10", "2028-03-21", "2028-10-01"])
     plan = make_plan(c, RA, DEC)
     assert plan.n_visits == 3
     assert plan.span_yr == pytest.approx((plan.mjd[-1] - plan.mjd[0]) / 365.25)
+
+
+def test_explicit_dates_with_regular_plan_keys_is_a_conflict():
+    with pytest.raises(ScenarioError, match="dates"):
+        _campaign(dates=["2028-01-10", "2028-03-21", "2028-10-01"])
 
 
 def test_baseline_shorter_than_one_interval():
