@@ -44,7 +44,7 @@ def suggest(name, choices):
 
 
 def as_given(out, raw):
-    """The value as the user wrote it, for messages (``-86 eV`` stays in eV)."""
+    """The value as the user wrote it, for messages (``-52 eV`` stays in eV)."""
     if isinstance(raw, str):
         return raw.strip() if len(raw) <= 60 else short(raw)
     if isinstance(out, u.Quantity):

@@ -17,7 +17,9 @@ __all__ = ["ForecastResult", "TIMING_ASSUMPTIONS"]
 TIMING_ASSUMPTIONS = [
     "Roemer and parallax delays from the Earth's barycentric position in astropy's built-in ephemeris "
     "(ERFA epv00; Lorimer & Kramer 2005, Handbook of Pulsar Astronomy, ch. 8)",
-    "TOAs referred to the geocentre in TDB; observatory offset, solar Shapiro delay and dispersion ignored",
+    "TOAs referred to the geocentre in TDB for the forecast: the site offset, the solar Shapiro delay and the "
+    "dispersion delay are known terms of the model, which simulation and fit include; their derivatives with "
+    "respect to the astrometric parameters are too small to change the forecast errors",
     "phase connection assumed: every TOA is numbered by the nearest whole pulse of the starting model",
     "red noise: power law A^2/(12 pi^2) f_yr^-3 (f/f_yr)^-gamma in a Fourier basis (Lentati et al. 2013; "
     "van Haasteren & Vallisneri 2014); spin terms marginalised",

@@ -30,7 +30,7 @@ def test_minimal_star_parses():
         # astropy unit conversion is the reference for each pair
         ("parallax", "3100 uas", 3.1 * u.mas),
         ("distance", "0.25 kpc", (0.25 * u.kpc).to(u.pc)),
-        ("spin_period", "8390 ms", 8.39 * u.s),
+        ("spin_period", "6125 ms", 6.125 * u.s),
         ("pm_dec", "-0.07 arcsec/yr", -70 * u.mas / u.yr),
         ("luminosity", "1e25 W", (1e25 * u.W).to(u.erg / u.s)),
     ],

@@ -14,11 +14,11 @@ BASE = {
     "title": "validation case (invented)",
     "star": {
         "name": "Test-1", "ra": 182.098674, "dec": -46.446622, "ra_error": 40.0, "dec_error": 40.0,
-        "epoch": "2027-01-01", "parallax": "2.712 mas", "parallax_error": "0.25 mas",
+        "epoch": "2027-01-01", "parallax": "1.937 mas", "parallax_error": "0.25 mas",
         "pm_ra_cosdec": "13.03 mas/yr", "pm_ra_cosdec_error": "1.5 mas/yr", "pm_dec": "31.70 mas/yr",
-        "pm_dec_error": "1.5 mas/yr", "spin_period": "7.213 s", "spin_period_error": "1e-6 s",
-        "spin_period_derivative": 6.4e-14, "spin_period_derivative_error": 0.4e-14,
-        "temperature": "86 eV", "temperature_error": "4 eV",
+        "pm_dec_error": "1.5 mas/yr", "spin_period": "4.271 s", "spin_period_error": "1e-6 s",
+        "spin_period_derivative": 3.1e-14, "spin_period_derivative_error": 0.2e-14,
+        "temperature": "52 eV", "temperature_error": "4 eV",
     },
     "campaign": {
         "start": "2027-03-01", "baseline": "6 yr", "visits_per_year": 4, "exposure": "30 ks",

@@ -155,8 +155,8 @@ def test_top_level_key_is_not_called_a_table(tmp_path, capsys):
 
 
 def test_negative_temperature_in_ev_is_reported_in_ev(tmp_path, capsys):
-    raw = scenario_dict(star={"temperature": "-86 eV"})
-    _bad(tmp_path, capsys, "ages", raw, "[star] temperature", "(got -86 eV)")
+    raw = scenario_dict(star={"temperature": "-52 eV"})
+    _bad(tmp_path, capsys, "ages", raw, "[star] temperature", "(got -52 eV)")
 
 
 def test_no_unrelated_suggestion(tmp_path, capsys):
