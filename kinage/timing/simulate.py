@@ -30,7 +30,7 @@ from .forecast import noise_from_campaign
 from .forecast_result import TIMING_ASSUMPTIONS
 from . import precision
 from .model import ASTRO_PARAMETERS, TimeGrid, TimingModel
-from .plan import make_plan
+from .plan import scenario_plan
 from .reference import resolve_reference, timing_assumptions
 from .toas import write_toas
 
@@ -146,7 +146,7 @@ def simulate_toas(scenario, *, rng=None, inject=None, frequency_mhz=None):
     star = scenario.star
     ra, dec = star.value("ra", "deg"), star.value("dec", "deg")
     vals = _injected(scenario, rng, inject)
-    plan = make_plan(c, ra, dec)
+    plan = scenario_plan(scenario)  # the forecast's dates, with the expected direction for 'motion'
     freq_col = None
     if frequency_mhz is not None:
         f = np.atleast_1d(np.asarray(frequency_mhz, float))

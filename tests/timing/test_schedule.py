@@ -287,3 +287,17 @@ def test_bad_schedule_input(tmp_path, capsys, change, key):
     assert not js.exists() and not (out / "forecast_plan.ecsv").exists()
     with pytest.raises(InputError, match=key):
         make_plan(scenario_from_dict({"star": ALIAS_STAR, "campaign": camp}).campaign, 247.3, -12.8)
+
+
+def test_simulated_toas_fall_on_the_forecast_motion_dates(alias_runs):
+    # the simulation visits the dates the forecast chose (the 'motion' schedule depends on the expected
+    # direction of motion, which both must take from the star's proper motion); consistency, no source
+    from kinage.timing.simulate import simulate_toas
+
+    scn = scenario_from_dict({"star": ALIAS_STAR, "campaign": {**ALIAS_CAMPAIGN, "schedule": "motion"}})
+    sim = simulate_toas(scn, rng=5)
+    toa = np.sort(sim.table["mjd"].to_value("mjd", "float"))
+    planned = np.sort(alias_runs["motion"]["mjd"])
+    assert toa.size == planned.size
+    # arrival times differ from the visit times by the light travel across the Earth's orbit (< 0.006 d)
+    assert np.max(np.abs(toa - planned)) < 0.01
