@@ -282,7 +282,7 @@ def brier_score(prob_matrix, truth_index):
 
 
 def trace_rows(rows, associations_path, samples, field_prior, seed=7, association_samples=100, control_runs=4,
-               time_steps=201):
+               time_steps=201, neighbourhood_share=None):
     """Run ``kinage.orbits.trace`` on star rows directly (the reduced calibration of the test suite).
 
     Returns
@@ -302,6 +302,8 @@ def trace_rows(rows, associations_path, samples, field_prior, seed=7, associatio
                                           "association_samples": association_samples, "control_runs": control_runs,
                                           "max_age": TRACE_MAX_AGE_MYR, "time_steps": time_steps, "seed": seed + i,
                                           "field_prior": field_prior}}
+        if neighbourhood_share is not None:
+            raw["trace"]["neighbourhood_share"] = neighbourhood_share
         try:
             with warnings.catch_warnings():
                 warnings.simplefilter("ignore")
@@ -336,7 +338,7 @@ def write_associations(path, associations):
     return path
 
 
-def _write_inputs(out, assoc, rows, samples, field_prior):
+def _write_inputs(out, assoc, rows, samples, field_prior, neighbourhood_share=None):
     from astropy.table import Table
 
     out.mkdir(parents=True, exist_ok=True)
@@ -348,7 +350,8 @@ def _write_inputs(out, assoc, rows, samples, field_prior):
         "# template for the calibration batch (invented population)\n"
         "[star]\nname = \"template\"\n\n[trace]\nassociations = \"associations.csv\"\n"
         f"samples = {samples}\nassociation_samples = 100\ncontrol_runs = 4\nmax_age = \"{TRACE_MAX_AGE_MYR:g} Myr\"\n"
-        f"time_steps = 201\nseed = 7\nfield_prior = {field_prior}\n")
+        f"time_steps = 201\nseed = 7\nfield_prior = {field_prior}\n"
+        + ("" if neighbourhood_share is None else f"neighbourhood_share = {neighbourhood_share}\n"))
 
 
 def _collect(out, rows, stars, assoc):
@@ -368,12 +371,10 @@ def _collect(out, rows, stars, assoc):
 
 
 def _figure(table, field_table, path):
-    import matplotlib
+    from matplotlib.figure import Figure  # no pyplot: the caller's backend is left alone
 
-    matplotlib.use("Agg")
-    import matplotlib.pyplot as plt
-
-    fig, ax = plt.subplots(figsize=(4.6, 4.2))
+    fig = Figure(figsize=(4.6, 4.2))
+    ax = fig.subplots()
     ax.plot([0, 1], [0, 1], color="0.6", lw=1, ls="--", label="perfect calibration")
     for tab, lab, mk in ((table, "birth in a listed association", "o"), (field_table, "birth in the field", "s")):
         x = [b["mean_stated"] for b in tab]
@@ -387,7 +388,6 @@ def _figure(table, field_table, path):
     ax.legend(loc="upper left", fontsize=8)
     fig.tight_layout()
     fig.savefig(path, dpi=130)
-    plt.close(fig)
 
 
 def _print_table(title, tab):
@@ -404,6 +404,10 @@ def main(argv=None):
     ap.add_argument("--associations", type=int, default=4)
     ap.add_argument("--samples", type=int, default=1000, help="Monte Carlo draws per star")
     ap.add_argument("--field-fraction", type=float, default=0.5, help="share of field births = [trace] field_prior")
+    ap.add_argument("--near-miss-share", type=float, default=0.4,
+                    help="share of the field births that are near misses 30-80 pc from a centre (default 0.4)")
+    ap.add_argument("--neighbourhood-share", type=float, default=None,
+                    help="[trace] neighbourhood_share to run with (default: kinage's default)")
     ap.add_argument("--seed", type=int, default=2026)
     ap.add_argument("--workers", type=int, default=2)
     ap.add_argument("--out", default="calibration_run")
@@ -413,9 +417,10 @@ def main(argv=None):
     out = Path(args.out)
     t0 = time.time()
     assoc = make_associations(rng, args.associations)
-    stars = inject_population(rng, assoc, args.stars, field_fraction=args.field_fraction)
+    stars = inject_population(rng, assoc, args.stars, field_fraction=args.field_fraction,
+                              near_miss_share=args.near_miss_share)
     rows = observe(rng, stars)
-    _write_inputs(out, assoc, rows, args.samples, args.field_fraction)
+    _write_inputs(out, assoc, rows, args.samples, args.field_fraction, args.neighbourhood_share)
     (out / "truth.json").write_text(json.dumps([{"name": r["name"], **s} for r, s in zip(rows, stars)], indent=1))
     t1 = time.time()
     print(f"injected {len(stars)} stars ({sum(s['kind'] == 'member' for s in stars)} members, "
@@ -445,7 +450,8 @@ def main(argv=None):
             print(f"  {k:9s} n={sel.sum():3d}: mean probability of the truth {probs[sel, truth[sel]].mean():.2f}, "
                   f"most probable hypothesis is the truth for {np.mean(top[sel] == truth[sel]):.0%}")
     summary = {"n_stars": int(len(truth)), "brier": bs, "brier_reference": bs_ref, "reliability": table,
-               "field_reliability": field_table, "samples": args.samples, "seed": args.seed}
+               "field_reliability": field_table, "samples": args.samples, "seed": args.seed,
+               "near_miss_share": args.near_miss_share, "neighbourhood_share": args.neighbourhood_share}
     (out / "calibration.json").write_text(json.dumps(summary, indent=1))
     if args.figure:
         _figure(table, field_table, args.figure)

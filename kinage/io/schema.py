@@ -172,6 +172,12 @@ _TRACE = [
     Key("field_prior", "float", default=0.5, positive=True, upper=1.0,
         doc="prior probability (0 < p < 1) that the star was born outside every listed association; default 0.5 "
             "because most massive stars form in associations but a candidate table lists only a few of them"),
+    Key("neighbourhood_share", "float", default=0.4, nonnegative=True, upper=1.0, upper_open=True,
+        doc="share (0 <= s < 1) of the births outside the listed associations that happen in their surroundings "
+            "(near misses); default 0.4 because star formation is clustered; 0 gives an unrelated field alone"),
+    Key("neighbourhood_scale", "quantity", "pc", default=50.0, positive=True,
+        doc="extent of an association's surroundings, added in quadrature to its radius; default 50 pc, the "
+            "size of a star-forming complex"),
 ]
 
 _AGES = [

@@ -62,6 +62,12 @@ class StarDraws:
         return StarDraws(self.ra_deg[sl], self.dec_deg[sl], self.distance_pc[sl], self.pm_ra_cosdec[sl],
                          self.pm_dec[sl], self.radial_velocity[sl], self.distance_source, self.rv_source)
 
+    def take(self, index):
+        """The draws at the integer positions ``index`` (a copy)."""
+        i = np.asarray(index, int)
+        return StarDraws(self.ra_deg[i], self.dec_deg[i], self.distance_pc[i], self.pm_ra_cosdec[i],
+                         self.pm_dec[i], self.radial_velocity[i], self.distance_source, self.rv_source)
+
     def galactocentric(self, frame):
         """Positions (kpc) and velocities (km/s) in the Galactocentric frame of ``frame``."""
         return frame.to_galactocentric(self.ra_deg, self.dec_deg, self.distance_pc,

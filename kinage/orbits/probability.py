@@ -43,13 +43,33 @@ compared with its size).  When the direct average rests on at least
 alone, with a linear blend below that, so a star still close to its
 association (where the wide kernel saturates) is not overstated.
 
-Priors and posteriors.  P(H_0) = ``field_prior``; the rest shared equally,
-P(H_j) = (1 - field_prior) / N.  Then
+Births cluster.  Stars born outside the listed candidates are not spread at
+random: star formation is clustered, and many are born in the surroundings
+of an association without belonging to it (near misses).  Their back-traced
+paths also pass close to the association, so a random-direction field alone
+makes a near miss look like a member whenever the path is too uncertain to
+tell 10 pc from 50 pc.  The field hypothesis H_0 is therefore a mixture: a
+share ``1 - s`` of field births with directions unrelated to any candidate
+(the control rate above), and a share ``s`` (``[trace] neighbourhood_share``)
+born in the surroundings of candidate j, H_0j, with the 2-D miss vector
+Gaussian of dispersion sqrt(radius_j^2 + L^2), L = ``[trace]
+neighbourhood_scale`` (within the same age window).  Its Bayes factor
+against the unrelated field, Lambda_0j, is the same ratio of averages with
+the wider kernel.  When the path is well known, a member gives
+Lambda_j >> Lambda_0j and a near miss the reverse; when the path is
+uncertain on scales of L, Lambda_j ~ Lambda_0j and the priors decide, which
+is what the data allow.  ``s = 0`` gives the unrelated field alone.
 
-    P(j | data) = P(H_j) Lambda_j / [P(H_0) + sum_k P(H_k) Lambda_k],
-    P(field | data) = P(H_0) / [same],
+Priors and posteriors.  P(H_0) = ``field_prior`` = f, split into f (1 - s)
+for the unrelated field and f s / N for the surroundings of each candidate;
+the rest shared equally, P(H_j) = (1 - f) / N.  With
+Z = f (1 - s) + sum_k [P(H_k) Lambda_k + (f s / N) Lambda_0k],
 
-which sum to 1.  Both averages are ratios of Monte Carlo means, so the
+    P(j | data) = P(H_j) Lambda_j / Z,
+    P(near j, not in it | data) = (f s / N) Lambda_0j / Z,
+    P(field | data) = [f (1 - s) + sum_k (f s / N) Lambda_0k] / Z,
+
+which sum to 1 (the field probability includes the surroundings).  Both averages are ratios of Monte Carlo means, so the
 probabilities converge as draws are added instead of drifting with their
 number.  Their Monte Carlo error is a delete-one-group jackknife over
 ``N_GROUPS`` groups of draws (star and control draws of the same index stay
@@ -70,8 +90,11 @@ import numpy as np
 
 from ..errors import InputError
 
-__all__ = ["birth_kernel", "check_field_prior", "posterior_probabilities", "weighted_interval",
-           "PROBABILITY_THRESHOLD", "CONTROL_WIDTH", "CONTROL_HITS", "N_GROUPS", "DEFAULT_FIELD_PRIOR", "MODEL_TEXT"]
+__all__ = ["birth_kernel", "check_field_prior", "check_neighbourhood_share", "neighbourhood_width",
+           "posterior_probabilities", "posterior_from_sums", "kernel_group_sums", "jackknife_groups", "SUM_KEYS",
+           "weighted_interval", "PROBABILITY_THRESHOLD", "CONTROL_WIDTH", "CONTROL_HITS",
+           "N_GROUPS", "DEFAULT_FIELD_PRIOR", "DEFAULT_NEIGHBOURHOOD_SHARE", "DEFAULT_NEIGHBOURHOOD_SCALE_PC",
+           "MODEL_TEXT"]
 
 #: an association is favoured when its probability is at least this (common practice, no source:
 #: more likely than every other hypothesis together)
@@ -84,6 +107,13 @@ CONTROL_HITS = 30.0
 N_GROUPS = 20
 #: documented default of ``[trace] field_prior``
 DEFAULT_FIELD_PRIOR = 0.5
+#: documented default of ``[trace] neighbourhood_share``: the share of births outside the listed candidates
+#: that happen in their surroundings.  Common practice, no source: field massive stars are mostly found near
+#: star-forming regions rather than spread at random; 0.4 keeps most of the field prior unrelated.
+DEFAULT_NEIGHBOURHOOD_SHARE = 0.4
+#: documented default of ``[trace] neighbourhood_scale``, pc: the extent of an association's surroundings
+#: (common practice, no source: star-forming complexes are tens of pc to ~100 pc across)
+DEFAULT_NEIGHBOURHOOD_SCALE_PC = 50.0
 
 #: one-paragraph statement of the model for reports
 MODEL_TEXT = (
@@ -91,7 +121,10 @@ MODEL_TEXT = (
     "the closest-approach distance with the association's radius as dispersion, for closest approaches within "
     "its age) averaged over the Monte Carlo draws, divided by the same average over control draws with "
     "randomised directions of motion (the field alternative); prior {field:.2g} for a birth outside every "
-    "listed candidate, the rest shared equally among them; Monte Carlo errors by a jackknife over groups of "
+    "listed candidate, the rest shared equally among them; a share {share:.2g} of the field births placed in "
+    "the candidates' surroundings (a Gaussian kernel of {scale:.3g} pc added in quadrature to the radius), so a "
+    "near miss is not taken for a member when the path is too uncertain to tell them apart; Monte Carlo errors "
+    "by a jackknife over groups of "
     "draws (Hoogerwerf, de Bruijne & de Zeeuw 2001 for the closest-approach reasoning)."
 )
 
@@ -131,33 +164,131 @@ def check_field_prior(value, where="[trace] field_prior"):
     return x
 
 
-def _group_sums(k, v, groups):
-    """Per-group sums of kernels and of valid counts: arrays (N, G)."""
-    n_assoc = k.shape[0]
-    ks = np.zeros((n_assoc, groups.max() + 1 if groups.size else 1))
+def check_neighbourhood_share(value, where="[trace] neighbourhood_share"):
+    """The neighbourhood share as a float, or InputError unless 0 <= value < 1."""
+    try:
+        x = float(value)
+    except (TypeError, ValueError):
+        raise InputError(where, f"must be a number from 0 (inclusive) to 1 (exclusive) (got {value!r})") from None
+    if not 0.0 <= x < 1.0:
+        raise InputError(where, f"must lie in [0, 1) (got {x:g})")
+    return x
+
+
+def neighbourhood_width(radius_pc, scale_pc):
+    """Width of the surroundings' kernel in units of the radius, sqrt(radius^2 + scale^2) / radius.
+
+    Parameters
+    ----------
+    radius_pc, scale_pc : float, pc
+
+    Returns
+    -------
+    float (>= 1)
+    """
+    r = max(float(radius_pc), 1e-9)
+    return float(np.hypot(r, float(scale_pc)) / r)
+
+
+def _group_sums(k, v, groups, g):
+    """Per-group sums of kernels and of valid counts: arrays (N, g)."""
+    k, v = np.atleast_2d(k), np.atleast_2d(v)
+    ks = np.zeros((k.shape[0], g))
     vs = np.zeros_like(ks)
-    for j in range(n_assoc):
-        ks[j] = np.bincount(groups, weights=k[j], minlength=ks.shape[1])
-        vs[j] = np.bincount(groups, weights=v[j].astype(float), minlength=ks.shape[1])
+    for j in range(k.shape[0]):
+        ks[j] = np.bincount(groups, weights=k[j], minlength=g)
+        vs[j] = np.bincount(groups, weights=v[j].astype(float), minlength=g)
     return ks, vs
 
 
-def _posteriors(km, vm, kc, kcw, vc, field_prior):
-    """Posteriors from summed kernels; arrays over associations (last axis: leave-one-out copies)."""
-    n_assoc = km.shape[0]
+def jackknife_groups(n, n_control, n_groups=N_GROUPS):
+    """Group labels of the star draws and of the control draws, and the number of groups.
+
+    Draw i of ``n`` goes to group floor(i g / n), so star and control draws of the
+    same relative position share a group.
+
+    Returns
+    -------
+    (ndarray of int, ndarray of int, int)
+    """
+    g = int(max(2, min(n_groups, n, n_control)))
+    return (np.arange(n) * g) // max(n, 1), (np.arange(n_control) * g) // max(n_control, 1), g
+
+
+#: names of the per-group sums :func:`posterior_from_sums` takes, in order
+SUM_KEYS = ("main", "main_valid", "control", "control_wide", "control_valid", "near", "control_near",
+            "control_near_wide")
+
+
+def kernel_group_sums(main, control, radius_pc, age_myr, tolerance_myr, neighbourhood_scale_pc,
+                      n_groups=N_GROUPS):
+    """Per-group sums of one association's kernels: all :func:`posterior_from_sums` needs of it.
+
+    Summing at once keeps memory at O(groups) per association instead of O(draws).
+
+    Parameters
+    ----------
+    main, control : tuple (dmin_pc, tau_myr, edge, valid)
+        Star and control draws for this association.
+    radius_pc, age_myr, tolerance_myr : float
+    neighbourhood_scale_pc : float
+        ``[trace] neighbourhood_scale``, pc.
+    n_groups : int
+
+    Returns
+    -------
+    dict
+        Arrays of shape (g,) under :data:`SUM_KEYS`.
+    """
+    gm, gc, g = jackknife_groups(len(main[0]), len(control[0]), n_groups)
+    wn = neighbourhood_width(radius_pc, neighbourhood_scale_pc)
+    out = {}
+    for (name, valid_name, widths), (draws, groups) in zip(
+            ((("main", "near"), "main_valid", (1.0, wn)),
+             (("control", "control_wide", "control_near", "control_near_wide"), "control_valid",
+              (1.0, CONTROL_WIDTH, wn, wn * CONTROL_WIDTH))),
+            ((main, gm), (control, gc))):
+        valid = np.asarray(draws[3], bool)
+        for key, w in zip(name, widths):
+            k = birth_kernel(draws[0], draws[1], draws[2], valid, radius_pc, age_myr, tolerance_myr, width=w)
+            out[key] = np.bincount(groups, weights=k, minlength=g)
+        out[valid_name] = np.bincount(groups, weights=valid.astype(float), minlength=g)
+    return out
+
+
+def _bayes_factor(km, vm, kc, kcw, vc):
+    """Bayes factor against the unrelated field from summed kernels (star draws, control, wide control)."""
     mean_main = km / np.maximum(vm, 1.0)
     nc = np.maximum(vc, 1.0)
     alpha = np.clip(kc / CONTROL_HITS, 0.0, 1.0)
     chance = alpha * (kc / nc) + (1.0 - alpha) * (kcw / nc / CONTROL_WIDTH**2)
     # no control draw came near even for the wide kernel: at most half a wide-kernel passage
     chance = np.maximum(chance, 0.5 / (nc * CONTROL_WIDTH**2))
-    lam = mean_main / chance
+    return mean_main / chance
+
+
+def _posteriors(km, vm, kc, kcw, vc, field_prior, near=None, share=0.0):
+    """Posteriors from summed kernels; arrays over associations (last axis: leave-one-out copies).
+
+    ``near`` holds the summed kernels (star, control, wide control) of the surroundings; ``share`` their
+    part of the field prior.  Returns (P_j, P_field, Lambda_j, P_near_j, Lambda_0j).
+    """
+    n_assoc = km.shape[0]
+    lam = _bayes_factor(km, vm, kc, kcw, vc)
     prior_j = (1.0 - field_prior) / n_assoc
-    z = field_prior + prior_j * lam.sum(axis=0)
-    return prior_j * lam / z, field_prior / z, lam
+    if near is None or share == 0.0:
+        lam0 = np.zeros_like(lam)
+    else:
+        kmn, kcn, kcnw = near
+        lam0 = _bayes_factor(kmn, vm, kcn, kcnw, vc)
+    prior_0j = field_prior * share / n_assoc
+    z = field_prior * (1.0 - share) + prior_j * lam.sum(axis=0) + prior_0j * lam0.sum(axis=0)
+    p_near = prior_0j * lam0 / z
+    return prior_j * lam / z, (field_prior * (1.0 - share)) / z + p_near.sum(axis=0), lam, p_near, lam0
 
 
-def posterior_probabilities(k_main, v_main, k_ctrl, k_ctrl_wide, v_ctrl, field_prior, n_groups=N_GROUPS):
+def posterior_probabilities(k_main, v_main, k_ctrl, k_ctrl_wide, v_ctrl, field_prior, n_groups=N_GROUPS,
+                            near=None, neighbourhood_share=0.0):
     """Posterior probabilities of every candidate and of the field, with jackknife errors.
 
     Parameters
@@ -171,34 +302,67 @@ def posterior_probabilities(k_main, v_main, k_ctrl, k_ctrl_wide, v_ctrl, field_p
         Prior probability of a birth outside all candidates, 0 < p < 1.
     n_groups : int
         Groups for the jackknife (fewer when there are fewer draws).
+    near : tuple of ndarray (k_main, k_ctrl, k_ctrl_wide), optional
+        Kernels of the surroundings (width :func:`neighbourhood_width`), shaped as above.
+    neighbourhood_share : float
+        Share of the field prior born in the candidates' surroundings, 0 <= s < 1.
 
     Returns
     -------
     dict
         ``probability`` (N,), ``probability_error`` (N,), ``field_probability``,
         ``field_probability_error``, ``likelihood_ratio`` (N,) (Bayes factor
-        against the field), ``likelihood_ratio_error`` (N,).
+        against the unrelated field), ``likelihood_ratio_error`` (N,),
+        ``neighbourhood_probability`` (N,) and its ``_error`` (birth in the
+        surroundings of each candidate but not in it; part of the field probability).
     """
     k_main, v_main = np.atleast_2d(k_main), np.atleast_2d(v_main)
     k_ctrl, k_ctrl_wide, v_ctrl = np.atleast_2d(k_ctrl), np.atleast_2d(k_ctrl_wide), np.atleast_2d(v_ctrl)
-    n, nc = k_main.shape[1], k_ctrl.shape[1]
-    g = int(max(2, min(n_groups, n, nc)))
-    gm = (np.arange(n) * g) // max(n, 1)
-    gc = (np.arange(nc) * g) // max(nc, 1)
-    km, vm = _group_sums(k_main, v_main, gm)
-    kc, vc = _group_sums(k_ctrl, v_ctrl, gc)
-    kcw, _ = _group_sums(k_ctrl_wide, v_ctrl, gc)
-    tot = [a.sum(axis=1) for a in (km, vm, kc, kcw, vc)]
-    p, p0, lam = _posteriors(*tot, field_prior)
-    loo = [a.sum(axis=1, keepdims=True) - a for a in (km, vm, kc, kcw, vc)]
-    pj, p0j, lamj = _posteriors(*loo, field_prior)
+    gm, gc, g = jackknife_groups(k_main.shape[1], k_ctrl.shape[1], n_groups)
+    km, vm = _group_sums(k_main, v_main, gm, g)
+    kc, vc = _group_sums(k_ctrl, v_ctrl, gc, g)
+    sums = {"main": km, "main_valid": vm, "control": kc, "control_wide": _group_sums(k_ctrl_wide, v_ctrl, gc, g)[0],
+            "control_valid": vc}
+    if near is not None:
+        for key, arr, v, grp in zip(SUM_KEYS[5:], near, (v_main, v_ctrl, v_ctrl), (gm, gc, gc)):
+            sums[key] = _group_sums(arr, v, grp, g)[0]
+    return posterior_from_sums(sums, field_prior, neighbourhood_share)
+
+
+def posterior_from_sums(sums, field_prior, neighbourhood_share=0.0):
+    """Posterior probabilities and jackknife errors from per-group kernel sums.
+
+    Parameters
+    ----------
+    sums : dict
+        Arrays of shape (N, g) (N associations, g jackknife groups) under
+        :data:`SUM_KEYS`; the three ``near`` keys may be missing when
+        ``neighbourhood_share`` is 0.
+    field_prior, neighbourhood_share : float
+
+    Returns
+    -------
+    dict
+        As :func:`posterior_probabilities`.
+    """
+    share = float(neighbourhood_share)
+    keys = SUM_KEYS if share > 0.0 and all(k in sums for k in SUM_KEYS[5:]) else SUM_KEYS[:5]
+    arrays = [np.atleast_2d(np.asarray(sums[k], float)) for k in keys]
+    g = arrays[0].shape[1]
+
+    def post(a):
+        return _posteriors(*a[:5], field_prior, near=tuple(a[5:]) if len(a) > 5 else None, share=share)
+
+    p, p0, lam, pn, _ = post([a.sum(axis=1) for a in arrays])
+    pj, p0j, lamj, pnj, _ = post([a.sum(axis=1, keepdims=True) - a for a in arrays])
 
     def jack(x):
         return np.sqrt((g - 1) / g * np.sum((x - x.mean(axis=-1, keepdims=True)) ** 2, axis=-1))
 
     return {"probability": p, "probability_error": jack(pj), "field_probability": float(p0),
             "field_probability_error": float(jack(p0j[None, :])[0]), "likelihood_ratio": lam,
-            "likelihood_ratio_error": jack(lamj)}
+            "likelihood_ratio_error": jack(lamj), "neighbourhood_probability": pn,
+            "neighbourhood_probability_error": jack(pnj)}
 
 
 def weighted_interval(x, w):

@@ -77,6 +77,8 @@ def association_table(result):
         t["probability"] = [np.nan if s.get("probability") is None else s["probability"] for s in rows]
         t["probability_error"] = [np.nan if s.get("probability_error") is None else s["probability_error"]
                                   for s in rows]
+        for key in ("neighbourhood_probability", "neighbourhood_probability_error"):
+            t[key] = [np.nan if s.get(key) is None else s[key] for s in rows]
     for key, unit, scale in (("age_yr", u.yr, 1.0), ("dmin_pc", u.pc, 1.0)):
         base = key.rsplit("_", 1)[0]
         for q in ("median", "lo68", "hi68"):

@@ -6,7 +6,8 @@ import numpy as np
 
 from .._results import ResultDisplay
 from ..io.results import interval
-from .probability import DEFAULT_FIELD_PRIOR, MODEL_TEXT, PROBABILITY_THRESHOLD
+from .probability import (DEFAULT_FIELD_PRIOR, DEFAULT_NEIGHBOURHOOD_SCALE_PC, DEFAULT_NEIGHBOURHOOD_SHARE, MODEL_TEXT,
+                          PROBABILITY_THRESHOLD)
 
 __all__ = ["TraceResult"]
 
@@ -71,6 +72,8 @@ class TraceResult(ResultDisplay):
             "solar_frame": frame.summary(),
             "astrometry_source": solution.source,
             "field_prior": cfg.get("field_prior"),
+            "neighbourhood_share": cfg.get("neighbourhood_share"),
+            "neighbourhood_scale_pc": cfg.get("neighbourhood_scale"),
         }
         psets = [cfg["potential"], cfg["solar"]]
         from ..params import get
@@ -177,8 +180,10 @@ class TraceResult(ResultDisplay):
         ``likelihood_ratio`` (+ ``_error``), and the radial velocity, present
         distance and age implied by birth there (``radial_velocity_if_born_here_kms``,
         ``distance_if_born_here_pc``, ``age_if_born_here_yr``: kernel-weighted
-        intervals).  Top level: ``field_probability`` (+ ``_error``),
-        ``field_prior``, ``probability_threshold``, ``favoured_radial_velocity_kms``,
+        intervals), ``neighbourhood_probability`` (+ ``_error``: birth in its
+        surroundings but not in it, part of the field probability).  Top level:
+        ``field_probability`` (+ ``_error``), ``field_prior``, ``neighbourhood_share``,
+        ``neighbourhood_scale_pc``, ``probability_threshold``, ``favoured_radial_velocity_kms``,
         ``favoured_distance_pc`` (None unless an association is favoured),
         ``plane_crossing_fraction``, ``plane_crossing_caveats`` and ``warnings``.
         """
@@ -194,6 +199,8 @@ class TraceResult(ResultDisplay):
             "field_probability": field.get("field_probability"),
             "field_probability_error": field.get("field_probability_error"),
             "field_prior": field.get("field_prior"),
+            "neighbourhood_share": field.get("neighbourhood_share"),
+            "neighbourhood_scale_pc": field.get("neighbourhood_scale_pc"),
             "probability_threshold": field.get("probability_threshold"),
             "plane_crossing_age_yr": interval(pc),
             "plane_crossing_fraction": float(pc.size / self.n_samples) if self.n_samples else None,
@@ -264,7 +271,9 @@ def _assumptions(cfg, draws):
         "(randomised inputs as in Tetzlaff et al. 2010, MNRAS 402, 2369)",
         "d_min compared with the common-origin distribution of Hoogerwerf, de Bruijne & de Zeeuw 2001, "
         "A&A 365, 49, Appendix A (sigma fitted; KS distance only, no p-value)",
-        MODEL_TEXT.format(field=cfg.get("field_prior", DEFAULT_FIELD_PRIOR))
+        MODEL_TEXT.format(field=cfg.get("field_prior", DEFAULT_FIELD_PRIOR),
+                          share=cfg.get("neighbourhood_share", DEFAULT_NEIGHBOURHOOD_SHARE),
+                          scale=cfg.get("neighbourhood_scale", DEFAULT_NEIGHBOURHOOD_SCALE_PC))
         + f"; an association is favoured when its probability is at least {PROBABILITY_THRESHOLD:.2g}",
     ]
     if draws.rv_source == "prior":

@@ -23,8 +23,9 @@ import numpy as np
 
 from ..io.results import interval
 from .common_origin import compare_common_origin
-from .probability import (CONTROL_WIDTH, DEFAULT_FIELD_PRIOR, PROBABILITY_THRESHOLD, birth_kernel,
-                          posterior_probabilities, weighted_interval)
+from .probability import (DEFAULT_FIELD_PRIOR, DEFAULT_NEIGHBOURHOOD_SCALE_PC, DEFAULT_NEIGHBOURHOOD_SHARE,
+                          PROBABILITY_THRESHOLD, SUM_KEYS, birth_kernel, kernel_group_sums, posterior_from_sums,
+                          weighted_interval)
 
 __all__ = ["encounter_mask", "summarise_association", "rank_associations", "verdict", "PROBABILITY_THRESHOLD"]
 
@@ -39,7 +40,8 @@ def _yr(iv):
 
 
 def summarise_association(name, radius_pc, age_myr, dmin_pc, tau_myr, edge, valid, rv_kms, *, factor,
-                          tolerance_myr, control=None, control_runs=0, distance_pc=None):
+                          tolerance_myr, control=None, control_runs=0, distance_pc=None,
+                          neighbourhood_scale_pc=DEFAULT_NEIGHBOURHOOD_SCALE_PC):
     """Statistics of one association.
 
     Parameters
@@ -58,6 +60,8 @@ def summarise_association(name, radius_pc, age_myr, dmin_pc, tau_myr, edge, vali
         Number of runs the control draws are split into (for the error of the chance rate).
     distance_pc : ndarray, optional
         The star's present distance of each draw, pc (for the distance implied by this birthplace).
+    neighbourhood_scale_pc : float
+        Extent of the association's surroundings, pc (``[trace] neighbourhood_scale``).
 
     Returns
     -------
@@ -102,14 +106,15 @@ def summarise_association(name, radius_pc, age_myr, dmin_pc, tau_myr, edge, vali
     out["probability_error"] = None
     out["likelihood_ratio"] = None
     out["likelihood_ratio_error"] = None
-    out["_k_main"], out["_v_main"] = kern, valid
-    out["_k_ctrl"] = None
+    out["neighbourhood_probability"] = None
+    out["neighbourhood_probability_error"] = None
+    out["_sums"] = None
     if control is not None:
         cd, ct, ce, cv = control
         cenc = encounter_mask(cd, ct, ce, cv, radius_pc, age_myr, factor, tolerance_myr)
-        out["_k_ctrl"] = birth_kernel(cd, ct, ce, cv, radius_pc, age_myr, tolerance_myr)
-        out["_k_ctrl_wide"] = birth_kernel(cd, ct, ce, cv, radius_pc, age_myr, tolerance_myr, width=CONTROL_WIDTH)
-        out["_v_ctrl"] = cv
+        # per-group kernel sums for the probabilities (memory O(groups), not O(draws))
+        out["_sums"] = kernel_group_sums((dmin_pc, tau_myr, edge, valid), control, radius_pc, age_myr,
+                                         tolerance_myr, neighbourhood_scale_pc)
         nc = int(cv.sum())
         kc = int(cenc.sum())
         out["n_control"] = nc
@@ -135,22 +140,21 @@ def _rv_range(rv):
     return res
 
 
-def _assign_probabilities(summaries, field_prior):
+def _assign_probabilities(summaries, field_prior, neighbourhood_share):
     """Set ``probability`` etc. on every summary; returns (field_probability, its error) or (None, None)."""
-    if not summaries or any(s["_k_ctrl"] is None for s in summaries):
+    if not summaries or any(s.get("_sums") is None for s in summaries):
         return None, None
-    stack = [np.array([s[k] for s in summaries]) for k in ("_k_main", "_v_main", "_k_ctrl", "_k_ctrl_wide",
-                                                           "_v_ctrl")]
-    res = posterior_probabilities(*stack, field_prior)
+    sums = {k: np.array([s["_sums"][k] for s in summaries]) for k in SUM_KEYS}
+    res = posterior_from_sums(sums, field_prior, neighbourhood_share)
     for i, s in enumerate(summaries):
-        s["probability"] = float(res["probability"][i])
-        s["probability_error"] = float(res["probability_error"][i])
-        s["likelihood_ratio"] = float(res["likelihood_ratio"][i])
-        s["likelihood_ratio_error"] = float(res["likelihood_ratio_error"][i])
+        for key in ("probability", "probability_error", "likelihood_ratio", "likelihood_ratio_error",
+                    "neighbourhood_probability", "neighbourhood_probability_error"):
+            s[key] = float(res[key][i])
     return res["field_probability"], res["field_probability_error"]
 
 
-def rank_associations(summaries, field_prior=DEFAULT_FIELD_PRIOR):
+def rank_associations(summaries, field_prior=DEFAULT_FIELD_PRIOR, neighbourhood_share=DEFAULT_NEIGHBOURHOOD_SHARE,
+                      neighbourhood_scale_pc=DEFAULT_NEIGHBOURHOOD_SCALE_PC):
     """Give every summary its probability, sort best first; sets ``rank`` and ``favoured``.
 
     Parameters
@@ -159,6 +163,10 @@ def rank_associations(summaries, field_prior=DEFAULT_FIELD_PRIOR):
         From :func:`summarise_association`.
     field_prior : float
         Prior probability of a birth outside all candidates (``[trace] field_prior``).
+    neighbourhood_share : float
+        Share of those births in the candidates' surroundings (``[trace] neighbourhood_share``).
+    neighbourhood_scale_pc : float
+        Extent of the surroundings the summaries were made with, pc (reported only).
 
     Returns
     -------
@@ -169,12 +177,11 @@ def rank_associations(summaries, field_prior=DEFAULT_FIELD_PRIOR):
         The top association when its probability is at least :data:`PROBABILITY_THRESHOLD`.
     field : dict
         ``field_probability``, ``field_probability_error`` (None without control draws),
-        ``field_prior`` and ``probability_threshold``.
+        ``field_prior``, ``neighbourhood_share``, ``neighbourhood_scale_pc`` and ``probability_threshold``.
     """
-    p0, p0_err = _assign_probabilities(summaries, field_prior)
+    p0, p0_err = _assign_probabilities(summaries, field_prior, neighbourhood_share)
     for s in summaries:
-        for key in ("_k_main", "_v_main", "_k_ctrl", "_k_ctrl_wide", "_v_ctrl"):
-            s.pop(key, None)
+        s.pop("_sums", None)
 
     def key(s):
         prob = s["probability"] if s["probability"] is not None else 0.0
@@ -189,6 +196,7 @@ def rank_associations(summaries, field_prior=DEFAULT_FIELD_PRIOR):
         ranked[0]["favoured"] = True
         fav = ranked[0]["name"]
     field = {"field_probability": p0, "field_probability_error": p0_err, "field_prior": float(field_prior),
+             "neighbourhood_share": float(neighbourhood_share), "neighbourhood_scale_pc": float(neighbourhood_scale_pc),
              "probability_threshold": PROBABILITY_THRESHOLD}
     return ranked, fav, field
 
@@ -228,6 +236,10 @@ def verdict(ranked, favoured, control_available=True, field=None):
                 "draws).")
     field_text = (f"probability {_prob_text(p0, field.get('field_probability_error'))} that it was born outside "
                   f"the listed candidates (prior {prior:.2g})")
+    near = best.get("neighbourhood_probability")
+    if near is not None and near >= 0.05:
+        field_text += (f", {_prob_text(near, best.get('neighbourhood_probability_error'))} of it for a birth near "
+                       f"{best['name']} but outside it")
     if favoured is not None:
         return (f"{best['name']} is the favoured birth association: probability "
                 f"{_prob_text(best['probability'], best['probability_error'])} that the star was born in it, "

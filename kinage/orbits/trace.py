@@ -28,11 +28,11 @@ from ..kinematics import draw_star, rotated_proper_motions, velocity_prior as ma
 from ..params.registry import galaxy_pair
 from ..progress import progress_bar
 from .chunks import chunk_rows, integrate_associations, run_draws
-from .control import control_draws_needed
+from .control import MAX_CONTROL_FACTOR, control_draws_needed
 from .frames import solar_frame
 from .integrate import integration_cores, time_grid
 from .result import TraceResult
-from .probability import DEFAULT_FIELD_PRIOR, check_field_prior
+from .probability import DEFAULT_FIELD_PRIOR, check_field_prior, check_neighbourhood_share
 from .statistics import rank_associations, summarise_association, verdict
 
 __all__ = ["trace", "CHUNK_BYTES"]
@@ -67,6 +67,8 @@ def _settings(scenario, samples, potential):
         "integration_tolerance": float(tr.get("integration_tolerance")),
         "chunk_size": int(tr.get("chunk_size")),
         "field_prior": check_field_prior(tr.get("field_prior", DEFAULT_FIELD_PRIOR)),
+        "neighbourhood_share": check_neighbourhood_share(tr.get("neighbourhood_share")),
+        "neighbourhood_scale": tr.value("neighbourhood_scale", "pc"),
     }
 
 
@@ -149,15 +151,19 @@ def trace(scenario, *, solution=None, rng=None, samples=None, potential=None, pr
         # control draws (star draws with turned proper motions), made and integrated only as far as the
         # chance rates' precision needs ([trace] control_relative_error, control_absolute_error)
         def control_states(start, stop):  # made round by round from one stream: only the draws used
-            part = rotated_proper_motions(draws.part(start, stop), control_rng, frame=frame,
+            # beyond the star draws (for the probabilities' chance rates) the star draws are reused in order,
+            # each with a new random direction
+            part = rotated_proper_motions(draws.take(np.arange(start, stop) % draws.n), control_rng, frame=frame,
                                           velocity_prior=cfg["velocity_prior"])
             return part.galactocentric(frame)
 
         ctrl = control_draws_needed(control_states, run, assoc, adraws, afailed, cfg, n_max_control,
-                                    progress=progress)
+                                    progress=progress, main=main, n_max_probability=MAX_CONTROL_FACTOR * cfg["n"])
         n_control = ctrl["dmin"].shape[1]
     summaries = _summaries(cfg, adraws, afailed, draws, main, ctrl, cores=cores)
-    ranked, favoured, field = rank_associations(summaries, field_prior=cfg["field_prior"])
+    ranked, favoured, field = rank_associations(summaries, field_prior=cfg["field_prior"],
+                                                neighbourhood_share=cfg["neighbourhood_share"],
+                                                neighbourhood_scale_pc=cfg["neighbourhood_scale"])
     failed = [{"index": int(i), "kind": "star", "reason": r} for i, r in sorted(main["failed"].items())]
     if ctrl is not None:
         failed += [{"index": int(i), "kind": "control", "reason": r} for i, r in sorted(ctrl["failed"].items())]
@@ -198,7 +204,8 @@ def _summaries(cfg, adraws, afailed, draws, main, ctrl, cores=1):
         s = summarise_association(name, adraws.radius_pc[j], adraws.age_myr[j], main["dmin"][j].astype(float),
                                   main["tau"][j].astype(float), main["edge"][j], valid, draws.radial_velocity,
                                   factor=cfg["factor"], tolerance_myr=cfg["tolerance"], control=control,
-                                  control_runs=cfg["control_runs"], distance_pc=draws.distance_pc)
+                                  control_runs=cfg["control_runs"], distance_pc=draws.distance_pc,
+                                  neighbourhood_scale_pc=cfg["neighbourhood_scale"])
         s["_index"] = j
         return s
 

@@ -267,7 +267,8 @@ def trace_rows(d):
     pc = d.get("plane_crossing_age_yr")
     rows.append(("time since the last Galactic-plane crossing", fmt_age_interval(pc)))
     if d.get("field_probability") is not None:
-        rows.append(("probability of no listed association (field)", _pct(d["field_probability"])))
+        rows.append(("probability of no listed association (field, including their surroundings)",
+                     _pct(d["field_probability"], d.get("field_probability_error"))))
     rows.append(("settings", _trace_settings(d.get("settings") or {})))
     return rows, association_rows(assocs)
 
@@ -299,7 +300,9 @@ def _pct(x, err=None):
 def association_rows(assocs, top=8):
     """Header and rows of the ranked association table (probability first when present)."""
     has_p = any(a.get("probability") is not None for a in assocs)
+    has_near = any(a.get("neighbourhood_probability") for a in assocs)
     header = (["rank", "association"] + (["probability"] if has_p else [])
+              + (["born nearby, not in it"] if has_near else [])
               + ["encounter fraction", "chance fraction", "kinematic age", "d_min (pc)"])
     rows = []
     for i, a in enumerate(assocs[:top]):
@@ -307,6 +310,9 @@ def association_rows(assocs, top=8):
         if has_p:
             p = a.get("probability")
             r.append(_pct(p, a.get("probability_error")) if p is not None else "n/a")
+        if has_near:
+            pn = a.get("neighbourhood_probability")
+            r.append(_pct(pn, a.get("neighbourhood_probability_error")) if pn is not None else "n/a")
         r += [_pct(a.get("encounter_fraction")), _pct(a.get("chance_fraction")),
               fmt_age_interval(a.get("age_yr")), fmt_interval(a.get("dmin_pc"))]
         rows.append(r)

@@ -15,7 +15,8 @@ from kinage import scenario_from_dict
 from kinage.errors import InputError
 from kinage.io.results import to_jsonable
 from kinage.orbits import trace
-from kinage.orbits.probability import check_field_prior, posterior_probabilities, weighted_interval
+from kinage.orbits.probability import (check_field_prior, check_neighbourhood_share, neighbourhood_width,
+                                       posterior_probabilities, weighted_interval)
 
 
 def _script():
@@ -74,6 +75,71 @@ def test_jackknife_error_matches_spread_of_repeated_experiments():
     spread = np.std([r["probability"][0] for r in reps], ddof=1)
     jack = np.mean([r["probability_error"][0] for r in reps])
     assert jack == pytest.approx(spread, rel=0.35)
+
+
+def _bayes_rule(lam, lam0, f, s):
+    # the mixture written out by hand (Bayes' theorem over N candidates, their N surroundings and the
+    # unrelated field): P_j = pi_j L_j / Z, P_near_j = pi_0j L_0j / Z, P_field = (f (1 - s) + sum P_near) / Z
+    n = len(lam)
+    pj, p0j = (1 - f) / n, f * s / n
+    z = f * (1 - s) + pj * np.sum(lam) + p0j * np.sum(lam0)
+    return pj * np.asarray(lam) / z, p0j * np.asarray(lam0) / z, (f * (1 - s) + p0j * np.sum(lam0)) / z
+
+
+def test_surroundings_enter_by_bayes_rule_and_everything_sums_to_one():
+    rng = np.random.default_rng(7)
+    n = 6000
+    km = rng.exponential(0.02, (3, n)) * (rng.random((3, n)) < 0.3)
+    kn = np.minimum(1.0, km * 5.0 + rng.exponential(0.01, (3, n)))
+    kc = rng.exponential(0.002, (3, n)) * (rng.random((3, n)) < 0.3)
+    kcn = np.minimum(1.0, kc * 8.0)
+    v = np.ones_like(km, bool)
+    r = posterior_probabilities(km, v, kc, kc * 9.0, v, 0.5, near=(kn, kcn, kcn * 9.0), neighbourhood_share=0.4)
+    assert np.sum(r["probability"]) + r["field_probability"] == pytest.approx(1.0, abs=1e-12)
+    # the Bayes factors of the surroundings by the same ratio of averages (direct chance rate: many passages)
+    lam0 = kn.mean(axis=1) / kcn.mean(axis=1)
+    pj, pn, p0 = _bayes_rule(r["likelihood_ratio"], lam0, 0.5, 0.4)
+    np.testing.assert_allclose(r["probability"], pj, rtol=1e-9)
+    np.testing.assert_allclose(r["neighbourhood_probability"], pn, rtol=1e-9)
+    assert r["field_probability"] == pytest.approx(p0, rel=1e-9)
+    # share 0: the unrelated field alone, whatever the surroundings' kernels say
+    a = posterior_probabilities(km, v, kc, kc * 9.0, v, 0.5)
+    b = posterior_probabilities(km, v, kc, kc * 9.0, v, 0.5, near=(kn, kcn, kcn * 9.0), neighbourhood_share=0.0)
+    np.testing.assert_allclose(a["probability"], b["probability"], rtol=1e-12)
+    assert np.all(b["neighbourhood_probability"] == 0.0)
+
+
+def test_uncertain_path_leaves_member_and_near_miss_to_the_prior():
+    # a path known only to ~300 pc cannot tell birth inside a 10 pc association from birth 50 pc away:
+    # both Bayes factors are equal to within Monte Carlo error, so P_j / P_near_j -> prior odds
+    # (1 - f) / (f s) = 0.5 / 0.2 = 2.5 (Bayes' theorem); a path known to 3 pc decides for the member
+    rng = np.random.default_rng(8)
+    n = 200_000
+    width = neighbourhood_width(10.0, 50.0)
+    assert width == pytest.approx(np.hypot(10, 50) / 10)
+    ctrl = np.abs(rng.normal(0, 3000.0, (1, n)))
+    v = np.ones((1, n), bool)
+
+    def run(spread_pc, centre_pc):
+        d = np.abs(rng.normal(centre_pc, spread_pc, (1, n)))
+        k = lambda x, w: np.exp(-0.5 * (x / (10.0 * w)) ** 2)  # noqa: E731
+        return posterior_probabilities(k(d, 1), v, k(ctrl, 1), k(ctrl, 3), v, 0.5,
+                                       near=(k(d, width), k(ctrl, width), k(ctrl, 3 * width)),
+                                       neighbourhood_share=0.4)
+
+    vague = run(300.0, 0.0)
+    ratio = vague["probability"][0] / vague["neighbourhood_probability"][0]
+    assert ratio == pytest.approx(2.5, rel=0.25)
+    member = run(3.0, 0.0)
+    assert member["probability"][0] > 0.9
+    near_miss = run(3.0, 50.0)  # well-measured path 50 pc from the centre: a birth nearby, not inside
+    assert near_miss["probability"][0] < 0.01 and near_miss["field_probability"] > 0.95
+
+
+@pytest.mark.parametrize("bad", [1.0, -0.1, "most"])
+def test_neighbourhood_share_must_lie_in_zero_one(bad):
+    with pytest.raises(InputError, match="neighbourhood_share"):
+        check_neighbourhood_share(bad)
 
 
 def test_weighted_interval_reduces_to_percentiles():
@@ -177,7 +243,16 @@ def test_field_prior_key_reaches_the_trace(tmp_path):
                      "potential": "none"}}
     d = trace(scenario_from_dict(raw)).to_dict()
     assert d["field_prior"] == 0.3 and d["probability_threshold"] == 0.5
+    assert d["neighbourhood_share"] == 0.4 and d["neighbourhood_scale_pc"] == 50.0  # documented defaults
     assert d["associations"][0]["probability"] + d["field_probability"] == pytest.approx(1.0)
+    assert 0.0 <= d["associations"][0]["neighbourhood_probability"] <= d["field_probability"]
+    raw["trace"].update(neighbourhood_share=0.1, neighbourhood_scale="80 pc")
+    d = trace(scenario_from_dict(raw)).to_dict()
+    assert d["neighbourhood_share"] == 0.1 and d["neighbourhood_scale_pc"] == 80.0
+    for key, value in (("neighbourhood_share", 1.0), ("neighbourhood_scale", "-5 pc")):
+        bad = {**raw, "trace": {**raw["trace"], key: value}}
+        with pytest.raises(InputError, match=key):
+            trace(scenario_from_dict(bad))
     with pytest.raises(InputError, match="field_prior"):
         raw["trace"]["field_prior"] = 1.5
         trace(scenario_from_dict(raw))
@@ -195,3 +270,32 @@ def test_without_control_draws_there_are_no_probabilities(tmp_path):
     d = res.to_dict()
     assert d["field_probability"] is None and d["associations"][0]["probability"] is None
     assert d["favoured"] is None and "no field alternative" in res.summary()
+
+
+def test_control_draws_grow_until_the_relevant_chance_rate_is_measured():
+    # the Bayes factor divides by the chance rate, whose Monte Carlo error is ~ 1 / sqrt(passages)
+    # (Poisson counting); kinage adds control draws until a relevant association's wide control kernel
+    # sums to CONTROL_HITS passages and ignores associations the star never approaches
+    from types import SimpleNamespace
+
+    from kinage.orbits.control import probability_control_draws
+    from kinage.orbits.probability import CONTROL_HITS, CONTROL_WIDTH
+
+    rng = np.random.default_rng(9)
+    n = 2000
+    adraws = SimpleNamespace(n_assoc=2, m=1, radius_pc=np.array([10.0, 10.0]), age_myr=np.array([5.0, 5.0]))
+
+    def results(dmin):
+        return {"dmin": dmin, "tau": np.full(dmin.shape, 1.0), "edge": np.zeros(dmin.shape, bool), "failed": {}}
+
+    main = results(np.vstack([np.abs(rng.normal(0, 10.0, n)), np.full(n, 1e4)]))
+    cfg = {"tolerance": 0.5, "field_prior": 0.5, "neighbourhood_share": 0.4, "neighbourhood_scale": 50.0}
+    for spread, expect_more in ((3000.0, True), (300.0, False)):
+        ctrl = results(np.vstack([np.abs(rng.normal(0, spread, n)), np.full(n, 1e4)]))
+        passages = np.exp(-0.5 * (ctrl["dmin"][0] / (CONTROL_WIDTH * 10.0)) ** 2).sum()
+        need = probability_control_draws(ctrl, main, adraws, {}, cfg)
+        if expect_more:
+            assert passages < CONTROL_HITS
+            assert need == int(np.ceil(n * CONTROL_HITS / passages))
+        else:
+            assert passages >= CONTROL_HITS and need == 0
