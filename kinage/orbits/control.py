@@ -24,7 +24,8 @@ association whose probability (in it or in its surroundings) is at least
 :data:`RELEVANT_PROBABILITY` after a round, kinage adds control draws until the
 wide kernel has summed to :data:`~.probability.CONTROL_HITS` passages (a
 relative error of about 18%), up to :data:`MAX_CONTROL_FACTOR` times the star
-draws.  Control draws beyond the star draws reuse the star draws in order with
+draws (and never more than :data:`MAX_EXTRA_CONTROL_DRAWS` unless there are
+more star draws).  Control draws beyond the star draws reuse the star draws in order with
 new random directions.  A rare chance passage therefore cannot swing a
 probability unseen: without this, a probability of 0.93 +/- 0.02 at 2,000 draws
 could read 0.69 at 8,000.
@@ -42,14 +43,17 @@ from .probability import CONTROL_HITS, SUM_KEYS, kernel_group_sums, posterior_fr
 from .statistics import encounter_mask
 
 __all__ = ["control_draws_needed", "required_control_draws", "probability_control_draws", "FIRST_ROUND",
-           "MAX_ROUNDS", "MAX_CONTROL_FACTOR", "RELEVANT_PROBABILITY"]
+           "MAX_ROUNDS", "MAX_CONTROL_FACTOR", "MAX_EXTRA_CONTROL_DRAWS", "RELEVANT_PROBABILITY",
+           "probability_control_cap"]
 
 #: control draws of the first round
 FIRST_ROUND = 2000
 #: rounds at most (the second normally suffices)
 MAX_ROUNDS = 4
-#: control draws at most this many times the star draws (for the Bayes factors' chance rates)
+#: control draws at most this many times the star draws (for the Bayes factors' chance rates) ...
 MAX_CONTROL_FACTOR = 4
+#: ... and beyond the star draws, at most this many in all (bounds memory for very large runs)
+MAX_EXTRA_CONTROL_DRAWS = 200_000
 #: associations whose probability (in it or nearby) reaches this need a precise chance rate
 RELEVANT_PROBABILITY = 0.01
 
@@ -82,6 +86,11 @@ def required_control_draws(ctrl, adraws, afailed, cfg):
         p = (int(enc.sum()) + 2.0) / (nv + 4.0)
         need = max(need, p * (1.0 - p) / max(r * p, e) ** 2 * (n / max(nv, 1)))
     return int(np.ceil(need))
+
+
+def probability_control_cap(n_star):
+    """Most control draws the probabilities may ask for with ``n_star`` star draws."""
+    return int(min(MAX_CONTROL_FACTOR * n_star, max(n_star, MAX_EXTRA_CONTROL_DRAWS)))
 
 
 def _valid(results, adraws, afailed, j):

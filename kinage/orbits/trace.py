@@ -28,7 +28,7 @@ from ..kinematics import draw_star, rotated_proper_motions, velocity_prior as ma
 from ..params.registry import galaxy_pair
 from ..progress import progress_bar
 from .chunks import chunk_rows, integrate_associations, run_draws
-from .control import MAX_CONTROL_FACTOR, control_draws_needed
+from .control import control_draws_needed, probability_control_cap
 from .frames import solar_frame
 from .integrate import integration_cores, time_grid
 from .result import TraceResult
@@ -158,7 +158,7 @@ def trace(scenario, *, solution=None, rng=None, samples=None, potential=None, pr
             return part.galactocentric(frame)
 
         ctrl = control_draws_needed(control_states, run, assoc, adraws, afailed, cfg, n_max_control,
-                                    progress=progress, main=main, n_max_probability=MAX_CONTROL_FACTOR * cfg["n"])
+                                    progress=progress, main=main, n_max_probability=probability_control_cap(cfg["n"]))
         n_control = ctrl["dmin"].shape[1]
     summaries = _summaries(cfg, adraws, afailed, draws, main, ctrl, cores=cores)
     ranked, favoured, field = rank_associations(summaries, field_prior=cfg["field_prior"],
