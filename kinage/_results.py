@@ -33,6 +33,39 @@ def _table(self):
     return QTable(func(self))
 
 
+def _is_plain_table(value):
+    import sys
+
+    table = sys.modules.get("astropy.table")  # no Table can exist before astropy.table is imported
+    return table is not None and type(value) is table.Table
+
+
+_RESULT_TABLE = []
+
+
+def _result_table_class():
+    """``ResultTable``: an astropy ``Table`` that, called, returns itself as a ``QTable`` (made on first use)."""
+    if not _RESULT_TABLE:
+        from astropy.table import QTable, Table
+
+        class ResultTable(Table):
+            """An astropy Table kept as a result's ``table`` attribute; ``result.table()`` gives it as a QTable."""
+
+            def __call__(self):
+                return QTable(self)
+
+        ResultTable.__module__ = __name__
+        ResultTable.__qualname__ = "ResultTable"
+        _RESULT_TABLE.append(ResultTable)
+    return _RESULT_TABLE[0]
+
+
+def __getattr__(name):  # pickled ResultTables find their class
+    if name == "ResultTable":
+        return _result_table_class()
+    raise AttributeError(f"module {__name__!r} has no attribute {name!r}")
+
+
 class ResultDisplay:
     """Mixin: ``plot``, ``__repr__`` and ``_repr_html_`` from ``_plot_kinds`` and ``_key_numbers``."""
 
@@ -49,9 +82,15 @@ class ResultDisplay:
 
     def __init_subclass__(cls, **kwargs):
         super().__init_subclass__(**kwargs)
-        # a result whose dataclass has a field named 'table' keeps it (the method would become its default)
+        # a result whose dataclass has a field named 'table' keeps it (the method would become its default);
+        # the Table stored there is made callable (see __setattr__), so ``result.table()`` works as well
         if "table" not in getattr(cls, "__annotations__", {}) and "table" not in vars(cls):
             cls.table = _table
+
+    def __setattr__(self, name, value):
+        if name == "table" and not callable(value) and _is_plain_table(value):
+            value = _result_table_class()(value, copy=False)
+        super().__setattr__(name, value)
 
     def plot(self, kind=None, ax=None, **kwargs):
         """Draw one of the result's figures.
@@ -76,13 +115,14 @@ class ResultDisplay:
         if not kinds:
             raise InputError("plot", f"{type(self).__name__} has no figures")
         kind = kinds[0] if kind is None else kind
-        if kind not in kinds:
+        if kind not in kinds and not (kind in self._kinds() and _available(self._kinds()[kind])):
             raise InputError("plot kind", f"expected one of {', '.join(map(repr, kinds))} (got {kind!r})")
         return draw(self._kinds()[kind], self, ax=ax, **kwargs)
 
     def plot_kinds(self):
         """The figure kinds :meth:`plot` draws, default first."""
-        return [k for k, spec in self._kinds().items() if _available(spec)]
+        name = type(self).__name__
+        return [k for k, spec in self._kinds().items() if _available(spec) and _drawable(self, name, k)]
 
     def _safe_numbers(self):
         try:
@@ -115,6 +155,15 @@ def _available(spec):
     except (ImportError, AttributeError, KeyError):
         return False
     return True
+
+
+def _drawable(result, class_name, kind):
+    """Whether this result has what figure ``kind`` shows (see :data:`NEEDS`)."""
+    need = NEEDS.get((class_name, kind))
+    try:
+        return need is None or bool(need(result))
+    except Exception:  # noqa: BLE001 - a listing must never fail; plot() then says what is missing
+        return True
 
 
 def _resolve(spec):
@@ -294,6 +343,8 @@ PLOTS = {
                     "birth": "kinage.orbits.trace_figures:plot_birth_xyz"},
     "AgesResult": {"ladder": "adapter:ages_ladder", "cooling": "adapter:ages_cooling"},
 }
+#: (result class name, kind) -> predicate: the figure needs something the result may lack (plot_kinds leaves it out)
+NEEDS = {("AgesResult", "cooling"): lambda r: r.cooling is not None}
 KEY_NUMBERS = {"ForecastResult": _forecast_numbers, "FitResult": _fit_numbers, "SimulationResult": _simulation_numbers,
                "TraceResult": _trace_numbers, "AgesResult": _ages_numbers}
 TABLES = {"ForecastResult": lambda r: r.sweep_table(), "FitResult": lambda r: r.residual_table(),
@@ -312,8 +363,24 @@ KEY_NUMBERS["RunResult"] = _run_numbers
 
 
 # ------------------------------------------------------------------ scenarios
+def _given_text(raw):
+    """A value as the user wrote it (a unit string or a scalar Quantity), else None."""
+    import astropy.units as u
+
+    from .io.quantities import format_quantity
+
+    if isinstance(raw, u.Quantity) and raw.isscalar and type(raw) is u.Quantity and raw.unit != u.one:
+        return format_quantity(raw)
+    if isinstance(raw, str) and any(c.isdigit() for c in raw) and any(c.isalpha() or c == ":" for c in raw):
+        return raw.strip()  # "63 eV", "17:42:05.6"
+    return None
+
+
 def _scenario_rows(s):
-    """(table, 'key=value, ...') rows of the keys given in each table."""
+    """(table, 'key=value, ...') rows of the keys given in each table.
+
+    A quantity given with a unit is shown as it was given ("63 eV", "30 pc"), the others as kinage holds them.
+    """
     from .io.quantities import format_quantity
 
     rows = []
@@ -321,10 +388,17 @@ def _scenario_rows(s):
         sec = getattr(s, name)
         if sec is None:
             continue
+        raw = (s.raw or {}).get(name) if isinstance(s.raw, dict) else None
+        raw = raw if isinstance(raw, dict) else {}
         parts = []
         for key, value in sec.to_dict().items():
             v = getattr(sec, key, value)
             shown = format_quantity(v) if hasattr(v, "unit") and getattr(v, "isscalar", False) else value
+            if key in ("ra", "dec") and hasattr(v, "unit") and getattr(v, "isscalar", False):
+                given = raw.get(key) if isinstance(raw.get(key), str) else None
+                shown = _given_text(given) or f"{v.to_value('deg'):.6f} deg"  # 6 significant digits: 3.6 arcsec
+            elif hasattr(v, "unit"):
+                shown = _given_text(raw.get(key)) or shown
             if isinstance(shown, dict):  # an in-memory table
                 shown = f"<table of {len(shown.get('associations', []))} rows>"
             parts.append(f"{key}={shown}")

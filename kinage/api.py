@@ -69,10 +69,23 @@ def _plain(value, key, where=""):
         return [t for t in value] if not value.isscalar else value
     if key is None:
         return value
+    if isinstance(value, tuple) and key.kind in ("names", "floats", "times", "pulse_shape"):
+        value = list(value)  # a Python tuple is a list here (the TOML reader gives lists)
+    if key.kind == "floats" and isinstance(value, list) and any(isinstance(v, u.Quantity) for v in value):
+        try:  # [1.3 * u.solMass, 1.5 * u.solMass]
+            value = u.Quantity(value)
+        except (TypeError, ValueError, u.UnitsError):
+            raise InputError(where or key.name, f"expected a list of numbers or one Quantity array "
+                             f"(got {value!r})") from None
     if isinstance(value, u.Quantity):
         if key.kind == "floats":  # e.g. [ages] masses (solar masses)
             unit = u.solMass if key.name == "masses" else u.dimensionless_unscaled
-            return [float(x) for x in np.atleast_1d(value.to_value(unit))]
+            try:
+                return [float(x) for x in np.atleast_1d(value.to_value(unit))]
+            except u.UnitConversionError:
+                shown = unit.to_string() or "dimensionless units"
+                raise InputError(where or key.name, f"expected numbers in {shown} (got a quantity in "
+                                 f"{value.unit.to_string() or 'dimensionless units'})") from None
         if key.kind == "float" and value.isscalar:
             unit = u.Unit("1 / yr") if key.name == "visits_per_year" else u.dimensionless_unscaled
             try:
@@ -93,6 +106,24 @@ def _is_table(obj):
     from .associations.table import AssociationTable
 
     return isinstance(obj, (Table, AssociationTable))
+
+
+def _table_input(obj, where, what):
+    """``obj`` when it is a path or an astropy Table, else an InputError naming ``where``."""
+    from astropy.table import Table
+
+    if isinstance(obj, (str, Path, Table)):
+        return obj
+    raise InputError(where, f"expected {what} (got {type(obj).__name__})")
+
+
+def _associations(obj):
+    """An AssociationTable from a path, Table, QTable or AssociationTable."""
+    from .associations.table import AssociationTable, read_associations
+
+    if isinstance(obj, AssociationTable):
+        return obj
+    return read_associations(_table_input(obj, "[trace] associations", "a file path, an astropy Table or QTable"))
 
 
 def scenario_from_dict(mapping, base_dir=".", source=None, **kwargs):
@@ -123,7 +154,6 @@ def scenario_from_dict(mapping, base_dir=".", source=None, **kwargs):
     ScenarioError
         Listing every problem, each naming its table and key.
     """
-    from .associations.table import read_associations
     from .io.scenario import scenario_from_dict as _from_dict
     from .io.schema import SCHEMA
 
@@ -136,7 +166,7 @@ def scenario_from_dict(mapping, base_dir=".", source=None, **kwargs):
             raw[table] = {}
             for name, value in content.items():
                 if table == "trace" and name == "associations" and _is_table(value):
-                    assoc = read_associations(value)
+                    assoc = _associations(value)
                     raw[table][name] = _PLACEHOLDER
                     continue
                 base = name[:-len("_error")] if name.endswith("_error") and name not in keys else name
@@ -200,13 +230,15 @@ def star_from_skycoord(coord, **values):
         When ``coord`` is not a scalar SkyCoord, or a value is invalid.
     """
     import astropy.units as u
-    from astropy.coordinates import SkyCoord, UnitSphericalRepresentation
+    from astropy.coordinates import (RadialDifferential, SkyCoord, UnitSphericalCosLatDifferential,
+                                     UnitSphericalDifferential, UnitSphericalRepresentation)
 
     if not isinstance(coord, SkyCoord):
         raise InputError("coord", f"expected an astropy SkyCoord (got {type(coord).__name__})")
     if not coord.isscalar:
         raise InputError("coord", f"expected one position (got a SkyCoord of shape {coord.shape})")
     icrs = coord.icrs
+
     def q(x, unit):  # plain Quantities (not Longitude / Distance) in the scenario's default units
         return u.Quantity(x, unit, subok=False)
 
@@ -214,12 +246,14 @@ def star_from_skycoord(coord, **values):
     data = coord.data
     if not isinstance(data, UnitSphericalRepresentation) and icrs.distance.unit.physical_type == "length":
         star["distance"] = q(icrs.distance, u.pc)
-    if "s" in data.differentials:
-        diff = icrs.data.differentials["s"]
-        if hasattr(diff, "d_lon_coslat") or hasattr(diff, "d_lon"):
+    # What the SkyCoord holds is judged from its own differential: after a frame change astropy may carry the
+    # velocity as a Cartesian differential (e.g. Galactic with a radial velocity), which still has both parts.
+    diff = data.differentials.get("s")
+    if diff is not None:
+        if not isinstance(diff, RadialDifferential):
             star["pm_ra_cosdec"] = q(icrs.pm_ra_cosdec, u.mas / u.yr)
             star["pm_dec"] = q(icrs.pm_dec, u.mas / u.yr)
-        if hasattr(diff, "d_distance"):
+        if not isinstance(diff, (UnitSphericalDifferential, UnitSphericalCosLatDifferential)):
             star["radial_velocity"] = q(icrs.radial_velocity, u.km / u.s)
     if coord.obstime is not None:
         star["epoch"] = coord.obstime
@@ -342,19 +376,18 @@ def fit(toas, scenario=None, **kwargs):
         toas = scn.campaign.get("toas") if scn.campaign is not None else None
         if toas is None:
             raise InputError("toas", "give a TOA table (path or astropy Table) or [campaign] toas")
+    toas = _table_input(toas, "toas", "a TOA file path or an astropy Table with columns mjd and error")
     return _stage(fit_toas, FitWarning, toas, scn, **kwargs)
 
 
 def _with_associations(scn, associations):
     """The scenario with its [trace] table holding an in-memory AssociationTable."""
-    from .associations.table import read_associations
-
     if associations is None:
         if scn.trace is None or scn.trace.get("associations") is None:
             raise InputError("[trace] associations", "no association table: give associations=<path, Table or "
                              "QTable> or [trace] associations")
-        return scn, read_associations(scn.trace.get("associations"))
-    table = read_associations(associations)
+        return scn, _associations(scn.trace.get("associations"))
+    table = _associations(associations)
     if scn.trace is None:
         raw = {k: v for k, v in (scn.raw or {}).items() if k != "trace"}
         raw.setdefault("star", {})
@@ -430,6 +463,9 @@ def compare_ages(scenario, trace_result=None, *, trace=None, kinematic_age=None,
 
     scn = as_scenario(scenario)
     trace_result = trace_result if trace_result is not None else trace
+    if trace_result is not None and not hasattr(trace_result, "kinematic_age_samples"):
+        raise InputError("trace", f"expected the TraceResult of kinage.trace (got {type(trace_result).__name__}); "
+                         "or give kinematic_age=<Quantity>")
     if kinematic_age is None:
         kinematic_age = kinematic_age_samples
     if kinematic_age is not None:

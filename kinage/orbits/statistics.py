@@ -36,7 +36,8 @@ def encounter_mask(dmin_pc, tau_myr, edge, valid, radius_pc, age_myr, factor, to
 
 
 def _yr(iv):
-    return {k: (v * 1e6 if isinstance(v, float) else v) for k, v in iv.items()}
+    """An interval in Myr as one in yr (sample counts such as ``n_effective`` stay counts)."""
+    return {k: (v * 1e6 if isinstance(v, float) and not k.startswith("n") else v) for k, v in iv.items()}
 
 
 def summarise_association(name, radius_pc, age_myr, dmin_pc, tau_myr, edge, valid, rv_kms, *, factor,
