@@ -265,28 +265,54 @@ def _first(d, *keys):
 
 
 def _forecast_numbers(r):
+    from .report.numbers import fmt_duration_s
+
+    from .report.numbers import fit_constrained
+
     sig = r.solution.sigma_dict()
+    ok = fit_constrained({"sigma": sig})
+    pm = fmt(sig.get("pm_ra_cosdec_masyr"), "") and \
+        f"{sig['pm_ra_cosdec_masyr']:.3g} / {sig['pm_dec_masyr']:.3g} mas/yr (ra*cos dec / dec)"
+    px = fmt(sig.get("parallax_mas"), "mas")
     return [("visits", r.plan.n_visits), ("span", fmt(r.plan.span_yr, "yr")),
-            ("median TOA error", fmt(r.toa_error_s * 1e3, "ms")),
-            ("sigma_pm", fmt(sig.get("pm_ra_cosdec_masyr"), "") and
-             f"{sig['pm_ra_cosdec_masyr']:.3g} / {sig['pm_dec_masyr']:.3g} mas/yr (ra*cos dec / dec)"),
-            ("sigma_parallax", fmt(sig.get("parallax_mas"), "mas")),
+            ("median TOA error", r.toa_error_s is not None and fmt_duration_s(r.toa_error_s) or None),
+            ("sigma_pm", pm if ok["proper_motion"] or pm is None else
+             f"not constrained by timing (formal {sig['pm_ra_cosdec_masyr']:.2g} / {sig['pm_dec_masyr']:.2g} mas/yr)"),
+            ("sigma_parallax", px if ok["parallax"] or px is None else f"not constrained by timing (formal {px})"),
             ("pm significance", fmt(r.pm_significance, "sigma", 2)),
             ("baseline needed", fmt(r.baseline_needed_yr, "yr"))]
 
 
+def _with_error(value, error, unit):
+    """``value +/- error unit``, the value rounded to the error's precision (the report's rule)."""
+    from .report.numbers import value_error
+
+    return value_error(value, error, unit).replace("±", "+/-")
+
+
 def _fit_numbers(r):
+    from .report.numbers import fit_constrained
+
     v, s = r.solution.values_dict(), r.solution.sigma_dict()
+    ok = fit_constrained({"sigma": s})
+
+    def shown(key, unit, what):
+        if ok[what]:
+            return _with_error(v[key], s[key], unit)
+        return f"not constrained by timing (formal error {fmt(s[key], unit, 2)})"
+
     return [("TOAs", r.n_toas),
-            ("pm_ra_cosdec", f"{v['pm_ra_cosdec_masyr']:.4g} +/- {s['pm_ra_cosdec_masyr']:.2g} mas/yr"),
-            ("pm_dec", f"{v['pm_dec_masyr']:.4g} +/- {s['pm_dec_masyr']:.2g} mas/yr"),
-            ("parallax", f"{v['parallax_mas']:.4g} +/- {s['parallax_mas']:.2g} mas"),
+            ("pm_ra_cosdec", shown("pm_ra_cosdec_masyr", "mas/yr", "proper_motion")),
+            ("pm_dec", shown("pm_dec_masyr", "mas/yr", "proper_motion")),
+            ("parallax", shown("parallax_mas", "mas", "parallax")),
             ("reduced chi2", fmt(r.chi2_reduced, "", 3)), ("converged", r.converged)]
 
 
 def _simulation_numbers(r):
+    from .report.numbers import fmt_duration_s
+
     d = r.to_dict()
-    return [("TOAs", d["n_toas"]), ("median TOA error", fmt(d["toa_error_s"] * 1e3, "ms")),
+    return [("TOAs", d["n_toas"]), ("median TOA error", fmt_duration_s(d["toa_error_s"])),
             ("span", fmt(d["span_yr"], "yr")), ("seed", d["seed"])]
 
 
@@ -298,20 +324,29 @@ def _trace_numbers(r):
         p = _first(best, "probability")
         if isinstance(p, dict):
             p = _first(p, "value", "median", "p")
-        out.append(("probability", fmt(p, "", 2) if isinstance(p, float) else None))
+        p_err = best.get("probability_error")
+        if isinstance(p, float) and isinstance(p_err, float) and p_err > 0:
+            out.append(("probability", _with_error(p, p_err, "")))
+        else:
+            out.append(("probability", fmt(p, "", 2) if isinstance(p, float) else None))
         out.append(("encounter fraction", fmt(_first(best, "encounter_fraction"), "", 2)))
         age = _first(best, "age_yr") or {}
         out.append(("kinematic age", fmt(age.get("median") / 1e6, "Myr") if age.get("median") else None))
     return out
 
 
+def _age(yr):
+    from .report.numbers import fmt_age
+
+    return None if yr is None else fmt_age(yr)
+
+
 def _ages_numbers(r):
     kin = (r.kinematic or {}).get("interval") or {}
     cool = r.cooling.pooled if r.cooling is not None else {}
-    return [("star", r.star), ("kinematic age", fmt(kin.get("median") and kin["median"] / 1e6, "Myr")),
-            ("characteristic age", fmt(r.values.get("characteristic_age_yr") and
-                                       r.values["characteristic_age_yr"] / 1e6, "Myr")),
-            ("cooling age", fmt(cool.get("median") and cool["median"] / 1e6, "Myr"))]
+    return [("star", r.star), ("kinematic age", _age(kin.get("median"))),
+            ("characteristic age", _age(r.values.get("characteristic_age_yr"))),
+            ("cooling age", _age(cool.get("median")))]
 
 
 def _trace_table(r):

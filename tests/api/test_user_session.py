@@ -135,6 +135,18 @@ def test_simulation_table_is_a_table_and_gives_a_qtable():
         warnings.simplefilter("ignore", kinage.KinageWarning)
         a, b = kinage.fit(sim.table, scn), kinage.fit(q, scn)
     assert a.to_dict()["values"] == b.to_dict()["values"]  # the same TOAs (common practice, no source)
+    # the repr rounds each value to the precision of its error (common practice, no source); errors beyond
+    # 1 arcsec (/yr) mean the linearised timing model says nothing, and the repr says so
+    import re
+
+    text = repr(a)
+    pairs = re.findall(r"(-?[0-9.]+) \+/- ([0-9.]+) ", text)
+    sig = a.solution.sigma_dict()
+    assert pairs or "not constrained by timing" in text, text
+    for value, error in pairs:
+        assert len(value.partition(".")[2]) == len(error.partition(".")[2]), text
+    if sig["parallax_mas"] > 1000:
+        assert re.search(r"parallax not constrained by timing \(formal error [0-9.e+]+ mas\)", text), text
 
 
 def test_ages_figures_listed_are_the_ones_it_can_draw():
@@ -160,6 +172,9 @@ def test_ages_figures_listed_are_the_ones_it_can_draw():
     tau = (1873 * u.ms / (2 * 4.4e-15)).to(u.yr)
     assert 1.0 <= (row["median"] / tau).to_value(u.one) < 1.01
     assert repr(ages).startswith("<AgesResult") and "<table>" in ages._repr_html_()
+    # ages in the unit their size calls for: a cooling age below 1 Myr in kyr (common practice, no source)
+    cooling = ages.cooling.pooled["median"]
+    assert f"cooling age {cooling / 1e3:.3g} kyr" in repr(ages) if cooling < 1e6 else "Myr" in repr(ages)
 
 
 def test_trace_from_path_table_and_qtable_in_other_units(tmp_path):
