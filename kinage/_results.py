@@ -331,7 +331,7 @@ def _trace_numbers(r):
             out.append(("probability", fmt(p, "", 2) if isinstance(p, float) else None))
         out.append(("encounter fraction", fmt(_first(best, "encounter_fraction"), "", 2)))
         age = _first(best, "age_yr") or {}
-        out.append(("kinematic age", fmt(age.get("median") / 1e6, "Myr") if age.get("median") else None))
+        out.append(("kinematic age", _age(age.get("median"))))
     return out
 
 

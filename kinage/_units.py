@@ -48,7 +48,7 @@ def to_plain(value, unit, name="value"):
 
     Parameters
     ----------
-    value : float, ndarray, Quantity, or a list of Quantities
+    value : float, ndarray, Quantity, or a list of Quantities (plain numbers in it are taken in ``unit``)
     unit : str or astropy.units.Unit
         The documented unit ('' for dimensionless); temperatures also accept
         energies (kT).
@@ -66,7 +66,8 @@ def to_plain(value, unit, name="value"):
         When the Quantity's dimension does not match ``unit``.
     """
     if isinstance(value, (list, tuple)) and any(isinstance(v, u.Quantity) for v in value):
-        value = u.Quantity(list(value))
+        # element by element: Quantities converted, plain numbers already in ``unit``
+        return np.array([to_plain(v, unit, f"{name}[{i}]") for i, v in enumerate(value)], dtype=float)
     if not isinstance(value, u.Quantity):
         return value
     target = _unit(unit)

@@ -204,3 +204,17 @@ def test_trace_from_path_table_and_qtable_in_other_units(tmp_path):
             assert n_age == pytest.approx(n_rv, rel=1e-9)  # the same kernel weights
             assert 0 <= n_age <= SMALL_TRACE["samples"] * SMALL_TRACE["association_samples"]
     json.dumps(results[-1].to_dict(), default=str)
+
+
+def test_lists_mixing_quantities_and_plain_numbers():
+    # a list may mix Quantities with plain numbers in the documented unit (s for periods); astropy converts
+    from kinage.ages import characteristic_age
+
+    mixed = characteristic_age([1873 * u.ms, 2.0], 4.4e-15)
+    plain = characteristic_age([1.873, 2.0], 4.4e-15)
+    assert mixed.unit == u.yr
+    np.testing.assert_allclose(mixed.to_value(u.yr), plain, rtol=1e-12)
+    # tau_c = P / (2 Pdot) (Lorimer & Kramer 2005, eq. 3.14), by astropy
+    np.testing.assert_allclose(mixed.to_value(u.Myr), ([1.873, 2.0] * u.s / (2 * 4.4e-15)).to_value(u.Myr), rtol=1e-12)
+    with pytest.raises(kinage.UnitInputError, match=r"\[1\]: expected a quantity of time"):
+        characteristic_age([1.873 * u.s, 2.0 * u.m], 4.4e-15)
