@@ -201,6 +201,11 @@ def draw(spec, *args, ax=None, **kwargs):
     if "fig" in params:  # a multi-panel figure: draw into a subfigure in the Axes' slot
         target = top = None
         if ax is not None:
+            if ax.get_subplotspec() is None:
+                from .errors import InputError
+
+                raise InputError("ax", "this figure has several panels and fills a grid cell: give an Axes from "
+                                 "plt.subplots or fig.add_subplot (not fig.add_axes), or no ax for a new figure")
             top = ax.figure
             target = top.add_subfigure(ax.get_subplotspec())
             ax.remove()

@@ -218,3 +218,17 @@ def test_lists_mixing_quantities_and_plain_numbers():
     np.testing.assert_allclose(mixed.to_value(u.Myr), ([1.873, 2.0] * u.s / (2 * 4.4e-15)).to_value(u.Myr), rtol=1e-12)
     with pytest.raises(kinage.UnitInputError, match=r"\[1\]: expected a quantity of time"):
         characteristic_age([1.873 * u.s, 2.0 * u.m], 4.4e-15)
+
+
+def test_multi_panel_figure_needs_a_grid_cell():
+    import matplotlib.pyplot as plt
+
+    scn = kinage.scenario_from_dict({"star": _star(), "trace": dict(SMALL_TRACE, control_runs=0)})
+    res = kinage.trace(scn, associations=_associations())
+    fig, axes = plt.subplots(1, 2)
+    assert res.plot("birth", ax=axes[1]) is fig  # two panels in the cell of axes[1] (matplotlib subfigure)
+    assert len(fig.axes) == 3
+    free = plt.figure()
+    with pytest.raises(kinage.InputError, match="ax: this figure has several panels"):
+        res.plot("birth", ax=free.add_axes((0.1, 0.1, 0.8, 0.8)))
+    plt.close("all")
