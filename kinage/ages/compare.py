@@ -20,9 +20,10 @@ from .draws import draw_kinematic_age, draw_spin, read_settings
 from .envelope import star_structure
 from .field_decay import (exponential_decay_timescale, ohm_hall_characteristic_age, ohm_hall_timescale,
                           ohm_hall_true_age)
+from .pdot import open_interval, pdot_note, pdot_state
 from .spindown import (braking_index_age, characteristic_age, dipole_field, implied_initial_period,
                        max_braking_index_age, spin_down_luminosity)
-from .verdicts import age_verdicts, format_age
+from .verdicts import age_verdicts, format_age, format_age_interval
 
 __all__ = ["AgesResult", "compare_ages"]
 
@@ -90,23 +91,31 @@ class AgesResult(ResultDisplay):
         return out
 
     def summary(self):
-        """1-3 plain-language sentences: do the clocks agree?"""
+        """1-4 plain-language sentences: do the clocks agree?  Ages rounded to their 68 % intervals."""
         parts = []
         kin = self.kinematic.get("interval")
         tc = self.values.get("characteristic_age_yr")
+        lower = self.values.get("characteristic_age_lower_limit_yr")
         if kin and kin.get("median") is not None:
-            parts.append(f"Kinematic age {format_age(kin['median'])}")
-        if tc is not None:
-            parts.append(f"characteristic age {format_age(tc)}")
+            parts.append(f"Kinematic age {format_age_interval(kin, bare=True)}")
+        if lower is not None:
+            parts.append(f"characteristic age above {format_age(lower)} (2 sigma; Pdot consistent with zero)")
+        elif tc is not None:
+            tc_iv = self.uncertainties.get("characteristic_age_yr")
+            parts.append(f"characteristic age {format_age_interval(tc_iv, tc, bare=True)}")
         if self.cooling is not None and self.cooling.pooled.get("median") is not None:
             r = self.cooling.range_yr
-            parts.append(f"cooling age {format_age(self.cooling.pooled['median'])} "
-                         f"(range {format_age(r['lo68'])}-{format_age(r['hi68'])} over envelopes and masses)")
+            parts.append(f"cooling age {format_age_interval(self.cooling.pooled, bare=True)} "
+                         f"(range {format_age(r['lo68'], 2)}-{format_age(r['hi68'], 2)} over envelopes and masses)")
         head = ("; ".join(parts) + ".") if parts else "No ages could be computed."
         if head[0].islower():
             head = head[0].upper() + head[1:]
         key = [v for v in self.verdicts if v["consistent"] is not None][:2]
-        return " ".join([head] + [v.get("short", v["text"]) for v in key])
+        tail = [v.get("short", v["text"]) for v in key]
+        note = self.values.get("pdot_note")
+        if note and self.values.get("pdot_detection") == "spinning_up":
+            tail.insert(0, note[0].upper() + note[1:] + ".")
+        return " ".join([head] + tail)
 
     def ladder_rows(self):
         """(label, interval) rows of the age-ladder figure."""
@@ -223,7 +232,7 @@ def compare_ages(scenario, *, kinematic_age_samples=None, kinematic_age_source=N
         if s.kinematic_age_yr is not None:
             warnings.append("[ages] kinematic_age ignored: kinematic-age samples from the trace were given")
     elif kin_d is not None:
-        kin_iv = interval(kin_d)
+        kin_iv = _lognormal_interval(s.kinematic_age_yr, s.kinematic_age_error_yr, n)
         source = kinematic_age_source or "scenario: [ages] kinematic_age"
     else:
         kin_iv, source = None, None
@@ -235,6 +244,7 @@ def compare_ages(scenario, *, kinematic_age_samples=None, kinematic_age_source=N
     unc, shk, decay = {}, {"applied": False}, {}
     have_spin = star.get("spin_period") is not None and star.get("spin_period_derivative") is not None
     spin = draw_spin(star, s, n, rng) if have_spin else None
+    state = pdot_state(spin) if spin is not None else None
     spinning_up = bool(spin is not None and not spin.pdot > 0)
     for k in ("characteristic_age_yr", "dipole_field_gauss", "spin_down_luminosity_erg_s", "spin_down_age_yr",
               "max_spin_down_age_yr", "implied_initial_period_s", "decay_timescale_yr"):
@@ -242,6 +252,10 @@ def compare_ages(scenario, *, kinematic_age_samples=None, kinematic_age_source=N
     values["spinning_up"] = spinning_up
     values["implied_initial_period_note"] = None
     values["decay_timescale_note"] = None
+    values["pdot_detection"] = None if state is None else state.kind
+    values["pdot_intrinsic_error"] = None if state is None else state.sigma
+    values["characteristic_age_lower_limit_yr"] = None
+    values["pdot_note"] = None
     if spin is None:
         warnings.append("no spin_period and spin_period_derivative in [star]: spin-down ages skipped")
     else:
@@ -252,34 +266,24 @@ def compare_ages(scenario, *, kinematic_age_samples=None, kinematic_age_source=N
         if shk.get("applied") and spin.pdot_observed > 0 and spin.pdot_shk > 0.1 * spin.pdot_observed:
             warnings.append(f"the Shklovskii term is {100 * spin.pdot_shk / spin.pdot_observed:.0f}% of the observed "
                             "Pdot: the spin-down ages depend on the distance")
-    if spinning_up:
-        warnings.append(f"the star is spinning up (Pdot = {spin.pdot:.3g} s/s"
-                        + (f" after subtracting the Shklovskii term {spin.pdot_shk:.3g}" if shk.get("applied") else "")
-                        + "): spin-down ages, field and spin-down luminosity skipped")
+    if state is not None and state.kind == "spinning_up":
+        values["pdot_note"] = pdot_note(state, spin)
+        warnings.append(values["pdot_note"])
         values["implied_initial_period_note"] = "star is spinning up"
         values["decay_timescale_note"] = "star is spinning up"
+        unc["fraction_spinning_up"] = state.fraction_spinning_up
     elif spin is not None:
-        d = spin.draws
-        p, pd, nb = spin.period, spin.pdot, s.braking_index
-        values["characteristic_age_yr"] = _num(characteristic_age(p, pd))
-        values["dipole_field_gauss"] = _num(dipole_field(p, pd))
-        values["spin_down_luminosity_erg_s"] = _num(spin_down_luminosity(p, pd, s.moment_of_inertia))
-        values["max_spin_down_age_yr"] = _num(max_braking_index_age(p, pd, nb))
-        if s.initial_period_s is not None:
-            values["spin_down_age_yr"] = _num(braking_index_age(p, pd, nb, s.initial_period_s))
-        tc_d = characteristic_age(d["period"], d["pdot"])
-        unc["characteristic_age_yr"] = interval(tc_d)
-        unc["dipole_field_gauss"] = interval(dipole_field(d["period"], d["pdot"]))
-        unc["spin_down_luminosity_erg_s"] = interval(spin_down_luminosity(d["period"], d["pdot"],
-                                                                          s.moment_of_inertia))
-        unc["max_spin_down_age_yr"] = interval(max_braking_index_age(d["period"], d["pdot"], d["braking_index"]))
-        if d["initial_period"] is not None:
-            unc["spin_down_age_yr"] = interval(braking_index_age(d["period"], d["pdot"], d["braking_index"],
-                                                                 d["initial_period"]))
-        unc["fraction_spinning_up"] = float(np.mean(~(d["pdot"] > 0)))
+        tc_d = _spin_down(values, unc, spin, s, state)
         if shk.get("applied"):
-            unc["pdot_shklovskii"] = interval(d["pdot_shk"])
-        if kin_d is not None:
+            unc["pdot_shklovskii"] = interval(spin.draws["pdot_shk"])
+        if state.kind == "undetected":
+            values["characteristic_age_lower_limit_yr"] = lower = unc["characteristic_age_yr"]["lo95"]
+            values["pdot_note"] = pdot_note(state, spin, None if lower is None else format_age(lower))
+            warnings.append(values["pdot_note"])
+            if spinning_up:
+                values["implied_initial_period_note"] = values["decay_timescale_note"] = (
+                    "Pdot consistent with zero and negative: no nominal value")
+        if kin_d is not None and not spinning_up:
             _implied(values, unc, decay, spin, s, kin_med, kin_d, tc_d, warnings)
 
     # cooling ------------------------------------------------------------------
@@ -297,6 +301,46 @@ def compare_ages(scenario, *, kinematic_age_samples=None, kinematic_age_source=N
         shklovskii=shk, field_decay=decay, cooling=cool, cooling_at_mass=cool_m, verdicts=verdicts,
         warnings=warnings, inputs=inputs, parameter_sets=[pset], assumptions=_assumptions(s, shk, kin_method),
         seed=seed, samples=n)
+
+
+def _lognormal_interval(t, err, n):
+    """Interval of a kinematic age given as value +- error and drawn lognormally (see :mod:`.draws`).
+
+    Median t and t exp(-+sigma), t exp(-+2 sigma) with sigma = err / t: the
+    exact percentiles of the draws, so the quoted age is the one the user gave.
+    """
+    sig = float(err) / float(t) if err else 0.0
+    t = float(t)
+    return {"median": t, "lo68": t * np.exp(-sig), "hi68": t * np.exp(sig), "lo95": t * np.exp(-2 * sig),
+            "hi95": t * np.exp(2 * sig), "n": int(n)}
+
+
+def _spin_down(values, unc, spin, s, state):
+    """Nominal spin-down values (Pdot > 0) and their Monte Carlo intervals; returns the tau_c draws (yr).
+
+    Ages grow without bound as Pdot -> 0+, so when some draws spin up their
+    intervals are taken with those draws at +infinity (:func:`.pdot.open_interval`).
+    """
+    d = spin.draws
+    p, pd, nb = spin.period, spin.pdot, s.braking_index
+    if pd > 0:
+        values["characteristic_age_yr"] = _num(characteristic_age(p, pd))
+        values["dipole_field_gauss"] = _num(dipole_field(p, pd))
+        values["spin_down_luminosity_erg_s"] = _num(spin_down_luminosity(p, pd, s.moment_of_inertia))
+        values["max_spin_down_age_yr"] = _num(max_braking_index_age(p, pd, nb))
+        if s.initial_period_s is not None:
+            values["spin_down_age_yr"] = _num(braking_index_age(p, pd, nb, s.initial_period_s))
+    age_iv = interval if state.fraction_spinning_up == 0 else (lambda x: open_interval(x, d["pdot"]))
+    tc_d = characteristic_age(d["period"], d["pdot"])
+    unc["characteristic_age_yr"] = age_iv(tc_d)
+    unc["dipole_field_gauss"] = interval(dipole_field(d["period"], d["pdot"]))
+    unc["spin_down_luminosity_erg_s"] = interval(spin_down_luminosity(d["period"], d["pdot"], s.moment_of_inertia))
+    unc["max_spin_down_age_yr"] = age_iv(max_braking_index_age(d["period"], d["pdot"], d["braking_index"]))
+    if d["initial_period"] is not None:
+        unc["spin_down_age_yr"] = age_iv(braking_index_age(d["period"], d["pdot"], d["braking_index"],
+                                                           d["initial_period"]))
+    unc["fraction_spinning_up"] = state.fraction_spinning_up
+    return tc_d
 
 
 def _implied(values, unc, decay, spin, s, kin_med, kin_d, tc_d, warnings):

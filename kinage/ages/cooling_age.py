@@ -19,6 +19,8 @@ from .cooling import CoolingModel, cooling_curve
 
 __all__ = ["CoolingAgeResult", "cooling_age"]
 
+_EV_PER_K = 8.617333262e-5  # Boltzmann constant in eV/K (CODATA 2018)
+
 
 @dataclass
 class CoolingAgeResult:
@@ -167,9 +169,13 @@ def cooling_age(temperature_K=None, temperature_error_K=None, *, luminosity_erg_
     if not nominal_ok:
         lo = min(np.nanmin((c.T_inf_K if quantity == "temperature" else c.L_inf_erg_s)[c.valid]) for c in curves)
         hi = max(np.nanmax((c.T_inf_K if quantity == "temperature" else c.L_inf_erg_s)[c.valid]) for c in curves)
-        unit = "K" if quantity == "temperature" else "erg/s"
-        raise ModelRangeError(where, f"{value:.4g} {unit} is outside the range of cooling model '{m.name}' "
-                              f"({lo:.3g}-{hi:.3g} {unit} between {m.t_start_yr:g} and {m.t_end_yr:g} yr for "
+        if quantity == "temperature":  # also as kT in eV, the unit X-ray observers quote
+            got, span = (f"{value:.3g} K (kT = {value * _EV_PER_K:.3g} eV)",
+                         f"{lo:.3g}-{hi:.3g} K, kT = {lo * _EV_PER_K:.3g}-{hi * _EV_PER_K:.3g} eV,")
+        else:
+            got, span = f"{value:.3g} erg/s", f"{lo:.3g}-{hi:.3g} erg/s"
+        raise ModelRangeError(where, f"{got} is outside the range of cooling model '{m.name}' "
+                              f"({span} between {m.t_start_yr:g} and {m.t_end_yr:g} yr for "
                               f"envelopes {', '.join(envelopes)} and masses {', '.join(f'{x:g}' for x in masses)} "
                               f"solMass)")
     all_ages = np.concatenate(pooled) if pooled else np.array([])

@@ -64,18 +64,27 @@ def plot_age_ladder(rows, path=None, title=None, ax=None):
         ys = np.arange(len(rows))[::-1]
         finite = [v for _, iv in rows if iv for v in (iv.get("lo68"), iv.get("hi68"), iv.get("median"))
                   if v is not None]
+        finite += [2.5 * iv["lo68"] for _, iv in rows if iv and iv.get("unbounded_above") and iv.get("lo68")]
         scale, unit = age_axis_unit([iv.get("median") for _, iv in rows if iv])
         for (label, iv), y in zip(rows, ys):
-            if not iv or iv.get("median") is None:
+            if not iv or (iv.get("median") is None and not (iv.get("unbounded_above") and iv.get("lo68"))):
                 continue
             med = iv["median"]
             lo = iv.get("lo68") if iv.get("lo68") is not None else med
-            hi = iv.get("hi68") if iv.get("hi68") is not None else med
+            hi = iv.get("hi68") if iv.get("hi68") is not None else (med if med is not None else lo)
             c = next((col for key, col in _KINDS.items() if label.startswith(key)), "0.3")
+            if iv.get("unbounded_above"):
+                # open above (Pdot consistent with zero): the 68% lower end with an arrow towards older ages
+                ax.errorbar([lo / scale], [y], xerr=[[0.0], [lo / scale * 1.5]], xlolims=True, fmt="none", color=c,
+                            capsize=3)
+                if med is not None and np.isfinite(med):
+                    ax.plot([med / scale], [y], "o", color=c, ms=4)
+                continue
             ax.errorbar([med / scale], [y], xerr=[[(med - lo) / scale], [(hi - med) / scale]], fmt="o", color=c,
                         capsize=3, ms=4)
         ax.set_yticks(ys)
-        ax.set_yticklabels([lab if (iv and iv.get("median") is not None) else f"{lab} (n/a)" for lab, iv in rows])
+        ax.set_yticklabels([lab if (iv and (iv.get("median") is not None or iv.get("unbounded_above"))) else
+                            f"{lab} (n/a)" for lab, iv in rows])
         ax.set_xscale("log")
         if finite:
             ax.set_xlim(min(finite) / scale / 3.0, max(finite) / scale * 3.0)

@@ -1,28 +1,133 @@
 """Plain-language verdicts comparing two ages.
 
 Two ages agree "within errors" when their medians differ by less than two
-combined standard deviations in log age, the deviation of each taken as half
-the width of its 68 % interval in ln(age) (a Gaussian-in-log convention:
-common practice, no source).  Otherwise the verdict states which is younger,
-by what factor, and what that implies.
+combined standard deviations in log age, the deviation of each taken from its
+68 % interval in ln(age) on the side facing the other age (half the width for
+a log-symmetric interval; a Gaussian-in-log convention with the usual
+treatment of asymmetric errors: common practice, no source).  An interval open
+above (``unbounded_above``, e.g. a characteristic age when Pdot is consistent
+with zero) never excludes an older age.  Otherwise the verdict states which is
+younger, by what factor, and what that implies.  Numbers are rounded to the
+precision of their 68 % intervals by the Particle Data Group rule (at most
+three significant figures).
 """
+
+import math
 
 import numpy as np
 
-__all__ = ["format_age", "log_sigma", "compare_intervals", "pair_verdict", "age_verdicts", "cooling_explanations"]
+__all__ = ["format_age", "format_interval", "format_age_interval", "format_factor", "log_sigma",
+           "compare_intervals", "pair_verdict", "age_verdicts", "cooling_explanations", "cooling_caveat"]
 
 
-def format_age(yr):
-    """An age in yr as short text: '840 yr', '12.6 kyr', '1.3 Myr'."""
+def format_age(yr, digits=3):
+    """An age in yr as short text with ``digits`` significant figures: '840 yr', '8.92 kyr', '1.3 Myr'."""
     if yr is None or not np.isfinite(yr):
         return "n/a"
-    if yr >= 1e9:
-        return f"{yr / 1e9:.3g} Gyr"
-    if yr >= 1e6:
-        return f"{yr / 1e6:.3g} Myr"
-    if yr >= 1e4:
-        return f"{yr / 1e3:.3g} kyr"
-    return f"{yr:,.0f} yr" if yr >= 100 else f"{yr:.3g} yr"
+    scale, unit = _age_unit(yr)
+    return f"{float(f'{yr / scale:.{digits}g}'):g} {unit}"
+
+
+def _age_unit(yr):
+    """(scale, unit) of :func:`format_age` for an age in yr: yr below 1,000 yr, then kyr, Myr, Gyr."""
+    for scale, unit in ((1e9, "Gyr"), (1e6, "Myr"), (1e3, "kyr")):
+        if yr >= scale:
+            return scale, unit
+    return 1.0, "yr"
+
+
+def _pdg_decimals(width):
+    """Decimals that show an error ``width`` by the Particle Data Group rule (may be negative).
+
+    The three leading digits of the error decide: 100-354 keep two significant
+    figures, 355-949 one, 950-999 round up to 1000 and keep two (Particle Data
+    Group, Review of Particle Physics, Introduction: rounding).
+    """
+    exp = int(math.floor(math.log10(width)))
+    lead = int(width / 10.0 ** (exp - 2))
+    # 950-999 become 1000 with two figures: the same decimals as one figure of the unrounded error
+    return 1 - exp if lead < 355 else -exp
+
+
+def _digits(x, d):
+    if d <= 0:
+        q = 10.0 ** (-d)
+        return f"{round(x / q) * q:,.0f}"
+    return f"{x:.{d}f}"
+
+
+def format_interval(value, lo=None, hi=None, unit="", *, unbounded_above=False, max_sig=3, inner=False, bare=False):
+    """A value with its 68 % interval, rounded to the interval's precision.
+
+    Parameters
+    ----------
+    value : float or None
+        Central value (in the unit of ``unit``).
+    lo, hi : float or None
+        68 % interval ends (same unit); ``None`` for an exact value.
+    unit : str
+    unbounded_above : bool
+        The interval has no upper end (then ``hi`` is ignored).
+    max_sig : int
+        At most this many significant figures of the value.
+    inner : bool
+        ``'0.195 s, 68%: 0.167-0.216 s'`` (inside parentheses) instead of
+        ``'0.195 s (68%: 0.167-0.216 s)'``.
+    bare : bool
+        The rounded value alone (``'0.195 s'``).
+
+    Returns
+    -------
+    str
+        E.g. ``'8,900 yr (68%: 7,200-11,200 yr)'``, ``'103 Myr (68%: above 41 Myr)'``, ``'12.0 kyr'``.
+    """
+    if value is None or not np.isfinite(value):
+        return "n/a"
+    u = f" {unit}" if unit else ""
+    hi = None if unbounded_above else hi
+    exp = int(math.floor(math.log10(abs(value)))) if value else 0
+    d = max_sig - 1 - exp
+    widths = [w for w in ((value - lo) if lo is not None else None, (hi - value) if hi is not None else None)
+              if w is not None and np.isfinite(w) and w > 0]
+    if widths:
+        d = min(d, _pdg_decimals(min(widths)))
+    v = _digits(value, d)
+    if bare:
+        return v + u
+    lo_t = _digits(lo, d) if lo is not None and np.isfinite(lo) else None
+    hi_t = _digits(hi, d) if hi is not None and np.isfinite(hi) else None
+    if unbounded_above and lo_t is not None:
+        rng = f"above {lo_t}{u}"
+    elif lo_t is not None and hi_t is not None and not lo_t == v == hi_t:
+        rng = f"{lo_t}-{hi_t}{u}"
+    else:
+        return v + u
+    return f"{v}{u}, 68%: {rng}" if inner else f"{v}{u} (68%: {rng})"
+
+
+def format_age_interval(iv, value=None, *, inner=False, bare=False):
+    """An age interval dict (yr) as text in yr/kyr/Myr/Gyr, see :func:`format_interval`.
+
+    ``value`` replaces the interval's median as the quoted value (e.g. a
+    nominal P/(2 Pdot)); an exact age (no interval) gets three significant
+    figures; ``bare`` gives the rounded value alone, without the interval.
+    """
+    iv = iv or {}
+    v = iv.get("median") if value is None else value
+    if v is None or not np.isfinite(v) or v <= 0:
+        return "n/a"
+    scale, unit = _age_unit(v)
+    sc = lambda x: None if x is None else x / scale  # noqa: E731
+    return format_interval(v / scale, sc(iv.get("lo68")), sc(iv.get("hi68")), unit,
+                           unbounded_above=bool(iv.get("unbounded_above")), inner=inner, bare=bare)
+
+
+def format_factor(x):
+    """A ratio as text with two significant figures and no exponent: 1.6, 24, 370, 12,000."""
+    if x is None or not np.isfinite(x):
+        return "n/a"
+    r = float(f"{x:.2g}")
+    return f"{r:,.0f}" if r >= 100 else f"{r:g}"
 
 
 def log_sigma(iv):
@@ -32,13 +137,26 @@ def log_sigma(iv):
     return 0.5 * (np.log(iv["hi68"]) - np.log(iv["lo68"]))
 
 
+def _side_sigma(iv, side):
+    """ln(hi68 / median) (``side='hi'``) or ln(median / lo68) (``'lo'``); inf above an open interval, 0 if exact."""
+    med = iv["median"]
+    if side == "hi":
+        if iv.get("unbounded_above"):
+            return np.inf
+        end = iv.get("hi68")
+        return float(np.log(end / med)) if end is not None and end > 0 and med > 0 else 0.0
+    end = iv.get("lo68")
+    return float(np.log(med / end)) if end is not None and end > 0 and med > 0 else 0.0
+
+
 def compare_intervals(a, b, threshold=2.0):
     """Compare two age intervals.
 
     Parameters
     ----------
     a, b : dict
-        With ``median``, ``lo68``, ``hi68`` in yr.
+        With ``median``, ``lo68``, ``hi68`` in yr (``unbounded_above`` True
+        for an interval open above).
     threshold : float
         Number of combined sigmas (in ln age) counted as agreement.
 
@@ -46,10 +164,16 @@ def compare_intervals(a, b, threshold=2.0):
     -------
     dict
         ``ratio`` (a / b of the medians), ``z`` (separation in combined
-        sigmas; inf when both are exact and differ), ``consistent`` (bool).
+        sigmas, each taken on the side facing the other median; inf when both
+        are exact and differ), ``consistent`` (bool).
     """
     ratio = a["median"] / b["median"]
-    sig = np.hypot(log_sigma(a), log_sigma(b))
+    if ratio < 1:
+        sig = np.hypot(_side_sigma(a, "hi"), _side_sigma(b, "lo"))
+    elif ratio > 1:
+        sig = np.hypot(_side_sigma(a, "lo"), _side_sigma(b, "hi"))
+    else:
+        sig = np.hypot(log_sigma(a), log_sigma(b))
     diff = abs(np.log(ratio))
     if sig > 0:
         z = diff / sig
@@ -79,15 +203,16 @@ def pair_verdict(pair, name_a, a, name_b, b, *, if_younger="", if_older="", miss
         return {"pair": pair, "text": f"No comparison of {name_a} and {name_b}: {why}.",
                 "consistent": None, "ratio": None, "z": None}
     c = compare_intervals(a, b)
-    fa, fb = format_age(a["median"]), format_age(b["median"])
+    fa, fb = format_age_interval(a, inner=True), format_age_interval(b, inner=True)
     if c["consistent"]:
+        apart = f", {c['z']:.1f} sigma apart" if np.isfinite(c["z"]) and c["z"] > 0 else ""
         text = (f"The {name_a} ({fa}) and the {name_b} ({fb}) are consistent within errors "
-                f"(ratio {c['ratio']:.2g}).")
+                f"(ratio {format_factor(c['ratio'])}{apart}).")
     elif c["ratio"] < 1:
-        text = f"The {name_a} ({fa}) is younger than the {name_b} ({fb}) by a factor {1 / c['ratio']:.2g}"
+        text = f"The {name_a} ({fa}) is younger than the {name_b} ({fb}) by a factor {format_factor(1 / c['ratio'])}"
         text += f", implying {if_younger}." if if_younger else "."
     else:
-        text = f"The {name_a} ({fa}) is older than the {name_b} ({fb}) by a factor {c['ratio']:.2g}"
+        text = f"The {name_a} ({fa}) is older than the {name_b} ({fb}) by a factor {format_factor(c['ratio'])}"
         text += f", implying {if_older}." if if_older else "."
     return {"pair": pair, "text": text, **c}
 
@@ -132,6 +257,79 @@ def cooling_explanations(s):
     return fmt(colder), fmt(hotter)
 
 
+def _pm(value, error, unit=""):
+    """'0.04 ± 0.01 s' (error to two significant figures), or the value alone."""
+    u = f" {unit}" if unit else ""
+    return f"{value:g} ± {error:.2g}{u}" if error else f"{value:g}{u}"
+
+
+def _young_causes(values, unc, s):
+    """What a kinematic age below the characteristic age implies: decay timescale and initial period."""
+    out = []
+    tau_d, p0 = values.get("decay_timescale_yr"), values.get("implied_initial_period_s")
+    if tau_d:
+        out.append(f"exponential field decay with tau_d ~ {format_age_interval(unc.get('decay_timescale_yr'), tau_d)}")
+    if p0:
+        iv = unc.get("implied_initial_period_s") or {}
+        out.append(f"{'or ' if out else ''}an initial period P0 ~ "
+                   f"{format_interval(p0, iv.get('lo68'), iv.get('hi68'), 's')} for n = {s.braking_index:g}")
+    return " ".join(out)
+
+
+def _old_causes(values, unc, s):
+    """What a kinematic age above the characteristic age implies."""
+    n, tmax = s.braking_index, format_age(values.get("max_spin_down_age_yr"))
+    p0 = values.get("implied_initial_period_s")
+    if p0:
+        iv = unc.get("implied_initial_period_s") or {}
+        return (f"spin-down with the assumed braking index n = {n:g} from an initial period P0 ~ "
+                f"{format_interval(p0, iv.get('lo68'), iv.get('hi68'), 's')}, as the kinematic age is below the "
+                f"maximum spin-down age 2 tau_c/(n-1) = {tmax} for that n (no field decay needed)")
+    n_req = values.get("braking_index_for_kinematic_age")
+    need = f"a braking index below {n_req:.2g} (n = 1 + 2 tau_c / t) or " if n_req else ""
+    return (f"that no spin-down from any initial period reaches it with n = {n:g} (maximum spin-down age "
+            f"2 tau_c/(n-1) = {tmax}) and no decaying field does (decay makes a star look older, not younger): "
+            f"it needs {need}a growing field, unless the kinematic age is too long (a different birthplace)")
+
+
+def _lower_limit_verdict(pair, name_a, a, lower, why, *, if_below, missing):
+    """Verdict of an age against a characteristic age bounded only from below (Pdot consistent with zero)."""
+    limit = f"the characteristic age, which {why} bounds only from below (tau_c > {format_age(lower)}, 2 sigma)"
+    if a is None or a.get("median") is None:
+        return {"pair": pair, "text": f"No comparison of {name_a} and characteristic age: {missing}.",
+                "consistent": None, "ratio": None, "z": None}
+    c = compare_intervals(a, {"median": lower, "unbounded_above": True})
+    fa = format_age_interval(a, inner=True)
+    if c["consistent"]:
+        text = f"The {name_a} ({fa}) is consistent with {limit}."
+    else:
+        text = (f"The {name_a} ({fa}) is younger by a factor of at least {format_factor(1 / c['ratio'])} than "
+                f"{limit}, implying {if_below}.")
+    return {"pair": pair, "text": text, **c}
+
+
+def cooling_caveat(cool, threshold=0.1):
+    """A sentence when many temperature (luminosity) draws fall outside the curves, else ''.
+
+    Draws hotter than every curve at its first time are younger than the model
+    covers and are left out, so the quoted cooling age is then an upper bound;
+    draws colder than the curves at their last time make it a lower bound.
+    """
+    if cool is None or not cool.per_model:
+        return ""
+    hot = float(np.mean([r.get("too_hot", 0.0) for r in cool.per_model]))
+    cold = float(np.mean([r.get("too_cold", 0.0) for r in cool.per_model]))
+    what = cool.quantity
+    hotter, colder = ("hotter", "colder") if what == "temperature" else ("brighter", "fainter")
+    if hot > threshold:
+        return (f" On average {100 * hot:.0f}% of the {what} draws per envelope and mass are {hotter} than the curves "
+                "at their start and are left out, so the cooling age is an upper bound.")
+    if cold > threshold:
+        return (f" On average {100 * cold:.0f}% of the {what} draws per envelope and mass are {colder} than the curves "
+                "reach and are left out, so the cooling age is a lower bound.")
+    return ""
+
+
 def age_verdicts(values, unc, kin, cool, s):
     """Verdicts for the pairs kinematic-characteristic, kinematic-spin_down (when P0 is given),
     kinematic-cooling and characteristic-cooling.
@@ -139,10 +337,13 @@ def age_verdicts(values, unc, kin, cool, s):
     Parameters
     ----------
     values : dict
-        Nominal values of the ages stage (``implied_initial_period_s``,
-        ``decay_timescale_yr``, ``braking_index_for_kinematic_age``, ``spinning_up``).
+        Nominal values of the ages stage (``characteristic_age_yr``,
+        ``spin_down_age_yr``, ``max_spin_down_age_yr``, ``implied_initial_period_s``,
+        ``decay_timescale_yr``, ``braking_index_for_kinematic_age``, ``spinning_up``,
+        ``pdot_note``, ``characteristic_age_lower_limit_yr``, ``period_s``).
     unc : dict
-        Monte Carlo intervals (``characteristic_age_yr``, ``spin_down_age_yr``), yr.
+        Monte Carlo intervals (``characteristic_age_yr``, ``spin_down_age_yr``,
+        ``decay_timescale_yr``, ``implied_initial_period_s``), yr and s.
     kin : dict or None
         Kinematic-age interval, yr.
     cool : CoolingAgeResult or None
@@ -156,27 +357,39 @@ def age_verdicts(values, unc, kin, cool, s):
     if tc_iv and values.get("characteristic_age_yr") is not None:
         # quote the nominal P/(2 Pdot) (the number in the JSON and summary); the spread stays Monte Carlo
         tc_iv = dict(tc_iv, median=values["characteristic_age_yr"])
+    lower = values.get("characteristic_age_lower_limit_yr")
+    note = values.get("pdot_note")
     out = []
-    p0 = values.get("implied_initial_period_s")
-    tau_d = values.get("decay_timescale_yr")
-    young = []
-    if tau_d:
-        young.append(f"exponential field decay with tau_d ~ {format_age(tau_d)}")
-    if p0:
-        young.append(f"or an initial period P0 ~ {p0:.3g} s for n = {s.braking_index:g}")
-    n_req = values.get("braking_index_for_kinematic_age")
-    old = (f"no field-decay solution: field growth, a braking index below {n_req:.2g} (n = 1 + 2 tau_c / t)"
-           if n_req else "no field-decay solution") + ", or a kinematic age too long"
-    miss = "star is spinning up" if values.get("spinning_up") else None
-    out.append(pair_verdict("kinematic-characteristic", "kinematic age", kin, "characteristic age", tc_iv,
-                            if_younger=" ".join(young), if_older=old, missing=miss))
-    if s.initial_period_s is not None:
-        out.append(pair_verdict("kinematic-spin_down", "kinematic age", kin,
-                                f"spin-down age for n = {s.braking_index:g}, P0 = {s.initial_period_s:g} s",
-                                unc.get("spin_down_age_yr"),
-                                if_younger="a longer P0 or a lower braking index than assumed",
-                                if_older="no spin-down history with this n and P0 reaches the kinematic age",
+    miss = note if values.get("spinning_up") and lower is None else None
+    if lower is not None:
+        # Pdot consistent with zero: only tau_c > lower is known, so tau_d has an upper and P0 a lower bound
+        from .field_decay import exponential_decay_timescale
+
+        below = "field decay or an initial period close to today's period"
+        if kin is not None and kin.get("median") is not None and kin["median"] < lower:
+            t = kin["median"]
+            td = float(exponential_decay_timescale(t, lower))
+            nm1 = s.braking_index - 1.0
+            p0 = values.get("period_s", 0.0) * (1.0 - nm1 * t / (2.0 * lower)) ** (1.0 / nm1)
+            below = (f"exponential field decay with tau_d below {format_age(td)} or an initial period above "
+                     f"{p0:.3g} s for n = {s.braking_index:g}")
+        out.append(_lower_limit_verdict("kinematic-characteristic", "kinematic age", kin, lower, "a Pdot consistent "
+                                        "with zero", if_below=below, missing="kinematic age not available"))
+    else:
+        out.append(pair_verdict("kinematic-characteristic", "kinematic age", kin, "characteristic age", tc_iv,
+                                if_younger=_young_causes(values, unc, s), if_older=_old_causes(values, unc, s),
                                 missing=miss))
+    if s.initial_period_s is not None:
+        sd_iv = unc.get("spin_down_age_yr")
+        if sd_iv and values.get("spin_down_age_yr") is not None:
+            sd_iv = dict(sd_iv, median=values["spin_down_age_yr"])  # the nominal value, as for tau_c
+        # t = P/((n-1) Pdot) [1 - (P0/P)^(n-1)] falls as P0 or n grows (Lorimer & Kramer 2005, eq. 3.13)
+        out.append(pair_verdict("kinematic-spin_down", "kinematic age", kin,
+                                f"spin-down age for n = {_pm(s.braking_index, s.braking_index_error)}, "
+                                f"P0 = {_pm(s.initial_period_s, s.initial_period_error_s, 's')}", sd_iv,
+                                if_younger="a longer P0 or a higher braking index than assumed (or field decay)",
+                                if_older="a shorter P0 or a lower braking index than assumed",
+                                missing=miss or ("the spin-down age is not constrained: " + note if lower else None)))
     cool_iv = cool.pooled if cool is not None else None
     cmiss = None if cool is not None else "no temperature or luminosity in [star]"
     colder, hotter = cooling_explanations(s)
@@ -184,6 +397,9 @@ def age_verdicts(values, unc, kin, cool, s):
                      if_younger="the star is colder than the cooling curves predict at that age" + colder,
                      if_older="the star is hotter than the cooling curves predict at that age" + hotter,
                      missing=cmiss)
+    caveat = cooling_caveat(cool)
+    if v["consistent"] is not None and caveat:
+        v["text"] += caveat
     if cool is not None and kin is not None and kin.get("median") is not None:
         fits = [f"{r['envelope']} {r['mass_msun']:g} Msun" for r in cool.per_model
                 if r["median"] is not None and compare_intervals(kin, r)["consistent"]]
@@ -192,9 +408,19 @@ def age_verdicts(values, unc, kin, cool, s):
         v["text"] += (f" Envelopes and masses consistent with the kinematic age: {', '.join(fits)}." if fits
                       else " No envelope and mass considered matches the kinematic age.")
     out.append(v)
-    out.append(pair_verdict("characteristic-cooling", "characteristic age", tc_iv, "cooling age", cool_iv,
-                            if_younger="the star is colder than expected at its characteristic age",
-                            if_older="the star is hotter than expected at its characteristic age, as field decay "
-                                     "(spin-down age too long) or heating would give",
-                            missing=miss or cmiss))
+    if lower is not None:
+        v = _lower_limit_verdict("characteristic-cooling", "cooling age", cool_iv, lower, "a Pdot consistent with zero",
+                                 if_below="that the star is hotter than expected at its characteristic age",
+                                 missing=cmiss or "no cooling age")
+        if v["ratio"]:
+            v["ratio"] = 1.0 / v["ratio"]  # this pair's ratio is tau_c / cooling age (here its lower bound)
+        out.append(v)
+    else:
+        out.append(pair_verdict("characteristic-cooling", "characteristic age", tc_iv, "cooling age", cool_iv,
+                                if_younger="the star is colder than expected at its characteristic age",
+                                if_older="the star is hotter than expected at its characteristic age, as field "
+                                         "decay (spin-down age too long) or heating would give",
+                                missing=miss or cmiss))
+    if out[-1]["consistent"] is not None and caveat:
+        out[-1]["text"] += caveat
     return out
