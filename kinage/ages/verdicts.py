@@ -405,8 +405,14 @@ def age_verdicts(values, unc, kin, cool, s):
                 if r["median"] is not None and compare_intervals(kin, r)["consistent"]]
         v["favoured_models"] = fits
         v["short"] = v["text"]
-        v["text"] += (f" Envelopes and masses consistent with the kinematic age: {', '.join(fits)}." if fits
-                      else " No envelope and mass considered matches the kinematic age.")
+        if fits:
+            v["text"] += f" Envelopes and masses consistent with the kinematic age: {', '.join(fits)}."
+        elif v["consistent"]:
+            # the pooled interval spans the envelopes and masses: agreement with it alone is the models' spread
+            v["text"] += (" No single envelope and mass considered matches the kinematic age: the agreement comes "
+                          "from the spread between them.")
+        else:
+            v["text"] += " No envelope and mass considered matches the kinematic age."
     out.append(v)
     if lower is not None:
         v = _lower_limit_verdict("characteristic-cooling", "cooling age", cool_iv, lower, "a Pdot consistent with zero",

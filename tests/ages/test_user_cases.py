@@ -275,3 +275,15 @@ def test_asymmetric_intervals_compared_on_the_facing_side():
     assert compare_intervals(a, b)["z"] == pytest.approx(z, rel=1e-12)  # 1.2: consistent
     assert compare_intervals(a, b)["consistent"] is True
     assert compare_intervals(a, {"median": 100.0, "unbounded_above": True})["consistent"] is True
+
+
+def test_pooled_agreement_without_a_matching_model_is_called_the_models_spread():
+    # kT = 50 eV: the iron and accreted curves reach it at ages a factor ~4 apart (the cooling figure), so the
+    # pooled 68% interval (about 110-470 kyr) is wide; 0.9 Myr is ~1.7 sigma from the pool's upper side but more
+    # than 2 sigma from every single curve's narrow interval
+    star = {"name": "Dunmere-5", "spin_period": "1.302 s", "spin_period_derivative": 2e-15,
+            "temperature": "50 eV", "temperature_error": "5 eV"}
+    d = compare_ages(_scn(star, {"kinematic_age": "0.9 Myr", "kinematic_age_error": "0.15 Myr"}), rng=8).to_dict()
+    v = _verdict(d, "kinematic-cooling")
+    assert v["favoured_models"] == [] and v["consistent"] is True
+    assert "the agreement comes from the spread between them" in v["text"]
