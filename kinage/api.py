@@ -466,10 +466,23 @@ def compare_ages(scenario, trace_result=None, *, trace=None, kinematic_age=None,
     if trace_result is not None and not hasattr(trace_result, "kinematic_age_samples"):
         raise InputError("trace", f"expected the TraceResult of kinage.trace (got {type(trace_result).__name__}); "
                          "or give kinematic_age=<Quantity>")
+    name = "kinematic_age"
     if kinematic_age is None:
-        kinematic_age = kinematic_age_samples
+        kinematic_age, name = kinematic_age_samples, "kinematic_age_samples"
     if kinematic_age is not None:
-        samples = np.atleast_1d(np.asarray(to_plain(kinematic_age, "yr", "kinematic_age"), float))
+        if isinstance(kinematic_age, str):  # "1.2 Myr", as in a scenario file
+            from .io.quantities import parse_quantity
+
+            kinematic_age = parse_quantity(kinematic_age, "yr", name)
+        try:
+            samples = np.atleast_1d(np.asarray(to_plain(kinematic_age, "yr", name), float))
+        except InputError:
+            raise
+        except (TypeError, ValueError):
+            raise InputError(name, f"expected a time Quantity (scalar or array), or numbers in yr "
+                             f"(got {type(kinematic_age).__name__})") from None
+        if not np.any(np.isfinite(samples) & (samples > 0)):
+            raise InputError(name, "expected at least one finite, positive age")
         label = kwargs.pop("kinematic_age_source", "given to kinage.compare_ages")
     else:
         samples, label = kinematic_age_input(scn, trace_result)

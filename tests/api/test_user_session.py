@@ -232,3 +232,18 @@ def test_multi_panel_figure_needs_a_grid_cell():
     with pytest.raises(kinage.InputError, match="ax: this figure has several panels"):
         res.plot("birth", ax=free.add_axes((0.1, 0.1, 0.8, 0.8)))
     plt.close("all")
+
+
+def test_compare_ages_kinematic_age_forms():
+    scn = {"star": _star(), "ages": {"samples": 200}}
+    # "1.2 Myr" as in a scenario file, parsed by astropy: the same as the Quantity
+    a = kinage.compare_ages(scn, kinematic_age="1.2 Myr", rng=1)
+    b = kinage.compare_ages(scn, kinematic_age=1.2 * u.Myr, rng=1)
+    assert a.to_dict()["kinematic_age_yr"]["median"] == pytest.approx((1.2 * u.Myr).to_value(u.yr), rel=1e-12)
+    assert a.to_dict()["kinematic_age_yr"] == b.to_dict()["kinematic_age_yr"]
+    for bad, match in (("abc", "kinematic_age: expected a number in yr"), (-1 * u.Myr, "finite, positive"),
+                       ({"age": 1}, "expected a time Quantity"), (1.2 * u.pc, "expected a quantity of time")):
+        with pytest.raises(kinage.InputError, match=match):
+            kinage.compare_ages(scn, kinematic_age=bad)
+    with pytest.raises(kinage.InputError, match="kinematic_age_samples: expected at least one"):
+        kinage.compare_ages(scn, kinematic_age_samples=[] * u.Myr)
