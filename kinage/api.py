@@ -371,7 +371,14 @@ def fit(toas, scenario=None, **kwargs):
 
     if scenario is None or (_looks_like_scenario(toas) and not _looks_like_scenario(scenario)):
         toas, scenario = scenario, toas
-    scn = as_scenario(scenario)
+    camp = scenario.get("campaign") if isinstance(scenario, dict) else None
+    if toas is not None and isinstance(camp, dict) and camp.get("toas") is None:
+        # the TOAs come as an argument, so a [campaign] of noise and reference keys needs no plan or TOA errors
+        held = str(toas) if isinstance(toas, (str, Path)) else "<in-memory TOA table>"
+        scenario = {**scenario, "campaign": {**camp, "toas": held}}
+        scn = scenario_from_dict(scenario, allow_missing=("campaign.toas",))
+    else:
+        scn = as_scenario(scenario)
     if toas is None:
         toas = scn.campaign.get("toas") if scn.campaign is not None else None
         if toas is None:
@@ -429,7 +436,11 @@ def trace(scenario, associations=None, *, solution=None, rng=None, samples=None,
     from .orbits import trace as _trace
     from .pipeline import solution_for_trace
 
+    from .io.limits import check_resources, check_samples
+
+    samples = check_samples(samples)
     scn, table = _with_associations(as_scenario(scenario), associations)
+    check_resources(scn, samples=samples, n_associations=len(table))  # memory and run time, before any work
     if solution is not None and hasattr(solution, "solution") and not hasattr(solution, "covariance"):
         solution = solution_for_trace(scn, solution)
     return _stage(_trace, TraceWarning, scn, solution=solution, rng=rng, samples=samples, potential=potential,
@@ -518,7 +529,12 @@ def run(scenario, out_dir, *, seed=None, samples=None, progress=False, report=Tr
     from .pipeline import run_pipeline
     from .warnings import logger
 
+    from .io.paths import check_output_dir
+    from .io.rundir import check_replaceable
+
     scn = as_scenario(scenario)
+    out_dir = check_output_dir(out_dir, "out_dir")  # a file in the way is an InputError naming out_dir, not an OSError
+    check_replaceable(out_dir, "out_dir")
     result, raised = _catching(run_pipeline, KinageWarning, scn, out_dir, seed=seed, samples=samples,
                                progress=progress, report=report, products=products, log=log or logger.info)
     for stage, res in result.stages.items():

@@ -247,3 +247,18 @@ def test_compare_ages_kinematic_age_forms():
             kinage.compare_ages(scn, kinematic_age=bad)
     with pytest.raises(kinage.InputError, match="kinematic_age_samples: expected at least one"):
         kinage.compare_ages(scn, kinematic_age_samples=[] * u.Myr)
+
+
+def test_run_names_out_dir_when_it_cannot_be_used(tmp_path):
+    raw = {"star": _star(), "ages": {"samples": 200, "kinematic_age": 1.2 * u.Myr}}
+    blocker = tmp_path / "a_file"
+    blocker.write_text("not a folder\n")
+    foreign = tmp_path / "my_notes"
+    foreign.mkdir()
+    (foreign / "notes.txt").write_text("keep me\n")
+    for out, match in ((blocker, "out_dir: expected a folder"), (blocker / "sub", "out_dir: a part of the path"),
+                       (foreign, "out_dir: .* holds files")):
+        with pytest.raises(kinage.InputError, match=match):
+            kinage.run(raw, out)
+    assert (foreign / "notes.txt").read_text() == "keep me\n" and sorted(p.name for p in tmp_path.iterdir()) == [
+        "a_file", "my_notes"]  # nothing written
