@@ -275,11 +275,15 @@ def _recorded(result):
     return [str(m) for m in msgs or []]
 
 
-def _warn(result, category, raised=()):
-    """Raise (and log) the warnings ``result`` records that the stage did not already raise."""
+def _warn(result, category, raised=(), stacklevel=5):
+    """Raise (and log) the warnings ``result`` records that the stage did not already raise.
+
+    ``stacklevel`` 5 points at the user's call of a front door that calls :func:`_stage` (emit, _warn,
+    _stage, the front door, the caller); 4 when the front door calls this directly.
+    """
     raised = [r.lower() for r in raised]
     emit([m for m in _recorded(result) if not any(m.rstrip(".").lower() in r for r in raised)], category,
-         stacklevel=4)
+         stacklevel=stacklevel)
     return result
 
 
@@ -289,8 +293,12 @@ def _stage(func, category, *args, **kwargs):
     return _warn(result, category, raised)
 
 
-def _catching(func, category, *args, **kwargs):
-    """``func(*args, **kwargs)`` and the texts of the warnings it raised (re-raised as described in :func:`_stage`)."""
+def _catching(func, category, *args, stacklevel=5, **kwargs):
+    """``func(*args, **kwargs)`` and the texts of the warnings it raised (re-raised as described in :func:`_stage`).
+
+    kinage's own warnings are raised again at the user's line (``stacklevel`` as in :func:`_warn`), as
+    ``category`` unless they are KinageWarnings already; other packages' warnings pass on unchanged.
+    """
     import warnings
 
     root = str(Path(__file__).resolve().parent)
@@ -300,12 +308,11 @@ def _catching(func, category, *args, **kwargs):
     raised = []
     for w in caught:
         text = str(w.message)
-        if str(w.filename).startswith(root) and not issubclass(w.category, KinageWarning):
-            emit([text], category, stacklevel=4)
-            raised.append(text)
-        else:  # someone else's warning (numpy, astropy, ...) or already a KinageWarning: pass it on unchanged
+        if str(w.filename).startswith(root):
+            emit([text], w.category if issubclass(w.category, KinageWarning) else category, stacklevel=stacklevel)
+        else:  # someone else's warning (numpy, astropy, ...): pass it on unchanged
             warnings.warn_explicit(w.message, w.category, w.filename, w.lineno, source=w.source)
-            raised.append(text)
+        raised.append(text)
     return result, raised
 
 
@@ -526,20 +533,19 @@ def run(scenario, out_dir, *, seed=None, samples=None, progress=False, report=Tr
         ``stages`` maps stage names to results; a failed stage is named in
         ``failed`` and raised as a :class:`KinageWarning`.
     """
-    from .pipeline import run_pipeline
-    from .warnings import logger
-
     from .io.paths import check_output_dir
     from .io.rundir import check_replaceable
+    from .pipeline import run_pipeline
+    from .warnings import logger
 
     scn = as_scenario(scenario)
     out_dir = check_output_dir(out_dir, "out_dir")  # a file in the way is an InputError naming out_dir, not an OSError
     check_replaceable(out_dir, "out_dir")
-    result, raised = _catching(run_pipeline, KinageWarning, scn, out_dir, seed=seed, samples=samples,
+    result, raised = _catching(run_pipeline, KinageWarning, scn, out_dir, stacklevel=4, seed=seed, samples=samples,
                                progress=progress, report=report, products=products, log=log or logger.info)
     for stage, res in result.stages.items():
         category = {"forecast": ForecastWarning, "fit": FitWarning, "trace": TraceWarning,
                     "ages": AgesWarning}.get(stage, KinageWarning)
-        _warn(res, category, raised)
+        _warn(res, category, raised, stacklevel=4)
     emit([f"stage '{s}' failed: {m}" for s, m in result.failed.items()], KinageWarning)
     return result

@@ -262,3 +262,16 @@ def test_run_names_out_dir_when_it_cannot_be_used(tmp_path):
             kinage.run(raw, out)
     assert (foreign / "notes.txt").read_text() == "keep me\n" and sorted(p.name for p in tmp_path.iterdir()) == [
         "a_file", "my_notes"]  # nothing written
+
+
+def test_warnings_point_at_the_notebook_line():
+    # a warning's file and line are the caller's (Python's warnings.warn stacklevel), as a notebook shows them
+    small = dict(SMALL_TRACE, control_runs=0, solar_parameters="astropy-v4.0")  # a Sun from another Galaxy
+    with warnings.catch_warnings(record=True) as caught:
+        warnings.simplefilter("always")
+        kinage.trace({"star": _star(), "trace": small}, associations=_associations())
+        kinage.compare_ages({"star": {"temperature": 63 * u.eV}, "ages": {"samples": 100}},
+                            kinematic_age=1 * u.Myr)
+    ours = [w for w in caught if issubclass(w.category, kinage.KinageWarning)]
+    assert {w.category.__name__ for w in ours} == {"TraceWarning", "AgesWarning"}
+    assert all(w.filename == __file__ for w in ours), [(w.filename, w.lineno) for w in ours]
