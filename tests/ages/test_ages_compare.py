@@ -51,7 +51,8 @@ def test_keys_products_and_json(tmp_path):
 
 
 def test_crab_worked_example_through_the_front_door():
-    # Crab-like star (invented name), P = 33.39 ms, Pdot = 4.21e-13, n = 2.51, true age 937 yr:
+    # published reference values of the Crab pulsar (a worked example, not demo data): P = 33.39 ms,
+    # Pdot = 4.21e-13, n = 2.51, true age 937 yr (SN 1054 to the 1990s):
     # tau_c ~ 1,260 yr, max age ~ 1,670 yr, implied P0 ~ 19 ms (Lyne, Pritchard & Graham-Smith 1993)
     scn = _scn(star={"spin_period": 0.03339, "spin_period_error": None, "spin_period_derivative": 4.21e-13,
                      "spin_period_derivative_error": None, "temperature": None, "temperature_error": None},
