@@ -95,8 +95,9 @@ def build_parser():
     _common(p)
 
     p = verb("fit")
-    p.add_argument("toas", type=Path, help="TOA table (ECSV or CSV with columns mjd, error)")
-    p.add_argument("--scenario", type=Path, required=True, help="scenario with the star's starting values")
+    p.add_argument("toas", type=Path, help="TOA table (ECSV or CSV with columns mjd, error), or the scenario "
+                                           "alone when its [campaign] toas names the table")
+    p.add_argument("--scenario", type=Path, help="scenario with the star's starting values")
     _common(p)
 
     p = verb("trace")

@@ -103,6 +103,17 @@ def cmd_simulate(args):
 
 
 def cmd_fit(args):
+    if args.scenario is None:  # `kinage fit star.toml`: the scenario's own [campaign] toas
+        if args.toas.suffix.lower() != ".toml":
+            raise InputError("--scenario", "required with a TOA table: the scenario with the star's starting "
+                             "values (or give the scenario alone, with [campaign] toas naming the table)")
+        args.scenario = args.toas
+        scenario = load_scenario(args.scenario)
+        toas = scenario.campaign.get("toas") if scenario.campaign is not None else None
+        if toas is None:
+            raise InputError("[campaign] toas", f"'kinage fit {args.scenario}' needs the TOA table named here "
+                             "(or give it: kinage fit TOAS --scenario SCENARIO)")
+        args.toas = Path(toas)
     scenario = load_scenario(args.scenario)
     from .errors import ConvergenceError
     from .timing import fit_toas

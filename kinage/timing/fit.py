@@ -13,7 +13,9 @@ aligning its phase zero with the TOAs (phase connection is assumed).
 
 The fit has converged when the largest step is below ``STEP_TOLERANCE`` of
 its parameter's standard error, or when chi-square stopped decreasing within
-its numerical noise.  Otherwise it raises
+its numerical noise, and the residuals show no wrong pulse numbers (two or
+more beyond a quarter of the spin period and 4 times their noise: a
+cycle-count problem, not a solution).  Otherwise it raises
 :class:`~kinage.errors.ConvergenceError` whose ``last_result`` holds the last
 iterate (``converged`` False) with a warning that names the likely cause: a
 cycle-count problem (residuals beyond a quarter of the spin period), a
@@ -225,6 +227,7 @@ def fit_toas(toas, scenario, *, max_iter=30, method="woodbury"):
     if ra is None or dec is None:
         raise InputError("[star] ra", "position (ra, dec) is required to fit TOAs")
     freq, freq_dot, _ = inputs.spin_from_star(star, required=True, where="fitting TOAs")
+    _check_errors_against_period(tab, 1.0 / freq, where)
     f_mhz = frequency_column(tab, where)
     multi = f_mhz is not None and np.unique(f_mhz).size > 1
     dm0 = _dispersion_measure(star)
@@ -267,6 +270,11 @@ def fit_toas(toas, scenario, *, max_iter=30, method="woodbury"):
         # chi2 is evaluated before each step: equal chi2 on two iterations means the last step changed nothing
         flat = it >= 3 and abs(history[-2][0] - chi2) <= tol * max(chi2, 1.0) and step_sigma < 0.1
         if step_sigma <= STEP_TOLERANCE or flat:
+            lost = _misnumbered(model.residuals(grid, theta, pulses, offsets=True), noise, 1.0 / (freq + theta[6]))
+            if lost:  # the steps settled, but on a wrong pulse numbering: not a solution
+                last = _result(model, grid, theta, pulses, noise, method, c, epoch, tab, history, cov, reference,
+                               False, failure=lost)
+                raise ConvergenceError(f"the timing fit settled on a wrong pulse numbering: {lost}", last_result=last)
             return _result(model, grid, theta, pulses, noise, method, c, epoch, tab, history, cov, reference, True)
     last = _result(model, grid, theta, pulses, noise, method, c, epoch, tab, history, cov, reference, False)
     raise ConvergenceError(f"the timing fit did not converge in {max_iter} iterations: {last.warnings[-1]}",
@@ -289,6 +297,45 @@ def _chi2_noise(n):
     return max(1e-12 * n, 1e-10)
 
 
+def _check_errors_against_period(tab, period, where):
+    """TOA errors of half the spin period or more leave no pulse phase to fit: most often a unit mistake."""
+    err = u.Quantity(tab["error"]).to_value(u.s)
+    bad = np.flatnonzero(err >= 0.5 * period)
+    if bad.size:
+        i = int(bad[0])
+        mjd = tab["mjd"][i].tdb.to_value("mjd", "float")
+        raise InputError(f"{where} column 'error'",
+                         f"{err[i]:.3g} s (at MJD {mjd:.4f}) is at least half the spin period ({period:.4g} s), so "
+                         "the TOA fixes no pulse phase; errors must be well below the period (a column without "
+                         "a unit is in seconds: were these microseconds?)")
+
+
+#: a TOA is taken as misnumbered when its residual passes a quarter period and this many times its noise
+MISNUMBERED_SIGMA = 4.0
+
+
+def _misnumbered(resid, noise, period):
+    """Words on a wrong pulse numbering, or '' when the residuals do not show one.
+
+    A residual beyond a quarter of the spin period that its own noise (white plus red, marginal) does not
+    explain points to a wrong pulse number.  One such TOA may be an outlier (it keeps the warning of
+    :func:`_result`); two or more mean the numbering from the starting model was wrong (common practice, no
+    source: phase connection fails when the starting spin or position drifts by a cycle over a gap).
+    """
+    var = noise.white_var.copy()
+    if noise.has_red:
+        var = var + np.sum(noise.basis**2 * noise.phi, axis=1)
+    far = (np.abs(resid) > 0.25 * period) & (np.abs(resid) > MISNUMBERED_SIGMA * np.sqrt(var))
+    n = int(np.count_nonzero(far))
+    if n < 2:
+        return ""
+    return (f"{n} of {resid.size} TOAs have residuals beyond a quarter of the spin period ({period:.4g} s) and "
+            f"{MISNUMBERED_SIGMA:g} times their errors, so their pulses are misnumbered: a cycle-count problem (the "
+            "starting spin, spin derivative or position in [star] drift by a cycle over the data; check that "
+            "[star] epoch is the epoch of spin_period, give better starting values, or add TOAs that bridge the "
+            "gaps)")
+
+
 def _diagnosis(history, resid, period):
     """Plain-words cause of a non-converged fit."""
     steps = np.array([h[1] for h in history])
@@ -305,7 +352,8 @@ def _diagnosis(history, resid, period):
             "solution; raise the iteration limit or start nearer")
 
 
-def _result(model, grid, theta, pulses, noise, method, c, epoch, tab, history, cov, reference, converged):
+def _result(model, grid, theta, pulses, noise, method, c, epoch, tab, history, cov, reference, converged,
+            failure=""):
     resid = model.residuals(grid, theta, pulses, offsets=True)
     chi2 = float(noise.quadratic(resid, method=method))
     names = model.parameter_names
@@ -322,7 +370,7 @@ def _result(model, grid, theta, pulses, noise, method, c, epoch, tab, history, c
     if np.max(np.abs(resid)) > 0.25 * period:
         warnings.append("residuals exceed a quarter of the spin period: the pulse numbering may be wrong")
     if not converged:
-        warnings.append("not converged: " + _diagnosis(history, resid, period))
+        warnings.append("not converged: " + (failure or _diagnosis(history, resid, period)))
     sig_toa = model.astro_partials(grid) @ values[:5]
     mjd = tab["mjd"].tdb.to_value("mjd", "float")
     dense = np.linspace(mjd[0], mjd[-1], 600)

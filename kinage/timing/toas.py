@@ -16,15 +16,15 @@ ECSV (preferred) or CSV with one row per TOA:
 ``exposure`` (optional)
     Exposure of the visit; with a unit in ECSV, else seconds.
 ``frequency`` (optional)
-    Observing frequency; with a unit in ECSV, else MHz.  Enables the
-    dispersion delay (:mod:`kinage.timing.delays`).
+    Observing frequency; with a unit in ECSV, else MHz (at least 5 MHz).
+    Enables the dispersion delay (:mod:`kinage.timing.delays`).
 
 The metadata may carry the TOA reference keys (``toa_reference``,
 ``site_longitude``, ... : :mod:`kinage.timing.reference`).  For
 ``toa_reference = 'site'`` the times are at the site; a scale other than TDB
 is converted with the site's location (:func:`site_times`).
 
-Rows must be sorted by time with no duplicates; NaN, missing values,
+Rows may come in any order (they are sorted by time); duplicate times, NaN, missing values,
 errors <= 0, MJDs outside 1965-2100 (MJD 39000-88069, the range of the
 built-in ephemeris) and frequencies that are not positive are rejected with
 an :class:`~kinage.errors.InputError` naming the row (1-based, data rows)
@@ -43,10 +43,14 @@ from ..errors import InputError
 from ..io.results import atomic_path
 
 __all__ = ["read_toas", "write_toas", "validate_toas", "toa_times", "check_fit_table", "frequency_column",
-           "site_times", "MJD_RANGE"]
+           "site_times", "MJD_RANGE", "MIN_FREQUENCY_MHZ"]
 
 #: plausible TOA dates: 1965 (before the first pulsar) to 2100 (end of the built-in ephemeris)
 MJD_RANGE = (39000.0, 88069.0)
+
+#: lowest observing frequency accepted: the ionosphere reflects radio waves below its plasma frequency of a few
+#: MHz (value from memory), so no ground-based pulsar timing happens there; catches a column in GHz
+MIN_FREQUENCY_MHZ = 5.0
 
 _SCALES = ("tdb", "tt", "utc", "tai", "tcb", "tcg")
 
@@ -109,12 +113,16 @@ def validate_toas(tab, where="TOA table"):
         if name not in out.colnames:
             out[name] = tab[name]
     out.meta.update({k: v for k, v in tab.meta.items() if k != "__serialized_columns__"})
-    out.meta.setdefault("time_scale_input", scale)
+    # the scale the times were given in: a Time column's own scale (a UTC Time column is converted to TDB at a
+    # site with the site's location by site_times, as a text column with meta time_scale = 'utc' is)
+    col = tab["mjd"]
+    given = str(col.scale) if isinstance(col, Time) and str(col.scale) in _SCALES else scale
+    out.meta.setdefault("time_scale_input", given)
     out.meta["time_scale"] = "tdb"
     if "frequency" in tab.colnames:
         out["frequency"] = frequency_column(tab, where) * u.MHz
-    _check_order(out["mjd"], where)
-    return out
+    order = _time_order(out["mjd"], where)
+    return out if order is None else out[order]
 
 
 def _check_range(times, where):
@@ -150,6 +158,12 @@ def frequency_column(tab, where="TOA table"):
         i = bad[0]
         raise InputError(f"{where} row {i + 1}, column 'frequency'",
                          f"must be a positive observing frequency in MHz (got {x[i]!r})")
+    low = np.flatnonzero(x < MIN_FREQUENCY_MHZ)
+    if low.size:
+        i = low[0]
+        raise InputError(f"{where} row {i + 1}, column 'frequency'",
+                         f"{x[i]:g} MHz is below {MIN_FREQUENCY_MHZ:g} MHz, where the ionosphere stops radio waves; "
+                         "frequencies without a unit are in MHz (is the column in GHz?)")
     return x
 
 
@@ -246,21 +260,23 @@ def _column_seconds(tab, name, where, allow_nan=False):
     return x
 
 
-def _check_order(times, where):
+def _time_order(times, where):
+    """Row order by time (None when already sorted); duplicate times are rejected naming both input rows.
+
+    TOAs merged from several telescopes or receivers come in any order, and the order carries no information
+    in a fit, so an unsorted table is sorted (stably) rather than refused.
+    """
     if len(times) < 2:
-        return
+        return None
     ref = times[0]
     sec = ((times.jd1 - ref.jd1) + (times.jd2 - ref.jd2)) * 86400.0
-    d = np.diff(sec)
+    order = np.argsort(sec, kind="stable")
+    d = np.diff(sec[order])
     dup = np.flatnonzero(d == 0)
-    back = np.flatnonzero(d < 0)
-    if back.size and (not dup.size or back[0] < dup[0]):
-        i = back[0]
-        raise InputError(f"{where} row {i + 2}, column 'mjd'",
-                         f"times must increase (row {i + 2} is before row {i + 1}); sort the table")
     if dup.size:
-        i = dup[0]
-        raise InputError(f"{where} row {i + 2}, column 'mjd'", f"duplicate time (same as row {i + 1})")
+        i, j = sorted((int(order[dup[0]]), int(order[dup[0] + 1])))
+        raise InputError(f"{where} row {j + 1}, column 'mjd'", f"duplicate time (same as row {i + 1})")
+    return None if np.all(order == np.arange(order.size)) else order
 
 
 def toa_times(tab):
