@@ -27,14 +27,25 @@ def age_axis_unit(values_yr):
 
 
 def _plain_log_ticks(axis):
-    """Log axis labelled at 1, 2, 5 x 10^k in plain numbers, without crowded minor labels."""
-    from matplotlib.ticker import FuncFormatter, LogLocator, NullFormatter
+    """Log axis labelled in plain numbers (:func:`kinage.report.style.plain_log_ticks`)."""
+    from ..report.style import plain_log_ticks
 
-    lo, hi = axis.get_view_interval()
-    decades = np.log10(max(hi, 1e-300) / max(lo, 1e-300))
-    axis.set_major_locator(LogLocator(base=10, subs=(1.0, 2.0, 5.0) if decades < 1.6 else (1.0,)))
-    axis.set_major_formatter(FuncFormatter(lambda v, _: f"{v:g}"))
-    axis.set_minor_formatter(NullFormatter())
+    plain_log_ticks(axis)
+
+
+def _pretty(label):
+    """Ladder labels in print notation: P/(2Ṗ), M☉."""
+    return (label.replace("P/2Pdot", "P/(2Ṗ)").replace("P/(2 Pdot)", "P/(2Ṗ)").replace("Msun", "M☉")
+            .replace("(n=", "(n = "))
+
+
+def _temperature_text(t, e):
+    """'kT∞ = 77 ± 5 eV, T∞ = (8.9 ± 0.6) × 10⁵ K' from values in K (the error may be None)."""
+    from ..report.numbers import fmt_power, value_error
+
+    if e:
+        return f"kT∞ = {value_error(t * _EV_PER_K, e * _EV_PER_K, 'eV')}, T∞ = {value_error(t, e, 'K')}"
+    return f"kT∞ = {fmt_power(t * _EV_PER_K, 3)} eV, T∞ = {fmt_power(t, 3)} K"
 
 
 def _finish(fig, path):
@@ -83,8 +94,8 @@ def plot_age_ladder(rows, path=None, title=None, ax=None):
             ax.errorbar([med / scale], [y], xerr=[[(med - lo) / scale], [(hi - med) / scale]], fmt="o", color=c,
                         capsize=3, ms=4)
         ax.set_yticks(ys)
-        ax.set_yticklabels([lab if (iv and (iv.get("median") is not None or iv.get("unbounded_above"))) else
-                            f"{lab} (n/a)" for lab, iv in rows])
+        ax.set_yticklabels([_pretty(lab) if (iv and (iv.get("median") is not None or iv.get("unbounded_above")))
+                            else f"{_pretty(lab)} (n/a)" for lab, iv in rows])
         ax.set_xscale("log")
         if finite:
             ax.set_xlim(min(finite) / scale / 3.0, max(finite) / scale * 3.0)
@@ -133,17 +144,16 @@ def plot_cooling_curves(curves, path=None, *, temperature=None, kinematic=None, 
                     color=mass_colours[ci % len(mass_colours)], label=c.label.replace("Msun", "M☉"))
         have_t = temperature is not None and temperature[0] is not None
         have_k = bool(kinematic) and kinematic.get("median") is not None
+        n_curves = len(ax.get_legend_handles_labels()[0])
         if have_t:
             t, e = temperature
             if temperature_label is None:
-                kt = t * _EV_PER_K
-                temperature_label = (f"{t:.3g} K = {kt:.3g} ± {e * _EV_PER_K:.2g} eV" if e
-                                     else f"{t:.3g} K = {kt:.3g} eV")
+                temperature_label = _temperature_text(t, e)
             if e:
                 ax.axhspan(t - e, t + e, color="0.5", alpha=0.2, lw=0,
-                           label=f"star's temperature {temperature_label or ''}".strip() + " (68%)")
+                           label=f"star's temperature, {temperature_label} (68%)")
             elif not have_k:
-                ax.axhline(t, color="0.3", lw=0.8, label="star's temperature")
+                ax.axhline(t, color="0.3", lw=0.8, label=f"star's temperature, {temperature_label}")
         if have_k:
             k = kinematic
             xm = k["median"] / scale
@@ -160,7 +170,12 @@ def plot_cooling_curves(curves, path=None, *, temperature=None, kinematic=None, 
         ax.set_yscale("log")
         ax.set_xlabel(f"age ({unit})")
         ax.set_ylabel(r"redshifted surface temperature $T_\infty$ (K)")
-        fig.legend(loc="outside lower center", fontsize=6, ncol=2)
+        handles, labels = ax.get_legend_handles_labels()
+        # the curves inside the axes, lower left (young and cold: no curve runs there); the star below the axes
+        ax.legend(handles[:n_curves], labels[:n_curves], loc="lower left", fontsize=5.5, ncol=2,
+                  title="envelope, mass", title_fontsize=5.5)
+        if len(handles) > n_curves:
+            fig.legend(handles[n_curves:], labels[n_curves:], loc="outside lower center", fontsize=6, ncol=1)
         if title:
             ax.set_title(title, fontsize=7.5)
         return _finish(fig, path)

@@ -152,7 +152,7 @@ class TraceResult(ResultDisplay):
             out.append(f"No draw crossed the Galactic mid-plane within the {max_myr:.3g} Myr searched: the star "
                        "was born away from the plane or longer ago, so there is no plane-crossing age.")
         elif frac < 0.5:
-            out.append(f"Most draws ({1 - frac:.0%}) did not cross the Galactic mid-plane within the "
+            out.append(f"Most draws ({_share(1 - frac)}) did not cross the Galactic mid-plane within the "
                        f"{max_myr:.3g} Myr searched, so the plane-crossing age describes only the minority "
                        "that did and is no age estimate for the star.")
         best = self.best() if self.favoured is not None else None
@@ -232,7 +232,7 @@ class TraceResult(ResultDisplay):
         pc = interval(self.plane_crossing_age_samples())
         if pc["median"] is not None:
             frac = pc["n"] / self.n_samples
-            text += (f" {frac:.0%} of the draws crossed the Galactic mid-plane within the "
+            text += (f" {_share(frac)} of the draws crossed the Galactic mid-plane within the "
                      f"{self.settings['max_age_yr'] / 1e6:.3g} Myr searched, last {pc['median'] / 1e6:.2f} Myr ago "
                      f"(68%: {pc['lo68'] / 1e6:.2f}-{pc['hi68'] / 1e6:.2f} Myr).")
         else:
@@ -249,6 +249,16 @@ class TraceResult(ResultDisplay):
         from .products import write_products
 
         return write_products(self, out_dir)
+
+
+def _share(f):
+    """A share of the draws as a percentage that neither rounds a few draws to '0%' nor 99.9% to '100%'."""
+    pc = 100.0 * f
+    if 0 < pc < 1:
+        return f"{pc:.2g}%"
+    if 99 < pc < 100:
+        return f"{np.floor(pc * 10) / 10:.1f}%"
+    return f"{pc:.0f}%"
 
 
 def _num(x):

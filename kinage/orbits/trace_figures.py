@@ -77,102 +77,273 @@ def _lb(frame, pos, t):
     return lon, lat
 
 
-def _graticule(ax, lon0, lat0, half):
+def _graticule(ax, lon0, lat0, half, label_plane=True):
+    """Lines of constant l and b, labelled inside the frame; returns whether the Galactic plane is in view."""
     step = 1 if half < 4 else 2 if half < 8 else 5 if half < 20 else 10 if half < 45 else 30
     span = min(180.0, 2.5 * half / max(np.cos(np.radians(min(abs(lat0) + half, 85))), 0.05))
     lons = np.arange(np.floor((lon0 - span) / step) * step, lon0 + span + step, step)
     lats = np.arange(max(-90, np.floor((lat0 - 2 * half) / step) * step), min(90, lat0 + 2 * half) + step, step)
-    fine_b = np.linspace(max(-90, lat0 - 2 * half), min(90, lat0 + 2 * half), 200)
+    lats = lats[np.abs(lats) < 90]  # the poles are points, not lines
+    fine_b = np.linspace(max(-89.9, lat0 - 2 * half), min(89.9, lat0 + 2 * half), 200)
     fine_l = np.linspace(lon0 - span, lon0 + span, 400)
     for lo in lons:
         x, y = sky_offsets(np.full_like(fine_b, lo), fine_b, lon0, lat0)
         ax.plot(x, y, color="0.85", lw=0.5, zorder=0)
+    plane_visible = False
     for la in lats:
         x, y = sky_offsets(fine_l, np.full_like(fine_l, la), lon0, lat0)
-        ax.plot(x, y, color="0.55" if la == 0 else "0.85", lw=0.9 if la == 0 else 0.5, zorder=0,
-                ls="--" if la == 0 else "-", label="Galactic plane b = 0" if la == 0 else None)
         inside = np.flatnonzero((np.abs(x) < half) & (np.abs(y) < half))
+        plane = la == 0 and inside.size > 0
+        plane_visible = plane_visible or plane
+        ax.plot(x, y, color="0.55" if la == 0 else "0.85", lw=0.9 if la == 0 else 0.5, zorder=0,
+                ls="--" if la == 0 else "-", label="Galactic plane b = 0" if plane and label_plane else None)
         if inside.size and la % (2 * step) == 0:
             i = inside[0]
             ax.text(x[i], y[i], f"b={la:g}°", fontsize=5, color="0.45", va="bottom", ha="right", clip_on=True)
+    used = []  # label positions taken: meridians meet near the poles, where labels would pile up
     for lo in lons[:: 2]:
         x, y = sky_offsets(np.full_like(fine_b, lo), fine_b, lon0, lat0)
-        inside = np.flatnonzero((np.abs(x) < half) & (np.abs(y) < half))
+        inside = np.flatnonzero((np.abs(x) < 0.95 * half) & (np.abs(y) < 0.95 * half))
         if inside.size:
             i = inside[0]
-            ax.text(x[i], y[i], f"l={lo % 360:g}°", fontsize=5, color="0.45", va="bottom", ha="left", clip_on=True)
+            if all(np.hypot(x[i] - u, y[i] - v) > 0.12 * half for u, v in used):
+                used.append((x[i], y[i]))
+                ax.text(x[i], y[i], f"l={lo % 360:g}°", fontsize=5, color="0.45", va="bottom", ha="left",
+                        clip_on=True)
+    return plane_visible
+
+
+#: beyond this half-width (deg) the map is drawn in plain Galactic coordinates (an all-sky view)
+_WIDE_DEG = 60.0
+
+
+def _wrap(lon, lon0):
+    """Longitude offset from lon0 in (-180, 180] deg, with NaN where a track wraps around."""
+    x = (np.asarray(lon, float) - lon0 + 180.0) % 360.0 - 180.0
+    if x.size > 1:
+        jump = np.flatnonzero(np.abs(np.diff(x)) > 180.0)
+        if jump.size:
+            x = np.insert(x, jump + 1, np.nan)
+            return x, jump + 1
+    return x, None
+
+
+def _project(lon, lat, lon0, lat0, wide):
+    if not wide:
+        return sky_offsets(lon, lat, lon0, lat0)
+    x, cut = _wrap(lon, lon0)
+    y = np.asarray(lat, float)
+    if cut is not None:
+        y = np.insert(y, cut, np.nan)
+    return x, y
+
+
+def _angular_radius_deg(frame, pos_kpc, radius_pc):
+    d_pc = float(np.linalg.norm(frame.to_heliocentric_icrs(pos_kpc))) * 1000.0
+    return float(np.degrees(np.arctan2(radius_pc, max(d_pc, 1e-9))))
+
+
+def _sky_data(result, n_tracks, n_assoc_tracks):
+    """Everything the sky map draws, in (l, b) degrees: star tracks, associations (coloured and grey)."""
+    d = result.data
+    frame, assoc, ct = d["frame"], d["assoc"], d["assoc"].times
+    t_show = sky_window_myr(result)
+    keep = np.flatnonzero(ct >= -t_show - 1e-9)
+    tracks = d["main"]["tracks"]
+    if tracks is None or not len(tracks):
+        return None
+    tracks = tracks[:, keep]
+    ct = ct[keep]
+    lon_now, lat_now = _lb(frame, tracks[:, 0], ct[0])
+    shown = legend_associations(result)
+    shown_names = {s["name"] for s, _ in shown}
+    assocs = {}
+    for j, name in enumerate(d["adraws"].names):
+        rows = d["adraws"].rows(j)
+        centre = assoc.pos[rows][:, keep].mean(axis=0)  # mean of the draws: the association's own track
+        n = n_assoc_tracks if name in shown_names else 3
+        assocs[name] = {"centre": _lb(frame, centre, ct), "pos0": centre[0],
+                        "tracks": [_lb(frame, assoc.pos[r][keep], ct) for r in rows[:n]]}
+    return {"t_show": t_show, "lon0": float(np.median(lon_now)), "lat0": float(np.median(lat_now)),
+            "star": [_lb(frame, tr, ct) for tr in tracks[:n_tracks]], "shown": shown, "assocs": assocs,
+            "frame": frame}
+
+
+def _median_track(xy):
+    """Median over tracks, time by time, of projected (x, y) tracks of equal length."""
+    x = np.nanmedian(np.stack([a for a, _ in xy]), axis=0)
+    y = np.nanmedian(np.stack([b for _, b in xy]), axis=0)
+    return x, y
+
+
+def _sky_half(sd, names, percentile=99):
+    """Half-width (deg) that holds ``percentile``% of the star's track points and of the named associations'."""
+    lon0, lat0 = sd["lon0"], sd["lat0"]
+    ext = [sky_offsets(lo, la, lon0, lat0) for lo, la in sd["star"]]
+    ext += [sky_offsets(lo, la, lon0, lat0) for n in names for lo, la in sd["assocs"][n]["tracks"]]
+    x = np.concatenate([a for a, _ in ext])
+    y = np.concatenate([b for _, b in ext])
+    ok = np.isfinite(x) & np.isfinite(y)
+    return 1.15 * max(np.percentile(np.abs(x[ok]), percentile), np.percentile(np.abs(y[ok]), percentile), 1e-3)
+
+
+def _draw_sky(ax, sd, result, half, wide, legend_labels=True):
+    """Draw the map into ``ax``; returns the number of candidates outside it."""
+    lon0, lat0 = sd["lon0"], sd["lat0"]
+    lab = (lambda t: t) if legend_labels else (lambda t: None)
+
+    def proj(lb):
+        return _project(lb[0], lb[1], lon0, lat0, wide)
+
+    if wide:
+        xlim, ylim = (180.0, -180.0), (-90.0, 90.0)
+    else:
+        xlim, ylim = (half, -half), (-half, half)
+
+    def in_view(x, y):
+        return min(xlim) < x < max(xlim) and min(ylim) < y < max(ylim)
+
+    ax.grid(False)  # the graticule is the grid
+    for i, lb in enumerate(sd["star"]):
+        x, y = proj(lb)
+        ax.plot(x, y, color=STAR_COLOR, lw=0.4, alpha=0.25, label=lab("star: Monte Carlo tracks") if i == 0 else None)
+    if wide:
+        # longitude offsets about the star without wrap breaks, so every track has the same length
+        mx, my = _median_track([((np.asarray(lo) - lon0 + 180.0) % 360.0 - 180.0, np.asarray(la))
+                                for lo, la in sd["star"]])
+        mx, my = _project(mx + lon0, my, lon0, lat0, True)
+    else:
+        mx, my = _median_track([proj(lb) for lb in sd["star"]])
+    ax.plot(mx, my, color=STAR_COLOR, lw=1.6, label=lab("star: median of the tracks"))
+    _time_arrows(ax, mx, my, STAR_COLOR)
+    ax.plot([0], [lat0 if wide else 0], marker="*", ms=11 if legend_labels else 8, color=STAR_COLOR, mec="k",
+            mew=0.5, ls="none", zorder=6, label=lab(f"{result.star_name} today"))
+    shown = sd["shown"]
+    shown_names = [s_["name"] for s_, _ in shown]
+    n_out, first_grey = 0, True
+    for name, e in sd["assocs"].items():
+        if name in shown_names:
+            continue
+        for lb in e["tracks"]:
+            x, y = proj(lb)
+            ax.plot(x, y, color=OTHER_COLOR, lw=0.5, alpha=0.6)
+        x, y = proj(e["centre"])
+        if in_view(x[0], y[0]):
+            ax.plot([x[0]], [y[0]], marker="o", ms=3.5, mfc="white", mec=OTHER_COLOR, mew=0.8, ls="none", zorder=3,
+                    label=lab("other candidates (≤ 1% probability), today") if first_grey else None)
+            ax.annotate(name, (x[0], y[0]), xytext=(3, 3), textcoords="offset points", fontsize=5.5,
+                        color="0.4", annotation_clip=True)
+            first_grey = False
+        else:
+            n_out += 1
+    for s_, col in reversed(shown):  # the favoured one drawn last, on top
+        e = sd["assocs"][s_["name"]]
+        fav = s_["name"] == result.favoured
+        for k, lb in enumerate(e["tracks"]):
+            x, y = proj(lb)
+            ax.plot(x, y, color=col, lw=1.1 if fav else 0.7, alpha=0.8 if fav else 0.6,
+                    label=lab(_label(s_, result.favoured)) if k == 0 else None, zorder=3 if fav else 2)
+        x, y = proj(e["centre"])
+        _time_arrows(ax, x, y, col)
+        ax.plot([x[0]], [y[0]], marker="o", ms=6 if fav else 4.5, color=col, mec="k", mew=0.5, zorder=5)
+        rad = _angular_radius_deg(sd["frame"], e["pos0"], s_["radius_pc"])
+        phi = np.linspace(0, 2 * np.pi, 120)
+        stretch = 1.0 / max(np.cos(np.radians(y[0])), 0.05) if wide else 1.0
+        ax.plot(x[0] + rad * stretch * np.cos(phi), y[0] + rad * np.sin(phi), color=col, lw=0.7, ls="--", zorder=4)
+        if in_view(x[0], y[0]):
+            ax.annotate(s_["name"], (x[0], y[0]), xytext=(4, -9), textcoords="offset points", fontsize=6,
+                        color=col, fontweight="bold" if fav else None, annotation_clip=True)
+        else:
+            n_out += 1
+    if shown and legend_labels:
+        ax.plot([], [], color="0.3", lw=0.7, ls="--", label="association radius, today")
+    if wide:
+        ax.axhline(0.0, color="0.55", lw=0.9, ls="--", zorder=0, label=lab("Galactic plane b = 0"))
+        ticks = np.sort((np.arange(0, 360, 60) - lon0 + 180.0) % 360.0 - 180.0)  # at round longitudes
+        ax.set_xticks(ticks)
+        ax.set_xticklabels([f"{(lon0 + t) % 360:.0f}°" for t in ticks])
+        ax.set_yticks(np.arange(-90, 91, 30))
+        ax.set_yticklabels([f"{t:+.0f}°" if t else "0°" for t in np.arange(-90, 91, 30)])
+        ax.grid(True, lw=0.4, alpha=0.4)
+    else:
+        _graticule(ax, lon0, lat0, half, label_plane=legend_labels)
+    ax.set_xlim(*xlim)  # longitude grows to the left, as on the sky
+    ax.set_ylim(*ylim)
+    ax.set_aspect("equal")
+    return n_out
+
+
+def _emptiest_corner(sd, half, size=0.37):
+    """Inset bounds (axes fraction) in the corner holding the fewest drawn points (association centres weigh most)."""
+    lon0, lat0 = sd["lon0"], sd["lat0"]
+    pts = [sky_offsets(lo, la, lon0, lat0) for lo, la in sd["star"][::5]]
+    pts += [sky_offsets(e["centre"][0][:1], e["centre"][1][:1], lon0, lat0) for e in sd["assocs"].values()] * 20
+    x = np.concatenate([a for a, _ in pts])
+    y = np.concatenate([b for _, b in pts])
+    # axes fraction: x runs from +half (left) to -half (right)
+    fx, fy = (half - x) / (2 * half), (y + half) / (2 * half)
+    corners = ([1 - size - 0.02, 0.03], [0.02, 0.03], [1 - size - 0.02, 1 - size - 0.07], [0.02, 1 - size - 0.07])
+    counts = [np.sum((fx > cx) & (fx < cx + size) & (fy > cy) & (fy < cy + size)) for cx, cy in corners]
+    cx, cy = corners[int(np.argmin(counts))]
+    return [cx, cy, size, size]
 
 
 def plot_sky(result, ax=None, n_tracks=60, n_assoc_tracks=12):
     """Past tracks of star and association draws on the sky (Galactic, azimuthal equidistant about the star).
 
+    Every candidate association is marked at its present position and named; those in colour (the
+    favoured one in vermilion, ranked first in the legend, then every one above 1% probability) also
+    get their angular radius as a dashed circle.  When the tracks span more than 60 deg from the star
+    the map switches to plain Galactic longitude and latitude (an all-sky view, l growing to the left);
+    when the star's own tracks fill less than a fifth of the map, an inset zooms onto them.
+
     Returns
     -------
     matplotlib.figure.Figure
     """
-    d = result.data
-    frame, assoc, ct = d["frame"], d["assoc"], d["assoc"].times
-    t_show = sky_window_myr(result)
-    keep = np.flatnonzero(ct >= -t_show - 1e-9)
+    new = ax is None
     fig, ax = figure_for(ax, width="page", aspect=0.62)
-    tracks = d["main"]["tracks"]
-    if tracks is not None:
-        tracks = tracks[:, keep]
-    ct = ct[keep]
-    lon_now, lat_now = (_lb(frame, tracks[:, 0], ct[0]) if tracks is not None and len(tracks) else (None, None))
-    if lon_now is None:
+    sd = _sky_data(result, n_tracks, n_assoc_tracks)
+    if sd is None:
         ax.text(0.5, 0.5, "no tracks kept", transform=ax.transAxes, ha="center")
         return fig
-    lon0, lat0 = float(np.median(lon_now)), float(np.median(lat_now))
-    # centre on the star's present position: unwrap longitudes about it
-    xs, ys = [], []
-    for i, tr in enumerate(tracks[:n_tracks]):
-        x, y = sky_offsets(*_lb(frame, tr, ct), lon0, lat0)
-        ax.plot(x, y, color=STAR_COLOR, lw=0.4, alpha=0.25, label="star: Monte Carlo tracks" if i == 0 else None)
-        xs.append(x)
-        ys.append(y)
-    med = np.median(np.stack([tr for tr in tracks[:n_tracks]]), axis=0)
-    mx, my = sky_offsets(*_lb(frame, med, ct), lon0, lat0)
-    ax.plot(mx, my, color=STAR_COLOR, lw=1.6, label="star: median track")
-    _time_arrows(ax, mx, my, STAR_COLOR)
-    ax.plot([0], [0], marker="*", ms=11, color=STAR_COLOR, mec="k", mew=0.5, ls="none", zorder=5,
-            label=f"{result.star_name} today")
-    shown = legend_associations(result)
-    shown_names = {s["name"] for s, _ in shown}
-    other_label = True
-    for j, name in enumerate(d["adraws"].names):
-        if name in shown_names:
-            continue
-        rows = d["adraws"].rows(j)[:3]
-        for r in rows:
-            x, y = sky_offsets(*_lb(frame, assoc.pos[r][keep], ct), lon0, lat0)
-            ax.plot(x, y, color=OTHER_COLOR, lw=0.4, alpha=0.5,
-                    label="other associations (< 1% probability)" if other_label else None)
-            other_label = False
-    for s, col in reversed(shown):
-        j = d["index"][s["name"]] if s["name"] in d["index"] else d["adraws"].names.index(s["name"])
-        fav = s["name"] == result.favoured
-        for k, r in enumerate(d["adraws"].rows(j)[:n_assoc_tracks]):
-            x, y = sky_offsets(*_lb(frame, assoc.pos[r][keep], ct), lon0, lat0)
-            ax.plot(x, y, color=col, lw=1.1 if fav else 0.7, alpha=0.8 if fav else 0.6,
-                    label=_label(s, result.favoured) if k == 0 else None, zorder=3 if fav else 2)
-            xs.append(x)
-            ys.append(y)
-            if k == 0:
-                ax.plot([x[0]], [y[0]], marker="o", ms=6 if fav else 4.5, color=col, mec="k", mew=0.5, zorder=4)
-                _time_arrows(ax, x, y, col)
-    x_all, y_all = np.concatenate(xs), np.concatenate(ys)
-    ok = np.isfinite(x_all) & np.isfinite(y_all)
-    half = 1.15 * max(np.percentile(np.abs(x_all[ok]), 99), np.percentile(np.abs(y_all[ok]), 99), 1.0)
-    _graticule(ax, lon0, lat0, half)
-    ax.set_xlim(half, -half)  # longitude grows to the left, as on the sky
-    ax.set_ylim(-half, half)
-    ax.set_aspect("equal")
-    ax.set_xlabel(f"offset along Galactic longitude (deg; l increases to the left) from l = {lon0:.1f}°")
-    ax.set_ylabel(f"offset along Galactic latitude (deg) from b = {lat0:+.1f}°")
-    ax.set_title(f"Past tracks over the last {t_show:.2g} Myr (co-rotating frame)\n"
+    half = _sky_half(sd, [s_["name"] for s_, _ in sd["shown"]])
+    wide = half > _WIDE_DEG
+    n_out = _draw_sky(ax, sd, result, half, wide)
+    if wide:
+        if new:
+            fig.set_size_inches(fig.get_figwidth(), fig.get_figwidth() * 0.45)
+        ax.set_xlabel("Galactic longitude l (increasing to the left)")
+        ax.set_ylabel("Galactic latitude b")
+    else:
+        ax.set_xlabel(f"offset along Galactic longitude (deg; l increases to the left) from l = {sd['lon0']:.1f}°")
+        ax.set_ylabel(f"offset along Galactic latitude (deg) from b = {sd['lat0']:+.1f}°")
+    # the bulk of the star's tracks (and the favoured association's): 90% of their points
+    zoom_half = max(_sky_half(sd, [s_["name"] for s_, _ in sd["shown"][:1]] if result.favoured else [], 90), 0.05)
+    if not wide and zoom_half < 0.25 * half:
+        inset = ax.inset_axes(_emptiest_corner(sd, half), zorder=7)
+        _draw_sky(inset, sd, result, zoom_half, False, legend_labels=False)
+        inset.set_facecolor("white")
+        inset.tick_params(labelbottom=False, labelleft=False, length=0)
+        inset.set_title(f"zoom: ±{zoom_half:.2g}° about the star", fontsize=6, pad=2)
+        for side in inset.spines.values():
+            side.set_edgecolor("0.3")
+        ax.indicate_inset_zoom(inset, edgecolor="0.4", lw=0.6)
+    if n_out:
+        ax.plot([], [], ls="none", label=f"{n_out} candidate{'s' if n_out > 1 else ''} outside the map")
+    fav_txt = f"favoured: {result.favoured}" if result.favoured else "no association favoured"
+    ax.set_title(f"Past tracks over the last {sd['t_show']:.2g} Myr (co-rotating frame); {fav_txt}\n"
                  "star and circles: positions today; arrows point into the past", fontsize=7.5)
-    ax.legend(loc="upper left", bbox_to_anchor=(1.01, 1.0), fontsize=6)
+    handles, labels = ax.get_legend_handles_labels()
+    shown = sd["shown"]
+    order = {_label(s_, result.favoured): i for i, (s_, _) in enumerate(shown)}  # favoured first, then by rank
+    coloured_idx = [i for i, lab in enumerate(labels) if lab in order]
+    others = [i for i, lab in enumerate(labels) if lab not in order]
+    pos = coloured_idx[0] if coloured_idx else len(labels)
+    idx = ([i for i in others if i < pos] + sorted(coloured_idx, key=lambda i: order[labels[i]])
+           + [i for i in others if i > pos])
+    ax.legend([handles[i] for i in idx], [labels[i] for i in idx], loc="upper left", bbox_to_anchor=(1.01, 1.0),
+              fontsize=6)
     return fig
 
 
@@ -211,15 +382,37 @@ def _assoc_arrays(result, s):
     return (d["main"]["dmin"][j].astype(float), d["main"]["tau"][j].astype(float), d["masks"][s["name"]], j)
 
 
+def _title(result, s):
+    """Two lines: the name, then 'birth probability 58 ± 4%, favoured' (or '..., none favoured')."""
+    p = s.get("probability")
+    second = []
+    if p is not None:
+        err = s.get("probability_error")
+        if p < 0.01:
+            second.append("birth probability < 1%")
+        elif err:
+            second.append(f"birth probability {100 * p:.0f} ± {max(100 * err, 1):.0f}%")
+        else:
+            second.append(f"birth probability {100 * p:.0f}%")
+    if s["name"] == result.favoured:
+        second.append("favoured")
+    elif result.favoured is None and result.associations and s["name"] == result.associations[0]["name"]:
+        second.append("the most probable candidate; none favoured")
+    return s["name"] + ("\n" + ", ".join(second) if second else "")
+
+
 def plot_dmin_tau(result, name=None, ax=None):
     """Closest approach d_min against its time tau for every draw, within the integration window."""
+    from ..report.style import plain_log_ticks
+
     s = _pick(result, name)
     dm, tau, mask, _ = _assoc_arrays(result, s)
     fig, ax = figure_for(ax)
     max_myr = result.settings["max_age_yr"] / 1e6
-    ax.scatter(tau[~mask], np.maximum(dm[~mask], 1e-2), s=2, color=STAR_COLOR, alpha=0.25, label="draws",
+    ax.scatter(tau[~mask], np.maximum(dm[~mask], 1e-2), s=2, color=STAR_COLOR, alpha=0.25, label="star draws",
                rasterized=True)
-    ax.scatter(tau[mask], np.maximum(dm[mask], 1e-2), s=3, color=FAVOURED_COLOR, label="encounters")
+    ax.scatter(tau[mask], np.maximum(dm[mask], 1e-2), s=3, color=FAVOURED_COLOR,
+               label=f"encounters ({int(mask.sum())} of {mask.size})")
     ax.axhline(s["radius_pc"] * result.settings["encounter_radius_factor"], color="k", ls="--", lw=0.8,
                label="radius criterion")
     lim = s["age_myr"] + result.settings["age_tolerance_yr"] / 1e6
@@ -227,9 +420,10 @@ def plot_dmin_tau(result, name=None, ax=None):
         ax.axvline(lim, color="0.4", ls=":", lw=0.8, label="association age + tolerance")
     ax.set_xlim(0, max_myr)
     ax.set_yscale("log")
-    ax.set_xlabel("time of closest approach tau (Myr ago)")
-    ax.set_ylabel("closest approach d_min (pc)")
-    ax.set_title(s["name"])
+    plain_log_ticks(ax.yaxis)
+    ax.set_xlabel(r"time of closest approach $\tau$ (Myr ago)")
+    ax.set_ylabel(r"closest approach $d_\mathrm{min}$ (pc)")
+    ax.set_title(_title(result, s), fontsize=7.5)
     ax.legend(loc="lower right")
     return fig
 
@@ -238,8 +432,13 @@ def plot_dmin_control(result, name=None, ax=None):
     """d_min of the star draws against the control draws, with the common-origin curve.
 
     The curve is Hoogerwerf, de Bruijne & de Zeeuw 2001 (A&A 365, 49),
-    Appendix A, eq. A4 with the maximum-likelihood sigma of the draws,
-    scaled to the fraction of draws below the plotted range.
+    Appendix A, eq. A4 with the maximum-likelihood sigma of the draws; the
+    histograms are fractions of all draws per pc, so the area beyond the
+    plotted range is what is missing from them.  The range reaches 20 times
+    the radius criterion at most when there are encounters (they are the
+    signal), else the 90th percentile of the star draws.  Without encounters
+    the common-origin curve is not drawn: a sigma fitted to draws that never
+    come near is no test of a common origin.
     """
     s = _pick(result, name)
     dm, _, _, j = _assoc_arrays(result, s)
@@ -251,7 +450,8 @@ def plot_dmin_control(result, name=None, ax=None):
         cd = np.asarray(ctrl["dmin"][j], float)
         cd = cd[np.isfinite(cd)]
     radius = s["radius_pc"] * result.settings["encounter_radius_factor"]
-    top = max(np.percentile(dm, 90) if dm.size else 1.0, 4 * radius)
+    p90 = np.percentile(dm, 90) if dm.size else 1.0
+    top = max(min(p90, 20 * radius) if s.get("n_encounters") else p90, 4 * radius)
     bins = np.linspace(0, top, 41)
     w = np.diff(bins)[0]
     ax.hist(dm, bins=bins, density=False, weights=np.full(dm.size, 1.0 / max(dm.size, 1) / w), color=STAR_COLOR,
@@ -260,15 +460,22 @@ def plot_dmin_control(result, name=None, ax=None):
         ax.hist(cd, bins=bins, weights=np.full(cd.size, 1.0 / cd.size / w), histtype="step", color="k", lw=1.0,
                 label="control draws (direction randomised)")
     sig = (s.get("common_origin") or {}).get("sigma_pc")
-    if sig:
+    if sig and s.get("n_encounters"):
+        from ..report.numbers import fmt_power
+
         x = np.linspace(0, top, 300)
         ax.plot(x, separation_pdf(x, sig), color=FAVOURED_COLOR, lw=1.3,
-                label=f"common origin (Hoogerwerf et al. 2001, A4; sigma {sig:.2g} pc)")
+                label=f"common origin, σ = {fmt_power(sig)} pc (Hoogerwerf et al. 2001, eq. A4)")
     ax.axvline(radius, color="0.3", ls="--", lw=0.8, label="radius criterion")
+    beyond = float(np.mean(dm > top)) if dm.size else 0.0
+    if beyond > 0.005:
+        ax.plot([], [], ls="none", label=f"({100 * beyond:.0f}% of the star draws lie beyond {top:.0f} pc)")
     ax.set_xlim(0, top)
-    ax.set_xlabel(f"closest approach to {s['name']} d_min (pc)")
+    ax.set_xlabel(rf"closest approach to {s['name']}, $d_\mathrm{{min}}$ (pc)")
     ax.set_ylabel("fraction of draws per pc")
-    ax.legend(loc="lower left", bbox_to_anchor=(0.0, 1.01), fontsize=6)
+    leg = ax.legend(loc="lower left", bbox_to_anchor=(0.0, 1.01), fontsize=6, title=_title(result, s),
+                    title_fontsize=6.5, alignment="left")
+    leg.get_title().set_multialignment("left")
     return fig
 
 
@@ -280,15 +487,23 @@ def plot_tau_hist(result, name=None, ax=None):
     valid = np.isfinite(tau)
     bins = np.linspace(0, result.settings["max_age_yr"] / 1e6, 41)
     if valid.any():
-        ax.hist(tau[valid], bins=bins, color=STAR_COLOR, alpha=0.35, label="all draws")
+        ax.hist(tau[valid], bins=bins, color=STAR_COLOR, alpha=0.35, label="all star draws")
         if mask.any():
-            ax.hist(tau[mask], bins=bins, color=FAVOURED_COLOR, label="encounters")
+            ax.hist(tau[mask], bins=bins, color=FAVOURED_COLOR, label=f"encounters ({s['n_encounters']})")
     ax.set_xlim(bins[0], bins[-1])
-    ax.set_xlabel("time of closest approach tau (Myr ago)")
+    ax.set_xlabel(r"time of closest approach $\tau$ (Myr ago)")
     ax.set_ylabel("number of draws")
-    ax.set_title(f"{s['name']}: {s['n_encounters']} encounters")
+    ax.set_title(_title(result, s), fontsize=7.5)
     ax.legend(loc="upper right")
     return fig
+
+
+def _share_text(n, total):
+    """'86% of draws' or, below 1% and above 99%, the counts themselves ('1 of 1500 draws')."""
+    f = n / total if total else 0.0
+    if 0 < f < 0.01 or 0.99 < f < 1:
+        return f"{n} of {total} draws"
+    return f"{100 * f:.0f}% of draws"
 
 
 def plot_plane_crossing(result, ax=None):
@@ -300,7 +515,7 @@ def plot_plane_crossing(result, ax=None):
     bins = np.linspace(0, max_myr, 41)
     if ok.any():
         ax.hist(x[ok], bins=bins, color=PALETTE[2], alpha=0.7,
-                label=f"{100 * ok.mean():.0f}% of draws crossed z = 0 within {max_myr:g} Myr")
+                label=f"{_share_text(int(ok.sum()), ok.size)} crossed z = 0 within {max_myr:g} Myr")
     best = result.best() if result.favoured else None
     if best is not None and best["age_yr"].get("median") is not None:
         a = best["age_yr"]
@@ -309,6 +524,12 @@ def plot_plane_crossing(result, ax=None):
     ax.set_xlim(0, max_myr)
     ax.set_xlabel("time since the last Galactic mid-plane crossing (Myr ago)")
     ax.set_ylabel("number of draws")
+    from matplotlib.ticker import MaxNLocator
+
+    ax.yaxis.set_major_locator(MaxNLocator(integer=True))  # counts are whole
+    if ok.any() and ok.mean() < 0.5:
+        ax.text(0.5, 0.6, f"most draws did not cross the plane within {max_myr:g} Myr:\nno age estimate",
+                ha="center", va="center", transform=ax.transAxes, fontsize=6.5, color="0.3")
     if not ok.any():
         ax.text(0.5, 0.5, f"no draw crossed z = 0 within {max_myr:g} Myr", ha="center", va="center",
                 transform=ax.transAxes)
@@ -321,37 +542,68 @@ def _helio_galactic_pc(frame, pos_kpc):
     return (frame.to_heliocentric_icrs(pos_kpc) @ _ICRS_TO_GALACTIC.T) * 1000.0
 
 
+def _at_time(pos, times, t_myr):
+    """Positions at ``t_myr`` (<= 0) interpolated linearly between the grid's output times, (..., 3).
+
+    Between output times 0.1-0.5 Myr apart a Galactic orbit departs from a straight chord by
+    L^2 / (8 R) ~ 0.1 pc (L ~ 100 pc travelled, R ~ 8 kpc), far below association radii.
+    """
+    order = np.argsort(times)
+    t = np.asarray(times, float)[order]
+    k = int(np.clip(np.searchsorted(t, t_myr), 1, t.size - 1))
+    w = (t_myr - t[k - 1]) / (t[k] - t[k - 1])
+    a, b = pos[..., order[k - 1], :], pos[..., order[k], :]
+    return a + w * (b - a)
+
+
 def plot_birth_xyz(result, name=None, fig=None):
-    """Positions of star and association draws at the birth time, Galactic X-Y and X-Z."""
+    """Positions of star and association draws at the birth time, Galactic X-Y and X-Z.
+
+    The time is the association's median encounter time (the kinematic age), or the median
+    closest-approach time when no draw met it; positions are interpolated to that time.  The view
+    centres on the association, out to several times its radius and its draws' spread: star draws
+    far away (a poorly known distance puts some kiloparsecs off) are counted, not drawn.
+    """
     s = _pick(result, name)
     d = result.data
     frame, assoc, ct = d["frame"], d["assoc"], d["assoc"].times
     j = d["index"][s["name"]]
-    t_b = (s["age_yr"]["median"] or s["tau_all_yr"]["median"] or 0.0) / 1e6  # Myr
-    k = int(np.argmin(np.abs(ct + t_b)))
+    enc = s["age_yr"]["median"]
+    t_b = (enc or s["tau_all_yr"]["median"] or 0.0) / 1e6  # Myr
     if fig is None:
         fig, axes = new_figure(2, 1, width="page", aspect=0.42)
     else:
         axes = fig.subplots(1, 2)
     tracks = d["main"]["tracks"]
     rows = d["adraws"].rows(j)
-    apos = _helio_galactic_pc(frame, frame.corotating(assoc.pos[rows, k], ct[k]))
-    spos = (_helio_galactic_pc(frame, frame.corotating(tracks[:, k], ct[k])) if tracks is not None
+    apos = _helio_galactic_pc(frame, frame.corotating(_at_time(assoc.pos[rows], ct, -t_b), -t_b))
+    spos = (_helio_galactic_pc(frame, frame.corotating(_at_time(tracks, ct, -t_b), -t_b)) if tracks is not None
             else np.empty((0, 3)))
     col = FAVOURED_COLOR if s["name"] == result.favoured else PALETTE[1]
+    r = s["radius_pc"] * result.settings["encounter_radius_factor"]
+    c = apos.mean(axis=0)
+    spread = np.percentile(np.abs(apos - c), 98, axis=0) if len(apos) else np.zeros(3)
     for ax, (a, b, la, lb) in zip(axes, ((0, 1, "X (pc, towards the Galactic centre)", "Y (pc, rotation)"),
                                          (0, 2, "X (pc, towards the Galactic centre)", "Z (pc, north)"))):
-        ax.scatter(spos[:, a], spos[:, b], s=3, color=STAR_COLOR, alpha=0.4, label="star draws", rasterized=True)
+        half = max(6.0 * r, 1.3 * max(spread[a], spread[b]))
+        inside = (np.abs(spos[:, a] - c[a]) < half) & (np.abs(spos[:, b] - c[b]) < half)
+        n_out = int(np.sum(~inside))
+        ax.scatter(spos[inside, a], spos[inside, b], s=3, color=STAR_COLOR, alpha=0.4, rasterized=True,
+                   label="star draws" + (f" ({n_out} of {len(spos)} outside the view)" if n_out else ""))
         ax.scatter(apos[:, a], apos[:, b], s=3, color=col, alpha=0.6, label=f"{s['name']} draws")
-        c = apos.mean(axis=0)
-        r = s["radius_pc"] * result.settings["encounter_radius_factor"]
         phi = np.linspace(0, 2 * np.pi, 100)
         ax.plot(c[a] + r * np.cos(phi), c[b] + r * np.sin(phi), color="k", lw=0.8, label="radius criterion")
+        ax.set_xlim(c[a] - half, c[a] + half)
+        ax.set_ylim(c[b] - half, c[b] + half)
+        ax.set_aspect("equal", adjustable="box")
         ax.set_xlabel(la)
         ax.set_ylabel(lb)
-        ax.set_aspect("equal", adjustable="datalim")
-    axes[0].legend(loc="best")
-    fig.suptitle(f"Positions {-ct[k]:.2f} Myr ago (co-rotating frame, Sun at the origin today)")
+        ax.legend(loc="upper left", fontsize=6)
+    if enc:
+        when = f"the kinematic age from {s['name']}" + ("" if s["name"] == result.favoured else " (not favoured)")
+    else:
+        when = f"the median closest approach to {s['name']} (no encounter: not a birth time)"
+    fig.suptitle(f"Positions {t_b:.2f} Myr ago, {when}; co-rotating frame, Sun at the origin today", fontsize=7.5)
     return fig
 
 

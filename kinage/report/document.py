@@ -76,6 +76,24 @@ def _caption(fig):
     return CAPTIONS.get(Path(fig).stem, Path(fig).stem.replace("_", " "))
 
 
+#: trace figures about one association: with none favoured they show the most probable candidate
+_ONE_ASSOCIATION = ("trace_dmin_tau", "trace_dmin_control", "trace_tau_hist", "trace_birth_xyz")
+
+
+def _stage_caption(stage, fig, data):
+    """The figure's caption, saying which association a per-association trace figure shows when none is favoured."""
+    text = _caption(fig)
+    stem = Path(fig).stem
+    if stage == "trace" and not data.get("favoured") and data.get("associations"):
+        name = data["associations"][0].get("name")
+        if stem in _ONE_ASSOCIATION:
+            text += f" No association is favoured: shown is the most probable candidate, {name}."
+        if stem == "trace_birth_xyz":
+            text += (" The time shown is the star's median encounter (or closest-approach) time with it, not an "
+                     "established birth time.")
+    return text
+
+
 def _answers(run):
     out = []
     for question, stages, table in QUESTIONS:
@@ -104,19 +122,23 @@ def _param_refs(result):
     return [p.summary() for p in getattr(result, "parameter_sets", []) or []]
 
 
-def _figure_rows(stage, stem, data, raw):
+def _figure_rows(stage, stem, data, raw, expected_parallax=None):
     """The numbers a figure shows: (header or None, rows)."""
     if stage == "trace":
         best = next((a for a in data.get("associations") or [] if a.get("name") == data.get("favoured")), None)
         if best is None and data.get("associations"):
             best = data["associations"][0]
         if stem == "trace_sky":
-            header, rows = nb.association_rows(data.get("associations") or [])
+            header, rows = nb.association_rows(data.get("associations") or [],
+                                               field=(data.get("field_probability"),
+                                                      data.get("field_probability_error")),
+                                               favoured=data.get("favoured"))
             return header, rows
         if best is None:
             return None, []
+        shown = best["name"] if data.get("favoured") else f"{best['name']} (most probable candidate; none favoured)"
         if stem == "trace_dmin_tau":
-            return None, [("association", best["name"]),
+            return None, [("association", shown),
                           ("encounter fraction", nb._pct(best.get("encounter_fraction"),
                                                          best.get("encounter_fraction_error"))),
                           ("kinematic age (encounter times)", nb.fmt_age_interval(best.get("age_yr"))),
@@ -124,28 +146,29 @@ def _figure_rows(stage, stem, data, raw):
                           ("association age", f"{best['age_myr']:.3g} Myr")]
         if stem == "trace_dmin_control":
             co = best.get("common_origin") or {}
-            rows = [("encounter fraction, star draws", nb._pct(best.get("encounter_fraction"),
+            rows = [("association", shown),
+                    ("encounter fraction, star draws", nb._pct(best.get("encounter_fraction"),
                                                                 best.get("encounter_fraction_error"))),
                     ("encounter fraction, control draws", nb._pct(best.get("chance_fraction"),
                                                                    best.get("chance_fraction_error")))]
             if best.get("probability") is not None:
                 rows.append(("birth probability", nb._pct(best["probability"], best.get("probability_error"))))
             if co.get("sigma_pc") is not None:
-                rows.append(("common-origin sigma (Hoogerwerf et al. 2001)", f"{co['sigma_pc']:.2g} pc"))
+                rows.append(("common-origin σ (Hoogerwerf et al. 2001)", f"{nb.fmt_power(co['sigma_pc'])} pc"))
             if co.get("ks_statistic") is not None:
                 rows.append(("KS distance from the common-origin curve", f"{co['ks_statistic']:.2f}"))
             return None, rows
         if stem == "trace_plane_crossing":
-            return None, [("time since the last plane crossing", nb.fmt_age_interval(data.get("plane_crossing_age_yr"))),
-                          ("draws that crossed", nb._pct(data.get("plane_crossing_fraction")))]
+            return None, nb.plane_crossing_rows(data)
         if stem == "trace_tau_hist":
-            return None, [("closest-approach time, all draws", nb.fmt_age_interval(best.get("tau_all_yr"))),
+            return None, [("association", shown),
+                          ("closest-approach time, all draws", nb.fmt_age_interval(best.get("tau_all_yr"))),
                           ("kinematic age (encounters)", nb.fmt_age_interval(best.get("age_yr")))]
         return None, []
     if stage == "forecast" and stem == "forecast_baseline":
-        return None, nb.forecast_rows(data)
+        return None, nb.forecast_rows(data, expected_parallax)
     if stage == "fit" and stem == "fit_residuals":
-        return None, nb.fit_rows(data)
+        return None, nb.fit_rows(data, expected_parallax)
     if stage == "ages" and stem == "ages_ladder":
         return None, nb.ages_rows(data, (raw or {}).get("star"))
     if stage == "ages" and stem == "ages_cooling_curves":
@@ -163,6 +186,7 @@ def report_sections(run):
     Shared by the HTML and the Markdown renderers.
     """
     raw = getattr(run.scenario, "raw", {}) or {}
+    plx = nb.expected_parallax_mas(getattr(run.scenario, "star", None))
     out = []
     for question, stages, _ in QUESTIONS:
         stage_list = list(stages) + (["astrometry"] if "fit" in stages or "forecast" in stages else [])
@@ -181,9 +205,10 @@ def report_sections(run):
             blocks = [{"kind": "text", "text": result.summary()}]
             used = False
             for f in _files(run, name, (".png",)):
-                header, rows = _figure_rows(name, Path(f).stem, data, raw)
+                header, rows = _figure_rows(name, Path(f).stem, data, raw, plx)
                 used = used or bool(rows)
-                blocks.append({"kind": "pair", "figure": f, "caption": _caption(f), "header": header, "rows": rows})
+                blocks.append({"kind": "pair", "figure": f, "caption": _stage_caption(name, f, data),
+                               "header": header, "rows": rows})
             if not used:
                 blocks.append({"kind": "rows", "rows": nb.stage_rows(name, data, raw)})
             warn = [str(w) for w in data.get("warnings") or []] if isinstance(data.get("warnings"), list) else []

@@ -65,6 +65,18 @@ def _ellipse(centre, cov, n=200, k=1.0):
     return centre[0] + pts[0], centre[1] + pts[1]
 
 
+def _legend_text(lab, v, s, centre="the imaging value"):
+    """Legend entry: values rounded to their errors; a forecast states its errors only (its centre is borrowed)."""
+    from .numbers import fmt_power, value_error
+
+    if np.max(s) >= _UNCONSTRAINED_MASYR:
+        return f"{lab}: not constrained (errors {fmt_power(np.max(s))} mas/yr, beyond the axes)"
+    if lab.endswith("(forecast)"):
+        return (f"{lab}: errors {fmt_power(s[0])} (ra*cos dec) and {fmt_power(s[1])} (dec) mas/yr, "
+                f"drawn about {centre}")
+    return (f"{lab}: {value_error(v[0], s[0])} (ra*cos dec), {value_error(v[1], s[1])} (dec) mas/yr")
+
+
 def _draw(ax, shown, ref, legend):
     half = 3.0 * max(np.sqrt(np.max(np.diag(c))) for _, _, c in ref)
     cx = np.mean([v[0] for _, v, _ in ref])
@@ -73,9 +85,7 @@ def _draw(ax, shown, ref, legend):
     for lab, v, c in shown:
         col, ls = _STYLE.get(lab.split(" ")[0], ("0.3", "-"))
         s = np.sqrt(np.diag(c))
-        text = f"{lab}: ({v[0]:.5g} ± {s[0]:.2g}, {v[1]:.5g} ± {s[1]:.2g}) mas/yr"
-        if np.max(s) >= _UNCONSTRAINED_MASYR:
-            text = f"{lab}: not constrained (errors {np.max(s):.2g} mas/yr, beyond the axes)"
+        text = _legend_text(lab, v, s, "the imaging value" if any(k == "imaging" for k, _, _ in shown) else "zero")
         x, y = _ellipse(v, c)
         lw = {"timing": 2.6, "combined": 1.0}.get(lab.split(" ")[0], 1.4)  # combined drawn thin over a wide timing
         ax.plot(x, y, color=col, ls=ls, lw=lw, label=text if legend else None)
@@ -85,8 +95,8 @@ def _draw(ax, shown, ref, legend):
     ax.set_xlim(cx - half, cx + half)
     ax.set_ylim(cy - half, cy + half)
     ax.set_aspect("equal")
-    ax.set_xlabel(r"$\mu_{\alpha*}$ = pm_ra_cosdec (mas/yr)")
-    ax.set_ylabel(r"$\mu_\delta$ = pm_dec (mas/yr)")
+    ax.set_xlabel(r"proper motion $\mu_{\alpha*} = \mu_\alpha \cos\delta$ (mas/yr)")
+    ax.set_ylabel(r"proper motion $\mu_\delta$ (mas/yr)")
     ax.ticklabel_format(useOffset=False)
 
 
@@ -121,7 +131,7 @@ def plot_pm_ellipses(items, ax=None):
         ax.text(0.5, 0.5, "no proper-motion errors to show", ha="center", transform=ax.transAxes)
         return fig
     _draw(ax, shown, ref, legend=True)
-    ax.set_title("1 sigma (solid, dashed) and 2 sigma (dotted)", fontsize=7)
+    ax.set_title("1σ (solid, dashed) and 2σ (dotted) error ellipses", fontsize=7)
     if zoom:
         small = [it for it in ref if np.sqrt(np.max(np.diag(it[2]))) <= 20 * min(sizes)]
         _draw(ax2, shown, small, legend=False)

@@ -18,7 +18,7 @@ results table):
 import math
 
 __all__ = ["stage_rows", "fmt", "fmt_interval", "value_error", "fmt_age", "fmt_age_interval", "fmt_duration_s",
-           "round_to_error", "LABELS"]
+           "round_to_error", "fmt_power", "expected_parallax_mas", "LABELS"]
 
 #: words for JSON keys that may reach a table
 LABELS = {
@@ -67,6 +67,37 @@ def _decimals_for(err, sig=None):
     return 1 - (exp + 1)
 
 
+_SUPERSCRIPT = str.maketrans("-0123456789", "⁻⁰¹²³⁴⁵⁶⁷⁸⁹")
+
+
+def _power_of_ten(exp):
+    return "10" + str(int(exp)).translate(_SUPERSCRIPT)
+
+
+def fmt_power(x, digits=2):
+    """``x`` with ``digits`` significant figures as ``'2.8 × 10¹¹'`` (plain between 0.001 and 10^5).
+
+    The printed form of scientific notation (the ``e+11`` of code is not for readers).
+    """
+    if x is None or not math.isfinite(x):
+        return "n/a"
+    if x == 0:
+        return "0"
+    if 1e-3 <= abs(x) < 1e5:
+        return _g(_sig_round(x, digits), digits) if abs(x) < 10 ** digits else f"{_sig_round(x, digits):.0f}"
+    exp = int(math.floor(math.log10(abs(x))))
+    mant = _sig_round(x / 10.0**exp, digits)
+    if abs(mant) >= 10:  # 9.96 -> 10.0: carry into the exponent
+        mant, exp = mant / 10.0, exp + 1
+    return f"{mant:.{max(digits - 1, 0)}f} × {_power_of_ten(exp)}"
+
+
+def _e_to_power(v, e, tail):
+    """'1.23e+06', '0.40e+06' -> '(1.23 ± 0.40) × 10⁶'."""
+    (mv, ev), (me, _) = v.split("e"), e.split("e")
+    return f"({mv} ± {me}) × {_power_of_ten(int(ev))}{tail}"
+
+
 def round_to_error(value, error, sig=None):
     """(value text, error text) rounded to the error's precision (Particle Data Group rule by default)."""
     if error is None or not math.isfinite(error) or error <= 0:
@@ -89,6 +120,8 @@ def value_error(value, error, unit="", sig=None):
         return "n/a"
     v, e = round_to_error(float(value), None if error is None else float(error), sig)
     tail = f" {unit}" if unit else ""
+    if e is not None and "e" in v and "e" in e:
+        return _e_to_power(v, e, tail)
     return f"{v} ± {e}{tail}" if e is not None else f"{v}{tail}"
 
 
@@ -109,7 +142,7 @@ def fmt(x, digits=3):
             return f"{x:.0f}"
         if 1e-3 <= abs(x) < 99.5:
             return f"{x:.{digits}g}"
-        return f"{x:.{digits - 1}e}"
+        return fmt_power(x, digits)
     return str(x)
 
 
@@ -151,10 +184,25 @@ def fmt_interval(d, unit=""):
     width = min(abs(med - lo), abs(hi - med)) or max(abs(med - lo), abs(hi - med))
     if not width:
         return fmt(med) + tail
+    # one decimal place for the median and both bounds: the narrower half-width's, by the Particle Data Group
+    # rule, but never fewer than two significant figures of the median
     d_ = _decimals_for(width)
-    if d_ <= 0 or abs(med) >= 1e5:
-        return f"{fmt(_sig_round(med, 3))} (68%: {fmt(_sig_round(lo, 2))}–{fmt(_sig_round(hi, 2))}){tail}"
-    return f"{med:.{d_}f} (68%: {lo:.{d_}f}–{hi:.{d_}f}){tail}"
+    if abs(med) > width:
+        d_ = max(d_, 1 - int(math.floor(math.log10(abs(med)))))
+    dash = " to " if min(lo, hi) < 0 else "–"  # '-3–2' would read as a range from -3 to -2
+    if abs(med) >= 1e5 or abs(hi) >= 1e5:
+        return f"{fmt(_sig_round(med, 3))} (68%: {fmt(_sig_round(lo, 2))}{dash}{fmt(_sig_round(hi, 2))}){tail}"
+    return f"{_fixed(med, d_)} (68%: {_fixed(lo, d_)}{dash}{_fixed(hi, d_)}){tail}"
+
+
+def _fixed(x, decimals):
+    """``x`` rounded to ``decimals`` places (negative: to tens, hundreds...), without a '-0'."""
+    if decimals <= 0:
+        q = 10.0 ** (-decimals)
+        txt = f"{round(x / q) * q:.0f}"
+    else:
+        txt = f"{x:.{decimals}f}"
+    return txt[1:] if txt.startswith("-") and float(txt) == 0 else txt
 
 
 def fmt_age_interval(d):
@@ -183,8 +231,12 @@ def fmt_duration_s(sec, error=None):
 
 
 # --------------------------------------------------------------------------- stages
-def _timing_rows(data, constrained=None):
-    """Astrometric values ± errors of a timing fit, 'not constrained' where the model means nothing."""
+def _timing_rows(data, constrained=None, expected_parallax=None):
+    """Astrometric values ± errors of a timing fit, 'not constrained' where the model means nothing.
+
+    ``expected_parallax`` (mas, from the scenario's parallax or distance): a parallax error above it
+    is said in words, since such a fit cannot tell the star's parallax from zero.
+    """
     rows = []
     v, s = data.get("values") or {}, data.get("sigma") or {}
     cons = constrained or {}
@@ -197,7 +249,10 @@ def _timing_rows(data, constrained=None):
             rows.append((label, "not constrained by timing" + (f" (formal error {fmt(err)} {unit})" if err else "")))
         else:
             sig = abs(val) / err if err else float("inf")
-            rows.append((label, f"{value_error(val, err, unit)} ({sig:.1f} sigma)"))
+            text = f"{value_error(val, err, unit)} ({sig:.1f}σ)"
+            if key == "parallax_mas" and expected_parallax and err > expected_parallax:
+                text += f"; not constrained: the expected parallax is {fmt_power(expected_parallax)} mas"
+            rows.append((label, text))
     for key, label in (("ra_mas", "position offset, ra*cos(dec)"), ("dec_mas", "position offset, dec")):
         val, err = v.get(key), s.get(key)
         if err is not None and math.isfinite(err):
@@ -227,35 +282,68 @@ def _g2(x):
     return f"{r:.0f}" if abs(r) < 1e5 else f"{r:.1e}"
 
 
-def forecast_rows(d):
+def expected_parallax_mas(star):
+    """The parallax (mas) a scenario's ``[star]`` implies: its parallax, else 1000 / distance; None without either.
+
+    ``star`` is the parsed ``[star]`` section (Quantities) or a plain dict of numbers in mas and pc.
+    """
+    if star is None:
+        return None
+
+    def _get(name, unit):
+        x = star.get(name) if hasattr(star, "get") else getattr(star, name, None)
+        if x is None:
+            return None
+        try:
+            x = float(x.to_value(unit)) if hasattr(x, "to_value") else float(x)
+        except (TypeError, ValueError):
+            return None
+        return x if math.isfinite(x) else None
+
+    plx = _get("parallax", "mas")
+    if plx is not None and plx > 0:
+        return plx
+    dist = _get("distance", "pc")
+    return 1000.0 / dist if dist else None
+
+
+def forecast_rows(d, expected_parallax=None):
+    """Rows of a forecast; ``expected_parallax`` (mas) turns a parallax error above it into words."""
     rows = [("visits (TOAs)", f"{d.get('n_toas')} over {fmt(d.get('baseline_yr'))} yr"),
             ("median TOA error", fmt_duration_s(d.get("toa_error_s")))]
     cons = d.get("constrained") or {}
     s = d.get("sigma") or {}
+    if expected_parallax is None:
+        dist = (d.get("expected_motion") or {}).get("distance_pc")
+        expected_parallax = 1000.0 / dist if dist else None
     for key, label, unit, what in (("pm_ra_cosdec_masyr", "proper-motion error, ra*cos(dec)", "mas/yr", "proper_motion"),
                                    ("pm_dec_masyr", "proper-motion error, dec", "mas/yr", "proper_motion"),
                                    ("parallax_mas", "parallax error", "mas", "parallax")):
         e = s.get(key)
-        rows.append((label, f"{_g2(e)} {unit}" if cons.get(what, True) else "not constrained by timing"))
-    if d.get("expected_pm_masyr") is not None:
-        rows.append(("expected proper motion", f"{fmt(d['expected_pm_masyr'])} mas/yr"))
+        text = f"{_g2(e)} {unit}" if cons.get(what, True) else "not constrained by timing"
+        if key == "parallax_mas" and cons.get(what, True) and expected_parallax and e and e > expected_parallax:
+            text += f": the expected parallax ({fmt_power(expected_parallax)} mas) is not measurable"
+        rows.append((label, text))
+    if d.get("expected_pm_masyr") is not None:  # an estimate from a speed distribution: two figures
+        rows.append(("expected proper motion", f"{_g2(d['expected_pm_masyr'])} mas/yr"))
     sig = d.get("pm_significance")
     if sig is not None:
-        rows.append(("proper-motion significance of this plan", f"{_g2(sig)} sigma"))
+        rows.append(("proper-motion significance of this plan", f"{_g2(sig)}σ"))
     need = d.get("baseline_needed_yr")
     target = d.get("target_significance")
-    rows.append((f"baseline for {fmt(target)} sigma", f"{_g2(need)} yr" if need is not None else
+    rows.append((f"baseline for {fmt(target)}σ", f"{_g2(need)} yr" if need is not None else
                  f"not reached within {fmt(d.get('max_baseline_yr'))} yr"))
     return rows
 
 
-def fit_rows(d):
+def fit_rows(d, expected_parallax=None):
+    """Rows of a timing fit; ``expected_parallax`` (mas) turns a parallax error above it into words."""
     rows = [("TOAs fitted", str(d.get("n_toas"))), ("reduced chi-square", f"{d.get('chi2_reduced', float('nan')):.2f}"),
             ("converged", fmt(d.get("converged")))]
     res = d.get("residuals") or {}
     if res.get("weighted_rms_us") is not None:
         rows.append(("weighted rms residual", fmt_duration_s(res["weighted_rms_us"] * 1e-6)))
-    rows += _timing_rows(d, fit_constrained(d))
+    rows += _timing_rows(d, fit_constrained(d), expected_parallax)
     return rows
 
 
@@ -264,13 +352,31 @@ def trace_rows(d):
     assocs = d.get("associations") if isinstance(d.get("associations"), list) else []
     rows.append(("favoured birth association", d.get("favoured") or "none"))
     rows.append(("draws of the star", str(d.get("n_samples"))))
-    pc = d.get("plane_crossing_age_yr")
-    rows.append(("time since the last Galactic-plane crossing", fmt_age_interval(pc)))
+    rows += plane_crossing_rows(d)
     if d.get("field_probability") is not None:
         rows.append(("probability of no listed association (field, including their surroundings)",
                      _pct(d["field_probability"], d.get("field_probability_error"))))
     rows.append(("settings", _trace_settings(d.get("settings") or {})))
-    return rows, association_rows(assocs)
+    return rows, association_rows(assocs, field=(d.get("field_probability"), d.get("field_probability_error")),
+                                  favoured=d.get("favoured"))
+
+
+def plane_crossing_rows(d):
+    """Rows of the plane-crossing time: in words when most draws never crossed (then it is no age estimate)."""
+    pc = d.get("plane_crossing_age_yr") or {}
+    frac = d.get("plane_crossing_fraction")
+    n_all = d.get("n_samples")
+    crossed = _pct(frac)
+    if frac is not None and n_all and 0 < frac < 0.01:
+        crossed = f"{round(frac * n_all)} of {n_all}"
+    if pc.get("median") is None:
+        text = "none: no draw crossed the mid-plane within the window"
+    elif frac is not None and frac < 0.5:
+        text = (f"{fmt_age_interval(pc) if pc.get('n', 2) > 1 else fmt_age(pc['median'], 2)} for the {crossed} of "
+                "the draws that crossed; no age estimate, as most draws did not cross")
+    else:
+        text = fmt_age_interval(pc)
+    return [("time since the last Galactic-plane crossing", text), ("draws that crossed", crossed)]
 
 
 def _trace_settings(s):
@@ -292,21 +398,31 @@ def _pct(x, err=None):
     p = 100.0 * x
     if p < 0.1:
         return "< 0.1%" if p > 0 else "0%"
+    if p > 99.9:
+        return "> 99.9%" if p < 100 or err else "100%"
+    if err and 100.0 * err < 0.05:  # a Monte Carlo error below what a percentage shows: the value alone
+        return f"{p:.1f}%"
     if err:
         return value_error(p, 100.0 * err, "%").replace(" %", "%")
     return f"{p:.2g}%" if p < 10 else f"{p:.0f}%"
 
 
-def association_rows(assocs, top=8):
-    """Header and rows of the ranked association table (probability first when present)."""
+def association_rows(assocs, top=8, field=None, favoured=None):
+    """Header and rows of the ranked association table (probability first when present).
+
+    ``field`` — ``(field_probability, its error)`` — adds a last row for a birth outside every listed
+    candidate, so the probabilities of the column add up to one before the reader's eyes; ``favoured``
+    (a name) is marked in its row.
+    """
     has_p = any(a.get("probability") is not None for a in assocs)
     has_near = any(a.get("neighbourhood_probability") for a in assocs)
-    header = (["rank", "association"] + (["probability"] if has_p else [])
+    header = (["rank", "association"] + (["birth probability"] if has_p else [])
               + (["born nearby, not in it"] if has_near else [])
               + ["encounter fraction", "chance fraction", "kinematic age", "d_min (pc)"])
     rows = []
     for i, a in enumerate(assocs[:top]):
-        r = [str(a.get("rank", i + 1)), str(a.get("name"))]
+        name = str(a.get("name")) + (" (favoured)" if favoured is not None and a.get("name") == favoured else "")
+        r = [str(a.get("rank", i + 1)), name]
         if has_p:
             p = a.get("probability")
             r.append(_pct(p, a.get("probability_error")) if p is not None else "n/a")
@@ -316,6 +432,16 @@ def association_rows(assocs, top=8):
         r += [_pct(a.get("encounter_fraction")), _pct(a.get("chance_fraction")),
               fmt_age_interval(a.get("age_yr")), fmt_interval(a.get("dmin_pc"))]
         rows.append(r)
+    if len(assocs) > top:
+        rest = sum(a.get("probability") or 0.0 for a in assocs[top:])
+        rows.append(["", f"{len(assocs) - top} more (trace_associations.ecsv)"]
+                    + ([_pct(rest)] if has_p else []) + [""] * (len(header) - 2 - has_p))
+    if has_p and field is not None and field[0] is not None:
+        near = sum(a.get("neighbourhood_probability") or 0.0 for a in assocs)
+        r = ["", "none listed: born outside every candidate (field)", _pct(field[0], field[1])]
+        if has_near:
+            r.append(f"of which {_pct(near)} near a candidate")
+        rows.append(r + [""] * (len(header) - len(r)))
     return header, rows
 
 
@@ -338,9 +464,9 @@ def ages_rows(d, raw_star=None):
         rows.append((f"maximum spin-down age for n = {fmt(d.get('braking_index'))}",
                      fmt_age(d["max_spin_down_age_yr"])))
     if d.get("dipole_field_gauss") is not None:
-        rows.append(("dipole field", f"{d['dipole_field_gauss']:.2g} G"))
+        rows.append(("dipole field", f"{fmt_power(d['dipole_field_gauss'])} G"))
     if d.get("spin_down_luminosity_erg_s") is not None:
-        rows.append(("spin-down luminosity", f"{d['spin_down_luminosity_erg_s']:.2g} erg/s"))
+        rows.append(("spin-down luminosity", f"{fmt_power(d['spin_down_luminosity_erg_s'])} erg/s"))
     if d.get("implied_initial_period_s") is not None:
         rows.append(("initial period implied by the kinematic age",
                      fmt_interval(dict(u.get("implied_initial_period_s") or {}, median=d["implied_initial_period_s"]),
@@ -348,18 +474,29 @@ def ages_rows(d, raw_star=None):
     elif d.get("implied_initial_period_note"):
         rows.append(("initial period implied by the kinematic age", d["implied_initial_period_note"]))
     if d.get("decay_timescale_yr") is not None:
-        rows.append(("field-decay timescale implied (exponential)", fmt_age(d["decay_timescale_yr"])))
+        iv = u.get("decay_timescale_yr") or {}
+        rows.append(("field-decay timescale implied (exponential)",
+                     fmt_age_interval(dict(iv, median=d["decay_timescale_yr"])) if iv.get("lo68") is not None
+                     else fmt_age(d["decay_timescale_yr"], 2)))
+    elif d.get("decay_timescale_note"):
+        rows.append(("field-decay timescale implied (exponential)", str(d["decay_timescale_note"])))
     cool = d.get("cooling_age_yr") or {}
     if cool.get("median") is not None:
         r = d.get("cooling_age_range_yr") or {}
         txt = fmt_age_interval(cool)
         if r.get("lo68") is not None:
-            txt += f"; range over envelopes and masses {fmt_age(r['lo68'], 2)}–{fmt_age(r['hi68'], 2)}"
+            txt += f"; range over envelopes and masses {_age_range(r['lo68'], r['hi68'])}"
         rows.append(("cooling age (all envelopes and masses)", txt))
         c = d.get("cooling") or {}
         if c.get("model"):
             rows.append(("cooling model", str(c["model"])))
     return rows
+
+
+def _age_range(lo, hi):
+    """'58–150 kyr': both ends with two significant figures in the upper end's unit."""
+    s, unit = _age_unit(hi)
+    return f"{fmt_power(lo / s)}–{fmt_power(hi / s)} {unit}"
 
 
 def stage_rows(stage, data, raw=None):

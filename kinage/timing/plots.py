@@ -30,7 +30,8 @@ def forecast_figure(result, ax=None):
     Three panels sharing the baseline axis: the proper-motion error along the
     motion (mas/yr, log), the parallax error (mas, log) and the proper-motion
     significance mu / sigma_mu (log, with the target).  Proper motion and
-    parallax never share an axis (different units).
+    parallax never share an axis (different units); the parallax panel draws
+    the expected parallax (from the distance) that its error must fall below.
 
     Parameters
     ----------
@@ -42,7 +43,7 @@ def forecast_figure(result, ax=None):
     -------
     matplotlib.figure.Figure
     """
-    from ..report.style import color, style_context
+    from ..report.style import color, plain_log_ticks, style_context
 
     sw = result.sweep
     b = np.asarray(sw["baseline_yr"], float)
@@ -53,11 +54,18 @@ def forecast_figure(result, ax=None):
         a_pm.set_ylabel("proper-motion\nerror (mas/yr)")
         a_pm.axvline(result.plan.span_yr, color="0.5", lw=0.8, ls=":", label="this plan")
         a_pm.legend(loc="upper right")
+        plain_log_ticks(a_pm.yaxis)
         if a_plx is not None:
-            a_plx.plot(b, sw["parallax_error_mas"], color=color(1))
+            a_plx.plot(b, sw["parallax_error_mas"], color=color(1), label="parallax error")
             a_plx.set_yscale("log")
             a_plx.set_ylabel("parallax\nerror (mas)")
             a_plx.axvline(result.plan.span_yr, color="0.5", lw=0.8, ls=":")
+            dist = getattr(getattr(result, "motion", None), "distance_pc", None)
+            if dist:  # the error must fall below the parallax itself for a measurement
+                a_plx.axhline(1000.0 / dist, color=color(3), lw=0.8, ls="--",
+                              label=f"expected parallax ({1000.0 / dist:.2g} mas at {dist:.0f} pc)")
+            a_plx.legend(loc="upper right")
+            plain_log_ticks(a_plx.yaxis)
         if a_sig is not None:
             _significance_panel(a_sig, result, b)
         last = a_sig or a_plx or a_pm
@@ -73,7 +81,7 @@ def _significance_panel(ax, result, b):
     if np.any(good):
         ax.plot(b[good], s[good], color=color(2), label="expected proper motion")
         ax.axhline(result.target_significance, color=color(3), lw=0.8, ls="--",
-                   label=f"target {result.target_significance:g} sigma")
+                   label=f"target {result.target_significance:g}σ")
         if result.baseline_needed_yr is not None:
             ax.axvline(result.baseline_needed_yr, color=color(3), lw=0.8, ls=":",
                        label=f"needed: {result.baseline_needed_yr:.1f} yr")
@@ -84,7 +92,11 @@ def _significance_panel(ax, result, b):
         ax.text(0.5, 0.5, "expected proper motion unknown\n(no distance)", ha="center", va="center",
                 transform=ax.transAxes)
     ax.axvline(result.plan.span_yr, color="0.5", lw=0.8, ls=":")
-    ax.set_ylabel("significance\nmu / sigma_mu")
+    ax.set_ylabel("significance\n" + r"$\mu/\sigma_\mu$")
+    if np.any(good):
+        from ..report.style import plain_log_ticks
+
+        plain_log_ticks(ax.yaxis)
 
 
 def _shade_excluded(ax, x, excluded, **kw):
@@ -210,10 +222,10 @@ def residual_figure(result, path=None, ax=None):
     with style_context():
         fig, (ax1, ax2) = _axes(ax, 2, aspect=1.0, sharex=True)
         if grid is not None:
-            ax1.plot(grid[0], grid[1] * top, color=color(0), lw=1.0, label="fitted delay")
+            ax1.plot(grid[0], grid[1] * top, color=color(0), lw=1.0, label="fitted astrometric delay")
         ax1.errorbar(mjd, (result.residuals_s + sig - offset) * top, yerr=result.errors_s * top, fmt="o", ms=2.5,
                      color=color(1), elinewidth=0.7, label="residual + fitted delay")
-        ax1.set_ylabel(f"delay - mean ({top_unit})")
+        ax1.set_ylabel(f"astrometric delay − mean ({top_unit})")
         ax1.legend(loc="lower left", bbox_to_anchor=(0, 1.0), ncols=2, fontsize=6.5, borderaxespad=0.2)
         if ax2 is not None:
             ax2.errorbar(mjd, result.residuals_s * rs, yerr=result.errors_s * rs, fmt="o", ms=2.5, color=color(2),
