@@ -305,7 +305,7 @@ def _check_errors_against_period(tab, period, where):
         i = int(bad[0])
         mjd = tab["mjd"][i].tdb.to_value("mjd", "float")
         raise InputError(f"{where} column 'error'",
-                         f"{err[i]:.3g} s (at MJD {mjd:.4f}) is at least half the spin period ({period:.4g} s), so "
+                         f"{err[i]:.3g} s (at MJD {mjd:.4f}) is at least half the spin period ({_period_text(period)}), so "
                          "the TOA fixes no pulse phase; errors must be well below the period (a column without "
                          "a unit is in seconds: were these microseconds?)")
 
@@ -329,11 +329,17 @@ def _misnumbered(resid, noise, period):
     n = int(np.count_nonzero(far))
     if n < 2:
         return ""
-    return (f"{n} of {resid.size} TOAs have residuals beyond a quarter of the spin period ({period:.4g} s) and "
-            f"{MISNUMBERED_SIGMA:g} times their errors, so their pulses are misnumbered: a cycle-count problem (the "
-            "starting spin, spin derivative or position in [star] drift by a cycle over the data; check that "
-            "[star] epoch is the epoch of spin_period, give better starting values, or add TOAs that bridge the "
-            "gaps)")
+    return (f"{n} of {resid.size} TOAs have residuals beyond a quarter of the spin period ({_period_text(period)}) "
+            f"and {MISNUMBERED_SIGMA:g} times their errors, so their pulses are misnumbered: a cycle-count problem "
+            "(the starting spin, spin derivative or position in [star] drift by a cycle over the data, or the TOAs "
+            "are referred elsewhere than toa_reference says; check that [star] epoch is the epoch of spin_period "
+            "and that site TOAs have toa_reference = 'site', give better starting values, or add TOAs that "
+            "bridge the gaps)")
+
+
+def _period_text(period):
+    """A spin period in the unit people use: ms below a second."""
+    return f"{period * 1e3:.4g} ms" if period < 1.0 else f"{period:.4g} s"
 
 
 def _diagnosis(history, resid, period):
