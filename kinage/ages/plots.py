@@ -168,6 +168,7 @@ def plot_cooling_curves(curves, path=None, *, temperature=None, kinematic=None, 
                 ax.axvline(xm, color=STAR_COLOR, lw=0.9, label="kinematic age")
         ax.set_xscale("log")
         ax.set_yscale("log")
+        _plain_log_ticks(ax.xaxis)
         ax.set_xlabel(f"age ({unit})")
         ax.set_ylabel(r"redshifted surface temperature $T_\infty$ (K)")
         handles, labels = ax.get_legend_handles_labels()

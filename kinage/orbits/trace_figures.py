@@ -397,7 +397,7 @@ def _title(result, s):
     if s["name"] == result.favoured:
         second.append("favoured")
     elif result.favoured is None and result.associations and s["name"] == result.associations[0]["name"]:
-        second.append("the most probable candidate; none favoured")
+        second.append("most probable, none favoured")
     return s["name"] + ("\n" + ", ".join(second) if second else "")
 
 
@@ -423,7 +423,7 @@ def plot_dmin_tau(result, name=None, ax=None):
     plain_log_ticks(ax.yaxis)
     ax.set_xlabel(r"time of closest approach $\tau$ (Myr ago)")
     ax.set_ylabel(r"closest approach $d_\mathrm{min}$ (pc)")
-    ax.set_title(_title(result, s), fontsize=7.5)
+    ax.set_title(_title(result, s), fontsize=7)
     ax.legend(loc="lower right")
     return fig
 
@@ -493,7 +493,7 @@ def plot_tau_hist(result, name=None, ax=None):
     ax.set_xlim(bins[0], bins[-1])
     ax.set_xlabel(r"time of closest approach $\tau$ (Myr ago)")
     ax.set_ylabel("number of draws")
-    ax.set_title(_title(result, s), fontsize=7.5)
+    ax.set_title(_title(result, s), fontsize=7)
     ax.legend(loc="upper right")
     return fig
 

@@ -249,7 +249,7 @@ def _timing_rows(data, constrained=None, expected_parallax=None):
             rows.append((label, "not constrained by timing" + (f" (formal error {fmt(err)} {unit})" if err else "")))
         else:
             sig = abs(val) / err if err else float("inf")
-            text = f"{value_error(val, err, unit)} ({sig:.1f}σ)"
+            text = f"{value_error(val, err, unit)} ({_g2(sig)}σ)"  # a significance is itself uncertain: 2 figures
             if key == "parallax_mas" and expected_parallax and err > expected_parallax:
                 text += f"; not constrained: the expected parallax is {fmt_power(expected_parallax)} mas"
             rows.append((label, text))

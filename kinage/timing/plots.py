@@ -63,7 +63,7 @@ def forecast_figure(result, ax=None):
             dist = getattr(getattr(result, "motion", None), "distance_pc", None)
             if dist:  # the error must fall below the parallax itself for a measurement
                 a_plx.axhline(1000.0 / dist, color=color(3), lw=0.8, ls="--",
-                              label=f"expected parallax ({1000.0 / dist:.2g} mas at {dist:.0f} pc)")
+                              label=f"expected parallax ({1000.0 / dist:.2g} mas)")
             a_plx.legend(loc="upper right")
             plain_log_ticks(a_plx.yaxis)
         if a_sig is not None:
