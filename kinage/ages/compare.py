@@ -14,6 +14,7 @@ import numpy as np
 
 from .._results import ResultDisplay
 from .._units import quantity_edge
+from ..errors import ModelRangeError
 from ..io.results import interval
 from .cooling_age import cooling_age
 from .draws import draw_kinematic_age, draw_spin, read_settings
@@ -110,6 +111,8 @@ class AgesResult(ResultDisplay):
         head = ("; ".join(parts) + ".") if parts else "No ages could be computed."
         if head[0].islower():
             head = head[0].upper() + head[1:]
+        if self.values.get("cooling_note"):
+            head += " " + self.values["cooling_note"] + "."
         key = [v for v in self.verdicts if v["consistent"] is not None][:2]
         tail = [v.get("short", v["text"]) for v in key]
         note = self.values.get("pdot_note")
@@ -287,7 +290,14 @@ def compare_ages(scenario, *, kinematic_age_samples=None, kinematic_age_source=N
             _implied(values, unc, decay, spin, s, kin_med, kin_d, tc_d, warnings)
 
     # cooling ------------------------------------------------------------------
-    cool, cool_m = _cooling(star, s, rng, heating)
+    try:
+        cool, cool_m = _cooling(star, s, rng, heating)
+    except ModelRangeError as exc:
+        # a measured temperature no cooling curve reaches is a finding about the star, not a bad input:
+        # the spin-down ages stand, and the note says what the mismatch points to
+        cool, cool_m = None, None
+        values["cooling_note"] = _outside_cooling_note(exc)
+        warnings.append(values["cooling_note"])
     if cool is not None:
         warnings.extend(cool.warnings)
     pset = get_pset("cooling_model", s.cooling_model, "[ages] cooling_model")
@@ -388,6 +398,21 @@ def _implied(values, unc, decay, spin, s, kin_med, kin_d, tc_d, warnings):
     else:
         oh["note"] = "not computed: give [ages] ohmic_timescale and/or hall_timescale"
     decay["ohm_hall"] = oh
+
+
+def _outside_cooling_note(exc):
+    """The sentence for a measurement outside every cooling curve (a :class:`ModelRangeError` from the model)."""
+    t0, t1 = getattr(exc, "model_span_yr", (None, None))
+    if getattr(exc, "side", "hot") == "hot":
+        meaning = ("passive cooling cannot keep a star this hot at any age the model covers, which points to "
+                   "internal heating (magnetic-field decay, as in magnetars) or accretion")
+        if t0 is not None:
+            meaning += f", or to an age below {format_age(t0)}"
+    else:
+        meaning = "this points to faster cooling (direct Urca) than the model"
+        if t1 is not None:
+            meaning += f" or an age beyond {format_age(t1)}"
+    return f"No cooling age: {getattr(exc, 'short', exc.problem)}; {meaning}"
 
 
 def _cooling(star, s, rng, heating):

@@ -174,10 +174,22 @@ def cooling_age(temperature_K=None, temperature_error_K=None, *, luminosity_erg_
                          f"{lo:.3g}-{hi:.3g} K, kT = {lo * _EV_PER_K:.3g}-{hi * _EV_PER_K:.3g} eV,")
         else:
             got, span = f"{value:.3g} erg/s", f"{lo:.3g}-{hi:.3g} erg/s"
-        raise ModelRangeError(where, f"{got} is outside the range of cooling model '{m.name}' "
+        err = ModelRangeError(where, f"{got} is outside the range of cooling model '{m.name}' "
                               f"({span} between {m.t_start_yr:g} and {m.t_end_yr:g} yr for "
                               f"envelopes {', '.join(envelopes)} and masses {', '.join(f'{x:g}' for x in masses)} "
                               f"solMass)")
+        err.side = "hot" if value > hi else "cold"  # hotter (brighter) or colder than every curve
+        err.model_span_yr = (m.t_start_yr, m.t_end_yr)
+        if quantity == "temperature":
+            word = "hotter" if err.side == "hot" else "colder"
+            short = (f"kT = {value * _EV_PER_K:.3g} eV is {word} than every curve of cooling model '{m.name}' "
+                     f"(kT = {lo * _EV_PER_K:.3g}-{hi * _EV_PER_K:.3g} eV")
+        else:
+            word = "brighter" if err.side == "hot" else "fainter"
+            short = (f"L = {value:.3g} erg/s is {word} than every curve of cooling model '{m.name}' "
+                     f"({lo:.3g}-{hi:.3g} erg/s")
+        err.short = short + f" from {m.t_start_yr:g} to {m.t_end_yr:g} yr)"
+        raise err
     all_ages = np.concatenate(pooled) if pooled else np.array([])
     meds = [r["median"] for r in per_model if r["median"] is not None]
     los = [r["lo68"] for r in per_model if r["lo68"] is not None]

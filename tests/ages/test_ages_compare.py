@@ -8,7 +8,7 @@ import pytest
 from kinage.ages import compare_ages
 from kinage.ages.field_decay import exponential_characteristic_age
 from kinage.ages.spindown import characteristic_age
-from kinage.errors import InputError, ModelRangeError
+from kinage.errors import InputError
 from kinage.io.results import write_json
 from kinage.io.scenario import scenario_from_dict
 
@@ -135,7 +135,6 @@ def test_same_seed_same_numbers():
     ({}, {"initial_period": 8.0}, InputError, r"\[ages\] initial_period"),
     ({}, {"radius": 4.0}, InputError, r"\[ages\] radius"),
     ({}, {"masses": [1.4, 3.0], "radius": 9.0}, InputError, r"\[ages\] radius"),
-    ({"temperature": "2 keV"}, {}, ModelRangeError, r"\[star\] temperature"),
 ])
 def test_bad_input_names_the_field(star, ages, exc, where):
     with pytest.raises(exc, match=where):
