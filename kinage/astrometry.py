@@ -73,9 +73,10 @@ class AstrometricSolution:
 
     @property
     def ra(self):
-        """Right ascension including the fitted offset, Quantity [deg]."""
+        """Right ascension including the fitted offset, Quantity [deg], in [0, 360) (an offset may cross 0h)."""
         off = 0.0 if not np.isfinite(self.values[0]) else self.values[0]
-        return (self.ra_deg + off / 3.6e6 / np.cos(np.radians(self.dec_deg))) * u.deg
+        ra = (self.ra_deg + off / 3.6e6 / np.cos(np.radians(self.dec_deg))) % 360.0
+        return (0.0 if ra >= 360.0 else ra) * u.deg  # -1e-17 % 360 rounds to 360.0
 
     @property
     def dec(self):

@@ -241,10 +241,15 @@ def fit_cli(tmp_path, star_table, tab, campaign=None, fmt="ecsv", capsys=None):
     return status, (json.loads(out.read_text()) if out.exists() else None)
 
 
+def _dra(a, b):
+    """a - b in degrees of right ascension, taken across 0h the short way."""
+    return (a - b + 180.0) % 360.0 - 180.0
+
+
 def truth_offsets(star, star_table):
     """The truth as the fit reports it: offsets from the [star] position (mas), motion, parallax."""
     cosd = math.cos(math.radians(star.dec))
-    return {"ra_mas": (star.ra - star_table["ra"]) * 3.6e6 * cosd, "dec_mas": (star.dec - star_table["dec"]) * 3.6e6,
+    return {"ra_mas": _dra(star.ra, star_table["ra"]) * 3.6e6 * cosd, "dec_mas": (star.dec - star_table["dec"]) * 3.6e6,
             "pm_ra_cosdec_masyr": star.pm_ra_cosdec, "pm_dec_masyr": star.pm_dec, "parallax_mas": star.parallax}
 
 
@@ -259,7 +264,8 @@ def check_truth(d, star, star_table, nsig=4.0):
         assert abs(p) < nsig, (k, d["values"][k], d["sigma"][k], truth_offsets(star, star_table)[k])
     # absolute position (ra_deg, dec_deg) at the epoch against the truth
     cosd = math.cos(math.radians(star.dec))
-    assert abs(d["ra_deg"] - star.ra) * 3.6e6 * cosd < nsig * d["sigma"]["ra_mas"]
+    assert 0.0 <= d["ra_deg"] < 360.0
+    assert abs(_dra(d["ra_deg"], star.ra)) * 3.6e6 * cosd < nsig * d["sigma"]["ra_mas"]
     assert abs(d["dec_deg"] - star.dec) * 3.6e6 < nsig * d["sigma"]["dec_mas"]
     # white noise modelled: reduced chi-square ~ 1 within 4 sqrt(2/dof)
     dof = d["n_toas"] - d["n_parameters"]
@@ -410,6 +416,19 @@ def test_star_near_the_ecliptic_pole():
     d_mid = kinage.fit(toa_table(mjd_text(sec_mid), 30e-6), {"star": start_star(mid)}).to_dict()
     assert d["sigma"]["parallax_mas"] > 10 * d_mid["sigma"]["parallax_mas"]
     assert d["sigma"]["pm_dec_masyr"] < 3 * d_mid["sigma"]["pm_dec_masyr"]
+
+
+@pytest.mark.parametrize("ra", [0.0003, 359.9997])
+def test_position_across_zero_hours_of_right_ascension(ra):
+    # the start lies 3 arcsec across 0h from the truth: the fitted right ascension (ra_deg) is in [0, 360)
+    # (the ICRS longitude convention, as astropy's Longitude wraps it) and at the truth
+    star = replace(SLOW, name="Brindle-9 (at 0h)", ra=ra, dec=12.0)
+    sec = generate(star, nominal(80, 6.0, 1), 30e-6, np.random.default_rng(5))
+    st = start_star(star, 3000.0 if ra > 180 else -3000.0)
+    st["ra"] %= 360.0
+    d = kinage.fit(toa_table(mjd_text(sec), 30e-6), {"star": st}).to_dict()
+    assert (st["ra"] > 180) != (ra > 180)  # the start really is on the other side of 0h
+    check_truth(d, star, st)
 
 
 def test_unsorted_toas_fit_as_sorted(tmp_path):
