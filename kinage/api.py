@@ -447,7 +447,7 @@ def trace(scenario, associations=None, *, solution=None, rng=None, samples=None,
 
     samples = check_samples(samples)
     scn, table = _with_associations(as_scenario(scenario), associations)
-    check_resources(scn, samples=samples, n_associations=len(table))  # memory and run time, before any work
+    check_resources(scn, samples=samples, n_associations=len(table), samples_name="samples")  # before any work
     if solution is not None and hasattr(solution, "solution") and not hasattr(solution, "covariance"):
         solution = solution_for_trace(scn, solution)
     return _stage(_trace, TraceWarning, scn, solution=solution, rng=rng, samples=samples, potential=potential,

@@ -89,6 +89,12 @@ def preflight(scenario, samples=None):
         # too few TOAs, all on one day: input problems, found before any stage (the fit repeats the check
         # with its exact parameter count: 5 astrometric + phase + spin terms, + DM with several frequencies)
         check_fit_table(loaded["toas"], str(scenario.campaign.toas), 6 + int(scenario.campaign.get("spin_terms", 2)))
+        from .timing.reference import resolve_reference
+
+        # the TOA reference (scenario keys against the table's metadata): an input problem, found before any stage
+        resolve_reference(scenario.campaign, loaded["toas"].meta, str(scenario.campaign.toas),
+                          base_dir=scenario.path.parent if scenario.path is not None else None,
+                          table_dir=Path(scenario.campaign.toas).parent)
     if "trace" in stages:
         from .associations import read_associations
 
@@ -263,10 +269,12 @@ def run_pipeline(scenario, out_dir, *, seed=None, samples=None, progress=False, 
         and on disk.
     """
     log = log or (lambda line: None)
-    if samples is not None and not 1 <= int(samples):
-        raise InputError("samples", f"must be a positive whole number (got {samples})")
+    from .io.limits import check_samples
+    from .io.paths import expand_path
+
+    samples = check_samples(samples)
+    out_dir = expand_path(out_dir, "out_dir")  # a path (not a number or None), ~ expanded
     inputs = preflight(scenario, samples=samples)  # a bad table stops the run here, before any stage or output
-    out_dir = Path(out_dir)
     if not isolate:
         out_dir.mkdir(parents=True, exist_ok=True)
         return _run_into(scenario, out_dir, inputs, seed=seed, samples=samples, progress=progress, report=report,

@@ -52,6 +52,14 @@ _RANGES = {
     "pm_ra_cosdec": (-1e5, 1e5, False, False, "no star moves 100 arcsec/yr across the sky"),
     "pm_dec": (-1e5, 1e5, False, False, "no star moves 100 arcsec/yr across the sky"),
     "radial_velocity": (-5000.0, 5000.0, False, False, "no association moves faster than ~1000 km/s"),
+    # an error beyond the whole range of its value says nothing (often a unit mistake)
+    "ra_error": (0.0, 360.0, False, False, "an error beyond the whole circle"),
+    "dec_error": (0.0, 180.0, False, False, "an error beyond the whole range of declination"),
+    "distance_error": (0.0, 1e5, False, False, "an error beyond the range of Galactic distances"),
+    "pm_ra_cosdec_error": (0.0, 1e5, False, False, "an error beyond 100 arcsec/yr"),
+    "pm_dec_error": (0.0, 1e5, False, False, "an error beyond 100 arcsec/yr"),
+    "radial_velocity_error": (0.0, 5000.0, False, False, "an error beyond 5000 km/s"),
+    "age_error": (0.0, 13_800.0, False, False, "an error beyond the age of the Galaxy (13.8 Gyr)"),
 }
 _MAX_NAME = 200
 _MAX_ROWS = 100_000
@@ -170,6 +178,9 @@ def read_associations(path):
         return path
     if isinstance(path, Table):
         return associations_from_table(path, source=str(path.meta.get("name", "table")))
+    if not isinstance(path, (str, Path)):
+        raise InputError("[trace] associations", f"expected a file path, an astropy Table or QTable, or an "
+                                                 f"AssociationTable (got {type(path).__name__})")
     path = Path(path)
     if not path.is_file():
         raise InputError("[trace] associations", f"file not found: {path}")
@@ -179,6 +190,24 @@ def read_associations(path):
     except Exception as exc:  # noqa: BLE001 - any parse error becomes an input error
         raise InputError(str(path.name), f"could not read as {fmt.split('.')[1].upper()} ({exc})") from None
     return associations_from_table(table, source=path.name)
+
+
+def _misspelt_columns(colnames):
+    """(column, known name) for the first unknown column that is a near miss of a known one, else None.
+
+    Other unknown columns (notes, Galactic coordinates, ...) are allowed and ignored; a near miss such as
+    'distance_err' or 'radiuss' would otherwise be ignored silently.
+    """
+    import difflib
+
+    known = list(REQUIRED) + list(OPTIONAL)
+    for name in colnames:
+        if name in known:
+            continue
+        close = difflib.get_close_matches(str(name), known, n=1, cutoff=0.8)
+        if close and close[0] not in colnames:  # a near miss of a column the table lacks
+            return str(name), close[0]
+    return None
 
 
 def _cell(table, col, i):
@@ -211,6 +240,10 @@ def associations_from_table(table, source="table"):
     from astropy.table import Table
 
     table = Table(table) if not isinstance(table, Table) else table
+    typo = _misspelt_columns(table.colnames)
+    if typo:
+        raise InputError(f"{source} column '{typo[0]}'", f"unknown column (did you mean '{typo[1]}'?); other "
+                         "columns are ignored, so rename it to be used")
     missing = [c for c in REQUIRED if c not in table.colnames]
     if missing:
         raise InputError(source, "missing column(s) " + ", ".join(f"'{c}'" for c in missing)

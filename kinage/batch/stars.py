@@ -68,6 +68,9 @@ def read_star_rows(path):
     if unknown:
         raise InputError(f"stars table {path.name}",
                          f"unknown columns {unknown}; columns are named like [star] keys (see 'kinage keys star')")
+    if len(tab) == 0:
+        raise InputError(f"stars table {path.name}", "the table has no rows (one row per star)")
+    _check_column_units(tab, path.name)
     rows, seen = [], {}
     for i, rec in enumerate(tab):
         row = {}
@@ -96,6 +99,25 @@ def read_star_rows(path):
         row["name"] = name
         rows.append(row)
     return rows
+
+
+def _check_column_units(tab, name):
+    """A column unit that cannot convert to its [star] key's unit fails every star: a table problem."""
+    import astropy.units as u
+
+    for col in tab.colnames:
+        unit = tab[col].unit
+        base = col[: -len("_error")] if col.endswith("_error") and col not in SCHEMA["star"] else col
+        key = SCHEMA["star"].get(base)
+        if unit is None or key is None or key.kind not in ("quantity", "angle"):
+            continue
+        default = u.Unit("mas" if key.kind == "angle" and col != base else key.unit or "deg")
+        try:
+            (1.0 * unit).to(default, equivalencies=u.temperature_energy())
+        except u.UnitConversionError:
+            raise InputError(f"stars table {name} column '{col}'",
+                             f"unit {unit.to_string()} does not convert to {default.to_string()} (the unit of "
+                             f"[star] {col}; see 'kinage keys star')") from None
 
 
 def load_template(path):

@@ -16,7 +16,8 @@ import astropy.units as u
 from ..errors import InputError
 from .quantities import format_quantity, shown
 
-__all__ = ["check_bounds", "physical_checks", "suggest", "short", "as_given", "MAX_VISITS", "MJD_RANGE"]
+__all__ = ["check_bounds", "physical_checks", "reference_checks", "suggest", "short", "as_given", "MAX_VISITS",
+           "MJD_RANGE"]
 
 #: most visits (TOAs) a campaign may plan: a forecast of 10,000 visits takes about a minute (measured on the
 #: 2-core development machine, 2026-12-02: 2,000 visits 12 s, 10,000 visits 41 s of CPU time)
@@ -25,8 +26,6 @@ MAX_VISITS = 10_000
 _GM_SUN_C2_KM = 1.4766250
 #: plausible epochs: MJD 15020 (1900-01-01) to 124593 (2200-01-01)
 MJD_RANGE = (15020.0, 124593.0)
-
-__all__ = ["Section", "Scenario", "load_scenario", "scenario_from_dict", "file_sha256"]
 
 
 def short(name, limit=60):
@@ -169,3 +168,82 @@ def physical_checks(sections, problems):
                                            f"{c.baseline.to_value(u.yr):g} yr x {vpy:g} visits per year is {n:.3g} "
                                            f"visits, above the limit of {MAX_VISITS:,} visits (the forecast's run "
                                            f"time grows with the visits: ~1 minute at the limit)"))
+    if c is not None and star.get("spin_period") is not None:
+        # a TOA fixes the pulse phase only when its error is well below the period (the fit refuses TOA-table
+        # errors of half a period or more for the same reason)
+        period = star.spin_period.to_value(u.s)
+        for key in ("toa_error", "added_error"):
+            err = c.get(key)
+            if err is not None and c.given(key) and err.to_value(u.s) >= 0.5 * period:
+                problems.append(InputError(f"[campaign] {key}",
+                                           f"{format_quantity(err)} is at least half the spin period "
+                                           f"({format_quantity(star.spin_period)}), so a TOA fixes no pulse phase; "
+                                           "expected an error well below the period"))
+
+
+#: the ID word that opens a JPL/NAIF SPK kernel (a DAF file): 'DAF/SPK ' (older files 'NAIF/DAF'); NAIF, "DAF
+#: Required Reading" (value from memory)
+_SPK_MAGIC = (b"DAF/SPK", b"NAIF/DAF")
+_SITE_KEYS = ("site_longitude", "site_latitude", "site_height")
+_BARY_KEYS = ("barycentred_ra", "barycentred_dec")
+
+
+def reference_checks(sections, problems, base_dir):
+    """The ``[campaign]`` TOA-reference keys taken together, before any stage reads them.
+
+    A JPL ephemeris must be a readable SPK file (resolved against ``base_dir``; the stored value becomes
+    its absolute path) and needs ``jplephem``; a site or barycentring position must go with the matching
+    ``toa_reference``; without a TOA table (whose metadata may supply them) the reference needs its keys.
+    """
+    c = sections.get("campaign")
+    if c is None:
+        return
+    eph = c.get("ephemeris")
+    if c.given("ephemeris") and eph is not None and eph.strip().lower() != "builtin":
+        where = "[campaign] ephemeris"
+        try:
+            path = _spk_file(eph, where, base_dir)
+        except InputError as exc:
+            problems.append(exc)
+        else:
+            sections["campaign"] = c = c.replace(ephemeris=str(path))
+    kind = (c.get("toa_reference") or "geocentre").strip().lower()
+    stated = c.given("toa_reference")
+    has_table = c.get("toas") is not None  # its metadata may carry the reference keys
+    for keys, needs in ((_SITE_KEYS, "site"), (_BARY_KEYS, "barycentre")):
+        given = [k for k in keys if c.given(k)]
+        if given and kind != needs and (stated or not has_table):
+            told = f"toa_reference = '{kind}'" if stated else "toa_reference (default 'geocentre')"
+            problems.append(InputError(f"[campaign] {given[0]}",
+                                       f"given with {told}: the {'site' if needs == 'site' else 'barycentring position'}"
+                                       f" is used only with toa_reference = '{needs}'; set it or remove "
+                                       f"{', '.join(given)}"))
+        missing = [k for k in keys if not c.given(k)]
+        if kind == needs and missing and not has_table:
+            more = f" (also missing: {', '.join(missing[1:])})" if len(missing) > 1 else ""
+            what = ("the telescope's geodetic longitude, latitude and height" if needs == "site" else
+                    "the position the times were barycentred for")
+            problems.append(InputError(f"[campaign] {missing[0]}",
+                                       f"required with toa_reference = '{needs}': {what}{more}"))
+
+
+def _spk_file(value, where, base_dir):
+    """The absolute path of a readable JPL SPK ephemeris file, or InputError naming ``where``."""
+    import importlib.util
+
+    from .paths import check_input_file
+
+    path = check_input_file(value.strip(), where, what="JPL ephemeris file ('builtin' or the path of a .bsp file)",
+                            base_dir=base_dir)
+    try:
+        with open(path, "rb") as fh:
+            head = fh.read(8)
+    except OSError as exc:
+        raise InputError(where, f"cannot read {path} ({exc.strerror or exc})") from None
+    if not head.startswith(_SPK_MAGIC):
+        raise InputError(where, f"{path} is not a JPL SPK ephemeris (a binary DAF file starting 'DAF/SPK'); "
+                                "expected 'builtin' or the path of a .bsp kernel")
+    if importlib.util.find_spec("jplephem") is None:
+        raise InputError(where, "reading a JPL ephemeris file needs the 'jplephem' package (pip install jplephem), "
+                                "or use 'builtin'")
+    return path

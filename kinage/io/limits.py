@@ -11,7 +11,8 @@ import os
 
 from ..errors import InputError
 
-__all__ = ["memory_limit_bytes", "trace_memory_bytes", "trace_seconds", "check_resources", "MAX_TRACE_MINUTES"]
+__all__ = ["memory_limit_bytes", "trace_memory_bytes", "trace_seconds", "check_resources", "check_samples",
+           "MAX_TRACE_MINUTES"]
 
 #: longest tracing run (estimated) a scenario may ask for
 MAX_TRACE_MINUTES = 60
@@ -54,7 +55,7 @@ def trace_seconds(orbits, time_steps, max_age_myr):
     return orbits * (_S_PER_ORBIT * max(1.0, time_steps / 401) + _S_PER_ORBIT_MYR * max_age_myr)
 
 
-def check_resources(scenario, samples=None, n_associations=None):
+def check_resources(scenario, samples=None, n_associations=None, samples_name="--samples"):
     """Raise InputError when the scenario would need more than the limits allow.
 
     Parameters
@@ -64,6 +65,8 @@ def check_resources(scenario, samples=None, n_associations=None):
         Command-line override of ``[trace] samples``.
     n_associations : int, optional
         Rows of the association table (default 30 when not yet read).
+    samples_name : str
+        How a message names ``samples`` (the option, or a front door's argument).
     """
     t = scenario.trace
     if t is None:
@@ -85,8 +88,30 @@ def check_resources(scenario, samples=None, n_associations=None):
     max_age = float(t.max_age.to_value("Myr"))
     minutes = trace_seconds(orbits, steps, max_age) / 60
     if minutes > MAX_TRACE_MINUTES:
-        key = "[trace] max_age" if max_age > 100 else ("--samples" if samples is not None else "[trace] samples")
+        key = "[trace] max_age" if max_age > 100 else (samples_name if samples is not None else "[trace] samples")
         raise InputError(key, f"{n:,} draws x (1 + {controls} control runs) + {n_assoc} x "
                               f"{a_samples:,} association draws = {orbits:,} orbits over {max_age:g} Myr "
                               f"on {steps:,} time steps would take about {minutes:.3g} minutes, above the "
                               f"limit of {MAX_TRACE_MINUTES} minutes per trace; lower max_age, samples or control_runs")
+
+
+def check_samples(samples, where="samples"):
+    """A draw count given to a front door (``samples=``): a whole number from 1 to the ``[trace] samples`` cap.
+
+    Returns it as an int (None stays None); raises InputError naming ``where`` for anything else
+    (2.5, "abc", 0, True, 1e9).
+    """
+    import numbers
+
+    if samples is None:
+        return None
+    from .schema import SCHEMA
+
+    key = SCHEMA["trace"]["samples"]
+    cap = int(key.upper or 10**6)
+    whole = isinstance(samples, numbers.Integral) or (isinstance(samples, numbers.Real) and float(samples).is_integer())
+    if isinstance(samples, bool) or not whole or not 1 <= samples <= cap:
+        from .quantities import shown
+
+        raise InputError(where, f"must be a whole number from 1 to {cap:,} ({key.reason}; got {shown(samples)})")
+    return int(samples)

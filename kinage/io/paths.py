@@ -26,7 +26,14 @@ def expand_path(path, where, base_dir=None):
     InputError
         For an unknown user (``~nosuchuser/x``), an empty or absurdly long path.
     """
-    text = os.fspath(path)
+    try:
+        text = os.fspath(path)
+    except TypeError:
+        from .quantities import shown
+
+        raise InputError(where, f"expected a file path (got {type(path).__name__} {shown(path)})") from None
+    if isinstance(text, bytes):
+        text = os.fsdecode(text)
     if not str(text).strip():
         raise InputError(where, "expected a path (got an empty string)")
     if len(str(text)) > _MAX_PATH or "\x00" in str(text):

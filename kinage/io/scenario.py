@@ -28,6 +28,7 @@ import astropy.units as u
 from ..errors import InputError, ScenarioError
 from .quantities import format_quantity, parse_quantity, parse_time, shown
 from .checks import MAX_VISITS, check_bounds as _check_bounds, physical_checks as _physical_checks
+from .checks import reference_checks as _reference_checks
 from .checks import short as _short, suggest as _suggest
 from .schema import SCHEMA, TOP_LEVEL_KEYS, Key
 
@@ -261,6 +262,8 @@ def scenario_from_dict(raw, base_dir=".", source=None, *, allow_missing=()):
         _cross_checks(sections, problems)
     if not problems:
         _physical_checks(sections, problems)
+    if not problems:
+        _reference_checks(sections, problems, base_dir)
     if problems:
         raise ScenarioError(problems, source=source)
     return Scenario(
@@ -497,6 +500,15 @@ def _resolve_distance(sections, problems):
                                    f"given together with 'parallax' ({format_quantity(star.distance)} and "
                                    f"{format_quantity(star.parallax)}{alone}); give one of them, or say which to "
                                    f"use with distance_from = 'parallax' or 'distance'"))
+        return
+    if choice is not None and not both:
+        choice = choice.lower()
+        if not star.given(choice):
+            other = "distance" if choice == "parallax" else "parallax"
+            has = f"only '{other}' is given" if star.given(other) else "neither is given"
+            problems.append(InputError("[star] distance_from",
+                                       f"says to use '{choice}', but {has}; distance_from chooses between a "
+                                       "parallax and a distance given together (remove it or give both)"))
         return
     if choice is not None and both:
         drop = "distance" if choice.lower() == "parallax" else "parallax"

@@ -169,7 +169,7 @@ _TRACE = [
     Key("age_tolerance", "quantity", "Myr", default=0.5, nonnegative=True, doc="an encounter may be this much older than the association's age"),
     Key("control_runs", "int", default=10, nonnegative=True, doc="randomised control runs (proper-motion direction rotated) for the chance rate"),
     Key("chunk_size", "int", default=20000, positive=True, doc="draws integrated at once (bounds memory)"),
-    Key("field_prior", "float", default=0.5, positive=True, upper=1.0,
+    Key("field_prior", "float", default=0.5, positive=True, upper=1.0, upper_open=True,
         doc="prior probability (0 < p < 1) that the star was born outside every listed association; default 0.5 "
             "because most massive stars form in associations but a candidate table lists only a few of them"),
     Key("neighbourhood_share", "float", default=0.4, nonnegative=True, upper=1.0, upper_open=True,
@@ -227,7 +227,9 @@ _RANGES = {
         "source_rate": dict(upper=1e7, reason="no detector counts 1e7 photons a second from one source"),
         "background_rate": dict(upper=1e7, reason="no detector counts 1e7 photons a second"),
         "pulsed_fraction": dict(reason="a pulsed fraction lies in (0, 1]"),
-        "toa_error": dict(upper=86400, reason="a TOA error longer than a day cannot time a pulse"),
+        "toa_error": dict(lower=1e-9, upper=86400,
+                          reason="no pulse arrival time is measured to better than ~10 ns (times are kept to "
+                                 "~1 ns), and a TOA error longer than a day cannot time a pulse"),
         "added_error": dict(upper=86400, reason="white noise longer than a day"),
         "error_scale": dict(upper=1e3, reason="a white-noise scale factor above 1000"),
         "red_noise_amplitude": dict(upper=1.0, reason="a red-noise amplitude above 1"),
@@ -236,18 +238,25 @@ _RANGES = {
                                                    "1000 visits: 1.5 minutes) and 200 frequencies resolve any campaign"),
         "target_significance": dict(upper=1000, reason="a significance above 1000 sigma"),
         "max_baseline": dict(upper=200, reason="a baseline search beyond two centuries"),
+        "barycentred_ra": dict(upper_open=True, reason="right ascension is an angle in [0, 360) deg"),
     },
     "trace": {
         "samples": dict(upper=1_000_000, reason="memory and run time grow with the draws (1e6 draws peak at "
                                                  "~1.2 GB and run for many minutes)"),
         "association_samples": dict(upper=100_000, reason="memory grows as associations x draws x time steps"),
         "max_age": dict(upper=13_800, reason=_GALAXY_AGE),
-        "time_steps": dict(upper=100_000, reason="memory grows as draws x time steps; 401 steps already converge"),
         "control_runs": dict(upper=1000, reason="run time grows with the control runs"),
         "chunk_size": dict(upper=1_000_000, reason="memory grows as chunk size x time steps"),
         "encounter_radius_factor": dict(upper=1000, reason="an encounter radius 1000 times the association's"),
         "age_tolerance": dict(upper=13_800, reason=_GALAXY_AGE),
         "distance_prior_scale": dict(upper=1e5, reason="a distance prior scale beyond 100 kpc"),
+        "time_steps": dict(upper=100_000, reason="at least 5 output times, so that a closest approach can fall between "
+                                                  "the ends of the grid; memory grows as draws x time steps (401 steps "
+                                                  "already converge)"),
+        "field_prior": dict(reason="a prior probability strictly between 0 and 1 (at 1 no listed association "
+                                   "could be the birthplace)"),
+        "neighbourhood_scale": dict(upper=1e4, reason="an association's surroundings are a star-forming complex "
+                                                      "(~50-500 pc); 10 kpc is the size of the Galactic disc"),
         "potential": dict(choices="param:potential"),
         "solar_parameters": dict(choices="param:solar_parameters"),
         "velocity_prior": dict(choices="param:velocity_prior"),
