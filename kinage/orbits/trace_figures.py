@@ -556,11 +556,33 @@ def _at_time(pos, times, t_myr):
     return a + w * (b - a)
 
 
+def _encounter_offsets(result, s, j, rows):
+    """Offsets (pc, heliocentric Galactic axes) of each encounter draw from its paired association draw at its
+    own closest approach; their lengths are the draws' d_min.  Empty without encounters."""
+    d = result.data
+    birth = d["main"].get("birth", {}).get(j)
+    if birth is None:
+        return np.empty((0, 3))
+    idx, pos = birth
+    enc = np.asarray(d["masks"][s["name"]], bool)[idx]
+    if not enc.any():
+        return np.empty((0, 3))
+    idx, pos = idx[enc], pos[enc]
+    frame, assoc, ct = d["frame"], d["assoc"], d["assoc"].times
+    tau = np.asarray(d["main"]["tau"][j], float)[idx]  # Myr ago
+    paired = rows[idx % d["adraws"].m]  # star draw i meets association draw i mod m
+    apos = np.array([_at_time(assoc.pos[r], ct, -t) for r, t in zip(paired, tau)])
+    return (_helio_galactic_pc(frame, frame.corotating(pos, -tau))
+            - _helio_galactic_pc(frame, frame.corotating(apos, -tau)))
+
+
 def plot_birth_xyz(result, name=None, fig=None):
     """Positions of star and association draws at the birth time, Galactic X-Y and X-Z.
 
     The time is the association's median encounter time (the kinematic age), or the median
-    closest-approach time when no draw met it; positions are interpolated to that time.  The view
+    closest-approach time when no draw met it; positions are interpolated to that time.  The
+    encounter draws are added as crosses, each at its own closest approach relative to its paired
+    association draw (placed about the association's centre): they fall inside the radius.  The view
     centres on the association, out to several times its radius and its draws' spread: star draws
     far away (a poorly known distance puts some kiloparsecs off) are counted, not drawn.
     """
@@ -582,6 +604,7 @@ def plot_birth_xyz(result, name=None, fig=None):
     col = FAVOURED_COLOR if s["name"] == result.favoured else PALETTE[1]
     r = s["radius_pc"] * result.settings["encounter_radius_factor"]
     c = apos.mean(axis=0)
+    enc_off = _encounter_offsets(result, s, j, rows)
     spread = np.percentile(np.abs(apos - c), 98, axis=0) if len(apos) else np.zeros(3)
     for ax, (a, b, la, lb) in zip(axes, ((0, 1, "X (pc, towards the Galactic centre)", "Y (pc, rotation)"),
                                          (0, 2, "X (pc, towards the Galactic centre)", "Z (pc, north)"))):
@@ -591,6 +614,9 @@ def plot_birth_xyz(result, name=None, fig=None):
         ax.scatter(spos[inside, a], spos[inside, b], s=3, color=STAR_COLOR, alpha=0.4, rasterized=True,
                    label="star draws" + (f" ({n_out} of {len(spos)} outside the view)" if n_out else ""))
         ax.scatter(apos[:, a], apos[:, b], s=3, color=col, alpha=0.6, label=f"{s['name']} draws")
+        if len(enc_off):
+            ax.scatter(c[a] + enc_off[:, a], c[b] + enc_off[:, b], s=7, marker="x", lw=0.6, color="k", zorder=4,
+                       label=f"encounters ({len(enc_off)}), each at its own closest approach")
         phi = np.linspace(0, 2 * np.pi, 100)
         ax.plot(c[a] + r * np.cos(phi), c[b] + r * np.sin(phi), color="k", lw=0.8, label="radius criterion")
         ax.set_xlim(c[a] - half, c[a] + half)
@@ -598,7 +624,7 @@ def plot_birth_xyz(result, name=None, fig=None):
         ax.set_aspect("equal", adjustable="box")
         ax.set_xlabel(la)
         ax.set_ylabel(lb)
-        ax.legend(loc="upper left", fontsize=6)
+        ax.legend(loc="best", fontsize=5.5)
     if enc:
         when = f"the kinematic age from {s['name']}" + ("" if s["name"] == result.favoured else " (not favoured)")
     else:

@@ -163,3 +163,20 @@ def test_caption_names_the_candidate_shown_when_none_is_favoured():
     assert "No association is favoured" in text and "Fenwold Test-A" in text and "not an established birth" in text
     assert "No association" not in _stage_caption("trace", "trace/trace_birth_xyz.png",
                                                   dict(data, favoured="Fenwold Test-A"))
+
+
+def test_encounter_crosses_sit_inside_the_radius(traces):
+    # an encounter is a draw whose closest approach to its association draw is below the radius criterion
+    # (the encounter definition of the trace); the crosses of the birth figure are those offsets, so their
+    # lengths are the draws' d_min (to the ~1% of a linear step between output times)
+    from kinage.orbits.trace_figures import _encounter_offsets
+
+    res = traces["born"]
+    s = res.best()
+    j = res.data["index"][s["name"]]
+    off = _encounter_offsets(res, s, j, res.data["adraws"].rows(j))
+    assert len(off) == s["n_encounters"] > 0
+    mask = np.asarray(res.data["masks"][s["name"]], bool)
+    dmin = np.sort(np.asarray(res.data["main"]["dmin"][j], float)[mask])
+    assert np.allclose(np.sort(np.linalg.norm(off, axis=1)), dmin, rtol=0.02, atol=0.05)
+    assert np.all(np.linalg.norm(off, axis=1) <= 1.02 * s["radius_pc"] * res.settings["encounter_radius_factor"])
