@@ -246,7 +246,7 @@ def _astrometry_rows(run):
             rows.append((f"{lab} proper motion, dec", nb.value_error(v[1], s[1], "mas/yr")))
     tr = run.stages.get("trace")
     if tr is not None:
-        rows.append(("astrometry the trace used", str(tr.settings.get("astrometry_source"))))
+        rows.append(("astrometry the trace used", nb.astrometry_source_words(tr.settings.get("astrometry_source"))))
     return rows
 
 

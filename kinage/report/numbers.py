@@ -18,7 +18,7 @@ results table):
 import math
 
 __all__ = ["stage_rows", "fmt", "fmt_interval", "value_error", "fmt_age", "fmt_age_interval", "fmt_duration_s",
-           "round_to_error", "fmt_power", "expected_parallax_mas", "LABELS"]
+           "round_to_error", "fmt_power", "expected_parallax_mas", "astrometry_source_words", "LABELS"]
 
 #: words for JSON keys that may reach a table
 LABELS = {
@@ -379,6 +379,15 @@ def plane_crossing_rows(d):
     return [("time since the last Galactic-plane crossing", text), ("draws that crossed", crossed)]
 
 
+_SOURCE_WORDS = {"timing": "timing fit", "scenario": "[star] values (imaging)", "forecast": "timing forecast"}
+
+
+def astrometry_source_words(source):
+    """'timing+scenario' -> 'timing fit combined with the [star] values (imaging)'."""
+    parts = [_SOURCE_WORDS.get(p.strip(), p.strip()) for p in str(source).split("+") if p.strip()]
+    return " combined with the ".join(parts) if parts else str(source)
+
+
 def _trace_settings(s):
     parts = []
     if s.get("max_age_yr"):
@@ -386,7 +395,7 @@ def _trace_settings(s):
     if s.get("potential"):
         parts.append(f"potential {s['potential']}")
     if s.get("astrometry_source"):
-        parts.append(f"astrometry from {s['astrometry_source']}")
+        parts.append(f"astrometry from the {astrometry_source_words(s['astrometry_source'])}")
     if s.get("distance_source"):
         parts.append(f"distance from the {s['distance_source']}")
     return ", ".join(parts) or "n/a"

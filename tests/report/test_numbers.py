@@ -121,3 +121,11 @@ def test_parallax_beyond_reach_is_said_in_words():
     # the parallax a scenario implies: its parallax, else 1000 / distance (pc)
     assert expected_parallax_mas({"distance": 650.0}) == pytest.approx(1.538, rel=1e-3)
     assert expected_parallax_mas({"parallax": 0.33, "distance": 900.0}) == 0.33
+
+
+def test_astrometry_source_in_words():
+    # the internal token 'timing+scenario' is no label for a reader
+    from kinage.report.numbers import astrometry_source_words
+
+    assert astrometry_source_words("timing+scenario") == "timing fit combined with the [star] values (imaging)"
+    assert astrometry_source_words("scenario") == "[star] values (imaging)"
