@@ -423,8 +423,9 @@ def plot_dmin_tau(result, name=None, ax=None):
     plain_log_ticks(ax.yaxis)
     ax.set_xlabel(r"time of closest approach $\tau$ (Myr ago)")
     ax.set_ylabel(r"closest approach $d_\mathrm{min}$ (pc)")
-    ax.set_title(_title(result, s), fontsize=7)
-    ax.legend(loc="lower right")
+    leg = ax.legend(loc="lower left", bbox_to_anchor=(0.0, 1.01), fontsize=6, ncols=2, title=_title(result, s),
+                    title_fontsize=6.5, alignment="left")  # above the axes: the draws fill every corner
+    leg.get_title().set_multialignment("left")
     return fig
 
 

@@ -87,7 +87,7 @@ def test_per_association_figures_say_when_none_is_favoured(traces):
 
     res = traces["field"]
     assert res.favoured is None
-    assert "none favoured" in plot_dmin_tau(res).axes[0].get_title()
+    assert "none favoured" in plot_dmin_tau(res).axes[0].get_legend().get_title().get_text()
     fig = plot_dmin_control(res)
     labels = _legend_labels(fig.axes[0])
     # no encounters: a common-origin curve fitted to draws that never came near would test nothing
