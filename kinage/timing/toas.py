@@ -25,8 +25,8 @@ The metadata may carry the TOA reference keys (``toa_reference``,
 is converted with the site's location (:func:`site_times`).
 
 Rows may come in any order (they are sorted by time); duplicate times, NaN, missing values,
-errors <= 0, MJDs outside 1965-2100 (MJD 39000-88069, the range of the
-built-in ephemeris) and frequencies that are not positive are rejected with
+errors below 1 ns, exposures that are not positive (NaN: unknown), MJDs outside 1965-2100 (MJD
+39000-88069, the range of the built-in ephemeris) and frequencies that are not positive are rejected with
 an :class:`~kinage.errors.InputError` naming the row (1-based, data rows)
 and the column.  A fit also needs more TOAs than parameters spread over more
 than a day (:func:`check_fit_table`).
@@ -47,6 +47,10 @@ __all__ = ["read_toas", "write_toas", "validate_toas", "toa_times", "check_fit_t
 
 #: plausible TOA dates: 1965 (before the first pulsar) to 2100 (end of the built-in ephemeris)
 MJD_RANGE = (39000.0, 88069.0)
+
+#: smallest TOA error accepted, s: below any measured arrival time (the best are ~10 ns; value from memory) and
+#: below the ~1 ns to which the times are kept
+MIN_ERROR_S = 1e-9
 
 #: lowest observing frequency accepted: the ionosphere reflects radio waves below its plasma frequency of a few
 #: MHz (value from memory), so no ground-based pulsar timing happens there; catches a column in GHz
@@ -84,8 +88,22 @@ def read_toas(path):
     except InputError:
         raise
     except Exception as exc:  # noqa: BLE001 - any parse failure is an input problem
+        if path.suffix.lower() == ".ecsv":
+            _locate_ecsv_problem(path, where)  # a row and column when the data lines show one
         raise InputError(where, f"could not read the TOA table ({exc})") from None
     return validate_toas(tab, where)
+
+
+def _locate_ecsv_problem(path, where):
+    """An ECSV table astropy cannot build (e.g. an 'mjd' Time column with 'nan', text or no rows): its data
+    lines read as plain text and validated, so that the InputError names the row and column; returns
+    quietly when they show nothing."""
+    try:
+        plain = Table.read(path, format="ascii.basic", guess=False)
+    except Exception:  # noqa: BLE001 - no better message to give
+        return
+    plain.meta = {}
+    validate_toas(plain, where)
 
 
 def validate_toas(tab, where="TOA table"):
@@ -107,8 +125,19 @@ def validate_toas(tab, where="TOA table"):
     out = Table()
     out["mjd"] = times
     out["error"] = err * u.s
+    small = np.flatnonzero(err < MIN_ERROR_S)
+    if small.size:
+        i = small[0]
+        raise InputError(f"{where} row {i + 1}, column 'error'",
+                         f"{err[i]:.3g} s is below {MIN_ERROR_S:g} s: no arrival time is measured to better than "
+                         "~10 ns (times are kept to ~1 ns); errors without a unit are in seconds")
     if "exposure" in tab.colnames:
-        out["exposure"] = _column_seconds(tab, "exposure", where, allow_nan=True) * u.s
+        exposure = _column_seconds(tab, "exposure", where, allow_nan=True)
+        bad = np.flatnonzero(np.isfinite(exposure) & ~(exposure > 0))
+        if bad.size:
+            raise InputError(f"{where} row {bad[0] + 1}, column 'exposure'",
+                             f"must be positive (got {exposure[bad[0]]!r} s; NaN means unknown)")
+        out["exposure"] = exposure * u.s
     for name in tab.colnames:
         if name not in out.colnames:
             out[name] = tab[name]
@@ -220,7 +249,11 @@ def _parse_times(col, scale, where):
                 raise InputError(f"{where} row {bad[0] + 1}, column 'mjd'", f"must be finite (got {x[bad[0]]!r})")
             if isinstance(col, u.Quantity) or getattr(col, "unit", None) not in (None, ""):
                 unit = u.Unit(col.unit)
-                x = (x * unit).to_value(u.d)
+                try:
+                    x = (x * unit).to_value(u.d)
+                except u.UnitConversionError:
+                    raise InputError(f"{where} column 'mjd'", f"expected MJD in days (a time unit or none; got "
+                                                              f"{unit.to_string()})") from None
             t = Time(x, format="mjd", scale=scale)
     mjd = t.to_value("mjd", "float")
     bad = np.flatnonzero(~np.isfinite(mjd))

@@ -205,6 +205,12 @@ def _error_unit(unit):
     return change
 
 
+def _mjd_in_degrees(tab):
+    mjd = np.asarray(tab["mjd"].mjd, float)
+    tab.remove_column("mjd")
+    tab.add_column(mjd * u.deg, name="mjd", index=0)
+
+
 def _dup(rows):
     rows[4][0] = rows[3][0]
 
@@ -215,7 +221,13 @@ _HEADER_ONLY = "\n".join(ln for ln in _demo_toas().splitlines() if ln.startswith
 @pytest.mark.parametrize("verb", ["fit", "run"])
 @pytest.mark.parametrize("name,content,names", [
     ("toas.ecsv", b"", ["toas.ecsv"]),                                  # an empty file
-    ("toas.ecsv", _HEADER_ONLY, ["toas.ecsv"]),                          # a header without rows
+    ("toas.ecsv", _HEADER_ONLY, ["toas.ecsv", "no rows"]),               # a header without rows
+    # an 'mjd' Time column astropy cannot build: the row and column were not named before
+    ("toas.ecsv", _toa_rows(_cell(2, 0, "nan")), ["row 3", "'mjd'"]),
+    ("toas.ecsv", _toa_rows(_cell(2, 0, "abc")), ["row 3", "'mjd'", "'abc'"]),
+    # ran to exit 0 before: a negative exposure; no TOA is measured to 1 fs (the best reach ~10 ns; memory)
+    ("toas.ecsv", _toa_rows(_cell(2, 2, "-40000")), ["row 3", "'exposure'"]),
+    ("toas.ecsv", _toa_rows(_cell(2, 1, "1e-15")), ["row 3", "'error'", "1e-09 s"]),
     ("toas.ecsv", _toa_table(lambda t: t.remove_column("error")), ["toas.ecsv", "'error'"]),
     ("toas.ecsv", _toa_table(lambda t: t.remove_column("mjd")), ["toas.ecsv", "'mjd'"]),
     ("toas.ecsv", _toa_rows(_cell(2, 1, "nan")), ["row 3", "'error'"]),
@@ -224,6 +236,7 @@ _HEADER_ONLY = "\n".join(ln for ln in _demo_toas().splitlines() if ln.startswith
     ("toas.ecsv", _toa_rows(_cell(2, 1, "-0.05")), ["row 3", "'error'"]),
     ("toas.ecsv", _toa_rows(_cell(2, 1, "abc")), ["'error'"]),
     ("toas.ecsv", _toa_table(_error_unit("deg")), ["'error'", "time unit"]),   # an angle is not a time
+    ("toas.ecsv", _toa_table(_mjd_in_degrees), ["'mjd'", "deg"]),      # an unexpected error (exit 1) before
     ("toas.ecsv", _toa_rows(_dup), ["row 5", "'mjd'", "duplicate"]),
     ("toas.ecsv", _demo_toas().replace("{time_scale: tdb}", "{time_scale: gps}"), ["time_scale"]),
     ("toas.csv", "mjd,error\n", ["toas.csv", "no rows"]),
