@@ -254,13 +254,26 @@ def test_bad_toa_table(tmp_path, capsys, verb, name, content, names):
     _bad(tmp_path, capsys, verb, raw, *names, files={name: content}, toas=name)
 
 
-def test_toa_errors_beyond_half_the_period(tmp_path, capsys):
-    # 0.05 yr = 1.6e6 s: a TOA error longer than half the spin period (4.793 s) fixes no pulse phase
+@pytest.mark.parametrize("verb", ["fit", "run"])
+def test_toa_errors_beyond_half_the_period(tmp_path, capsys, verb):
+    # 0.05 yr = 1.6e6 s: a TOA error longer than half the spin period (4.793 s) fixes no pulse phase; `run` used
+    # to find it in the fit stage, after the forecast had been written (exit 1)
     import tomllib
 
     star = tomllib.loads((DEMO / "scenario.toml").read_text())["star"]
     raw = scenario_dict(tables=("campaign",), star=star, campaign={"toas": "toas.ecsv"})
-    _bad(tmp_path, capsys, "fit", raw, "'error'", "spin period", files={"toas.ecsv": _toa_table(_error_unit("yr"))})
+    _bad(tmp_path, capsys, verb, raw, "'error'", "spin period", files={"toas.ecsv": _toa_table(_error_unit("yr"))})
+
+
+def test_run_with_toas_needs_the_spin_period_before_any_stage(tmp_path, capsys):
+    import tomllib
+
+    star = tomllib.loads((DEMO / "scenario.toml").read_text())["star"]
+    star.update(spin_period=None, spin_period_error=None)  # None: the key is left out
+    raw = scenario_dict(tables=("campaign",), star=star, campaign={"toas": "toas.ecsv", "toa_error": "0.05 s"})
+    for k in ("exposure", "source_rate", "background_rate", "pulsed_fraction"):
+        raw["campaign"].pop(k)
+    _bad(tmp_path, capsys, "run", raw, "[star] spin_period")
 
 
 @pytest.mark.parametrize("meta,changes,key", [
