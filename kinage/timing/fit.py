@@ -342,6 +342,27 @@ def _period_text(period):
     return f"{period * 1e3:.4g} ms" if period < 1.0 else f"{period:.4g} s"
 
 
+def _scatter_warning(chi2, dof):
+    """Words when chi-square is far from its expectation: the stated errors do not describe the scatter.
+
+    For a correct noise model chi-square has mean dof and standard deviation sqrt(2 dof) (any statistics
+    text); beyond 5 of those (and a factor 1.5) the sigmas are off by about sqrt(chi2 / dof).
+    """
+    if dof <= 0:
+        return ""
+    red = chi2 / dof
+    band = 5.0 * np.sqrt(2.0 / dof)
+    if red > max(1.0 + band, 1.5):
+        return (f"reduced chi-square {red:.3g}: the TOAs scatter more than their errors say, so the stated sigmas "
+                f"are too small by about a factor {np.sqrt(red):.2g}; describe the extra noise with [campaign] "
+                "error_scale, added_error or red noise")
+    if red < min(1.0 - band, 1 / 1.5):
+        return (f"reduced chi-square {red:.3g}: the TOAs scatter less than their errors say, so the stated sigmas "
+                f"are too large by about a factor {1 / np.sqrt(red):.2g}; check the unit of the error column "
+                "(without a unit it is in seconds)")
+    return ""
+
+
 def _diagnosis(history, resid, period):
     """Plain-words cause of a non-converged fit."""
     steps = np.array([h[1] for h in history])
@@ -375,6 +396,9 @@ def _result(model, grid, theta, pulses, noise, method, c, epoch, tab, history, c
     period = 1.0 / values[6]
     if np.max(np.abs(resid)) > 0.25 * period:
         warnings.append("residuals exceed a quarter of the spin period: the pulse numbering may be wrong")
+    scatter = _scatter_warning(chi2, grid.seconds.size - theta.size)
+    if scatter:
+        warnings.append(scatter)
     if not converged:
         warnings.append("not converged: " + (failure or _diagnosis(history, resid, period)))
     sig_toa = model.astro_partials(grid) @ values[:5]

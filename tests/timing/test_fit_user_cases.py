@@ -605,3 +605,21 @@ def test_bad_toa_tables_give_one_line(tmp_path, capsys, kind):
         assert w in err[0], (w, err[0])
     with pytest.raises(kinage.errors.InputError):  # the Python front door: an InputError, the same words
         kinage.fit(tmp_path / f"toas.{fmt}", {"star": st})
+
+
+def test_errors_that_do_not_describe_the_scatter_are_named():
+    # TOAs scattering 2x their stated errors: chi-square/dof ~ 4, far beyond its spread sqrt(2/dof) (any
+    # statistics text); the fit says the sigmas are too small and names the keys that model the extra noise.
+    # With error_scale = 2 the fit is calibrated again (truth within 4 sigma, no such warning)
+    st = start_star(SLOW, 40.0, -25.0, (1.5, -2.0))
+    sec = generate(SLOW, nominal(80, 6.0, 14), 60e-6, np.random.default_rng(114))
+    tab = toa_table(mjd_text(sec), 30e-6)
+    bad = kinage.fit(tab, {"star": st}).to_dict()
+    assert bad["chi2_reduced"] > 2.5
+    assert any("sigmas are too small" in w and "error_scale" in w for w in bad["warnings"])
+    good = kinage.fit(tab, {"star": st, "campaign": {"error_scale": 2.0}}).to_dict()
+    check_truth(good, SLOW, st)
+    assert not any("reduced chi-square" in w for w in good["warnings"])
+    # errors stated 20x too large (a unit slip the half-period check cannot see): named too
+    loose = kinage.fit(toa_table(mjd_text(sec), 1.2e-3), {"star": st}).to_dict()
+    assert any("sigmas are too large" in w and "unit" in w for w in loose["warnings"])
