@@ -126,7 +126,7 @@ def load_template(path):
     if not path.is_file():
         raise InputError("--scenario", f"template file not found: {path}")
     try:
-        raw = tomllib.loads(path.read_text(encoding="utf-8"))
+        raw = tomllib.loads(path.read_text(encoding="utf-8-sig"))  # a byte-order mark is dropped
     except (tomllib.TOMLDecodeError, UnicodeDecodeError) as exc:
         raise InputError(f"template {path.name}", f"not valid TOML ({exc})") from None
     return raw, path.parent.resolve()

@@ -202,7 +202,7 @@ def load_scenario(path, *, allow_missing=()):
     except OSError as exc:
         raise ScenarioError([InputError("scenario", f"cannot read {path} ({exc.strerror or exc})")]) from None
     try:
-        raw = tomllib.loads(data.decode("utf-8"))
+        raw = tomllib.loads(data.decode("utf-8-sig"))  # a byte-order mark (as some editors write) is dropped
     except UnicodeDecodeError:
         raise ScenarioError([InputError("scenario", "file is not UTF-8 text")], source=str(path)) from None
     except tomllib.TOMLDecodeError as exc:

@@ -560,3 +560,27 @@ def test_output_folder_of_a_copied_demo_is_refused_before_copying(tmp_path, caps
     status, _, err = run_cli(["demo", "--out", out, "--samples", 0], capsys)
     assert_one_line_error(status, err, "--samples")
     assert files_under(out) == before
+
+
+# --- valid but unusual files --------------------------------------------------------------------------------
+
+def test_scenario_with_a_byte_order_mark_is_read(tmp_path, capsys):
+    # editors on some systems start UTF-8 files with the mark EF BB BF (Unicode Standard, section 23.8)
+    path = write_case(tmp_path / "in", scenario_dict(tables=("ages",)))
+    bom = path.with_name("bom.toml")
+    bom.write_bytes(b"\xef\xbb\xbf" + path.read_bytes())
+    status, _, err = run_cli(["ages", bom, "--json", tmp_path / "a.json", "--quiet"], capsys)
+    assert status == 0, err
+    d = json.loads((tmp_path / "a.json").read_text())
+    import hashlib
+
+    assert hashlib.sha256(bom.read_bytes()).hexdigest() in json.dumps(d)  # provenance hashes the bytes as given
+
+
+def test_batch_template_with_a_byte_order_mark_is_read(tmp_path):
+    from kinage.batch.stars import load_template
+
+    path = write_case(tmp_path, scenario_dict(tables=("trace",)))
+    path.write_bytes(b"\xef\xbb\xbf" + path.read_bytes())
+    raw, folder = load_template(path)
+    assert raw["trace"]["samples"] == 60 and folder == tmp_path.resolve()
