@@ -24,8 +24,9 @@ X-ray TOAs are barycentred here as an X-ray observer's tool does it for a fixed 
 planar Roemer delay r.s/c added and the solar Shapiro delay removed, no parallax term.
 
 Every star, site and number below is invented.  Checks: the fit recovers the truth (position, proper
-motion, parallax) within 3 to 4 of its stated sigmas, the sigmas are right (pulls over seeds), the documented
-JSON keys are there, bad tables give one line and exit status 2.
+motion, parallax) within 4 of its stated sigmas (5 parameters per fit: a false alarm once in ~3,000 fits),
+the sigmas are right (pulls over seeds, amplitudes of the delays), the interface JSON keys are there, bad
+tables give one line and exit status 2.
 """
 
 import json
@@ -195,14 +196,12 @@ def nominal(n, years, seed):
 
 
 # --- scenario and fit helpers -------------------------------------------------------------------------------
-def start_star(star, dra_mas=0.0, ddec_mas=0.0, dpm=(0.0, 0.0), parallax=None):
+def start_star(star, dra_mas=0.0, ddec_mas=0.0, dpm=(0.0, 0.0)):
     """[star] table of a practitioner's starting values: position offset from the truth, rough motion."""
     d = {"name": star.name, "ra": star.ra + dra_mas / 3.6e6 / math.cos(math.radians(star.dec)),
          "dec": star.dec + ddec_mas / 3.6e6, "spin_period": float(star.period),
          "spin_period_derivative": float(star.period_dot), "epoch": float(EPOCH_MJD),
          "pm_ra_cosdec": star.pm_ra_cosdec + dpm[0], "pm_dec": star.pm_dec + dpm[1]}
-    if parallax is not None:
-        d["parallax"] = parallax
     if star.dm:
         d["dispersion_measure"] = star.dm * 1.001
     return d
@@ -230,7 +229,7 @@ def toa_table(mjd, sigma_s, meta=None, freq_mhz=None):
     return tab
 
 
-def fit_cli(tmp_path, star_table, tab, campaign=None, fmt="ecsv", capsys=None):
+def fit_cli(tmp_path, star_table, tab, campaign=None, fmt="ecsv"):
     """Write the TOAs and scenario, run `kinage fit` and return (exit status, JSON)."""
     toas = tmp_path / f"toas.{fmt}"
     tab.write(toas, format="ascii.ecsv" if fmt == "ecsv" else "ascii.csv", overwrite=True)
@@ -291,7 +290,8 @@ NEAR_POLE = Star("Vessil-8", 269.6, 66.9, 22.5, 31.0, 2.2, "0.41730266518", "3.3
 FAST = Star("Quorra-5", 312.8, 17.6, 151.0, -132.0, 3.1, "0.5172839468", "2.2e-15")  # 200.5 mas/yr
 DISPERSED = replace(MSP, name="Pellow-3", ra=64.9, dec=8.7, dm=27.41)
 
-#: documented fit JSON keys (/work/shared/DESIGN.md "Fit JSON"; toa_reference and provenance from README/DEVELOPERS)
+#: fit JSON keys that are interfaces (the list of interfaces names the first eight; toa_reference is the fit's
+#: [campaign] key; README: every results JSON carries provenance)
 FIT_KEYS = ("values", "sigma", "ra_deg", "dec_deg", "chi2_reduced", "n_toas", "converged", "iterations",
             "toa_reference", "provenance")
 VALUE_KEYS = ("ra_mas", "dec_mas", "pm_ra_cosdec_masyr", "pm_dec_masyr", "parallax_mas")
@@ -380,6 +380,7 @@ def _ecliptic_axes(star):
 def test_star_near_the_ecliptic_with_toas_near_the_sun(tmp_path):
     # 4.8 ms pulsar 0.1 deg from the ecliptic; radio TOAs taken through solar conjunction (each July), where
     # the solar Shapiro delay reaches tens of us (Lorimer & Kramer 2005, ch. 8)
+    # the Sun passes ecliptic longitude 119.5 deg around 22 July: 209 d after 25 December
     conj = np.array([EPOCH_MJD - 3 * 365.25 + 209 + 365.25 * k + dd for k in range(7) for dd in (-6, -2, 2, 6)])
     mjd = np.sort(np.concatenate([nominal(120, 6.5, 4), conj[(conj > EPOCH_MJD - 1187) & (conj < EPOCH_MJD + 1187)]]))
     sec = generate(NEAR_ECLIPTIC, mjd, 1e-6, np.random.default_rng(104), site=SITE)
@@ -502,7 +503,6 @@ def test_high_proper_motion_with_the_default_epoch(tmp_path):
     dt = Fraction(mid - EPOCH_MJD) * 86400
     f, fdot = _spin(FAST)
     f_mid = f + fdot * dt
-    years = float(dt) / JULIAN_YEAR_S
     # the truth at the fit's epoch (its direction from the straight-line position)
     p = _star_position(FAST, [float(dt)])[0]
     ra_mid = math.degrees(math.atan2(p[1], p[0])) % 360
@@ -515,8 +515,6 @@ def test_high_proper_motion_with_the_default_epoch(tmp_path):
     status, d = fit_cli(tmp_path, st, toa_table(mjd_text(sec), 30e-6))
     assert status == 0 and d["epoch_mjd_tdb"] == mid
     check_truth(d, truth, st)
-    assert abs(years) < 0.1  # the middle is near the epoch the TOAs were centred on; the position moved anyway
-    assert math.hypot(d["values"]["pm_ra_cosdec_masyr"], d["values"]["pm_dec_masyr"]) > 190
 
 
 def test_spin_period_at_another_epoch_is_a_cycle_count_failure(tmp_path, capsys):
