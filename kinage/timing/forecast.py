@@ -163,9 +163,12 @@ def forecast(scenario, *, progress=False, method="woodbury"):
         scenario, ra, dec, max_b, motion.direction)
     warnings += plan.notes
     if plan.n_visits <= model.n_parameters:
-        raise InputError("[campaign] baseline",
-                         f"the plan has only {plan.n_visits} visits but the timing model has {model.n_parameters} "
-                         "parameters (5 astrometric + spin): lengthen the baseline or add visits")
+        # name the key that set the plan: explicit dates, the TOA table, or the regular cadence
+        key, fix = (("[campaign] dates", "give more dates") if c.get("dates") is not None else
+                    ("[campaign] toas", "the table needs more TOAs") if plan.schedule == "dates" else
+                    ("[campaign] baseline", "lengthen the baseline or add visits"))
+        raise InputError(key, f"the plan has only {plan.n_visits} visits but the timing model has "
+                              f"{model.n_parameters} parameters (5 astrometric + phase + spin): {fix}")
     epoch = star.get("epoch") or _midpoint(plan.mjd)
     if table_errors is not None and c.get("toa_error") is None:
         errors, photon = table_errors, None

@@ -584,3 +584,11 @@ def test_batch_template_with_a_byte_order_mark_is_read(tmp_path):
     path.write_bytes(b"\xef\xbb\xbf" + path.read_bytes())
     raw, folder = load_template(path)
     assert raw["trace"]["samples"] == 60 and folder == tmp_path.resolve()
+
+
+def test_too_few_dates_names_the_dates(tmp_path, capsys):
+    # 3 visits cannot fix 5 astrometric + phase + 2 spin parameters (a count); the message named 'baseline'
+    raw = scenario_dict(campaign={"start": None, "baseline": None, "visits_per_year": None,
+                                  "dates": ["2027-03-01", "2027-09-01", "2028-03-01"]})
+    line = _bad(tmp_path, capsys, "forecast", raw, "[campaign] dates", "8 parameters")
+    assert "baseline" not in line
