@@ -99,7 +99,8 @@ def format_interval(value, lo=None, hi=None, unit="", *, unbounded_above=False, 
     if unbounded_above and lo_t is not None:
         rng = f"above {lo_t}{u}"
     elif lo_t is not None and hi_t is not None and not lo_t == v == hi_t:
-        rng = f"{lo_t}-{hi_t}{u}"
+        # a range through or below zero reads 'from -250 to 290', never '-250-290'
+        rng = f"{lo_t} to {hi_t}{u}" if lo_t.startswith("-") or hi_t.startswith("-") else f"{lo_t}-{hi_t}{u}"
     else:
         return v + u
     return f"{v}{u}, 68%: {rng}" if inner else f"{v}{u} (68%: {rng})"

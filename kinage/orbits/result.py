@@ -225,16 +225,20 @@ class TraceResult(ResultDisplay):
         """A few plain sentences for the report's top summary, in probabilities."""
         text = self.verdict
         rv, dist = self._favoured_implies()
+        from ..ages.verdicts import format_age_interval, format_interval
+
         if rv is not None and rv["median"] is not None and dist["median"] is not None:
-            text += (f" Birth there implies a radial velocity of {_num(rv['median'])} km/s (68%: "
-                     f"{_num(rv['lo68'])} to {_num(rv['hi68'])} km/s) and a present distance of "
-                     f"{_num(dist['median'])} pc (68%: {_num(dist['lo68'])}-{_num(dist['hi68'])} pc).")
+            text += (f" Birth there implies a radial velocity of "
+                     f"{format_interval(rv['median'], rv['lo68'], rv['hi68'], 'km/s')} and a present distance of "
+                     f"{format_interval(dist['median'], dist['lo68'], dist['hi68'], 'pc')}.")
         pc = interval(self.plane_crossing_age_samples())
         if pc["median"] is not None:
             frac = pc["n"] / self.n_samples
+            when = (format_age_interval(pc) if pc["n"] >= 20 else
+                    f"{format_age_interval(pc, bare=True)} (from {pc['n']} draw{'s' if pc['n'] > 1 else ''}, too few "
+                    "for an interval)")
             text += (f" {_share(frac)} of the draws crossed the Galactic mid-plane within the "
-                     f"{self.settings['max_age_yr'] / 1e6:.3g} Myr searched, last {pc['median'] / 1e6:.2f} Myr ago "
-                     f"(68%: {pc['lo68'] / 1e6:.2f}-{pc['hi68'] / 1e6:.2f} Myr).")
+                     f"{self.settings['max_age_yr'] / 1e6:.3g} Myr searched, last {when} ago.")
         else:
             text += " No draw crossed the Galactic mid-plane within the integration window."
         for c in self.plane_crossing_caveats():
@@ -259,11 +263,6 @@ def _share(f):
     if 99 < pc < 100:
         return f"{np.floor(pc * 10) / 10:.1f}%"
     return f"{pc:.0f}%"
-
-
-def _num(x):
-    """A velocity or distance rounded to the nearest unit (two significant figures below 10)."""
-    return f"{x:.0f}" if abs(x) >= 10 else f"{x:.2g}"
 
 
 def _assumptions(cfg, draws):

@@ -203,12 +203,12 @@ def rank_associations(summaries, field_prior=DEFAULT_FIELD_PRIOR, neighbourhood_
 
 
 def _age_text(iv):
-    m, lo, hi = iv["median"], iv["lo68"], iv["hi68"]
-    if m is None:
+    """An age interval (yr) rounded to its 68% interval, as the ages stage quotes it."""
+    from ..ages.verdicts import format_age_interval
+
+    if iv.get("median") is None:
         return "no age"
-    if hi < 1e6:
-        return f"{m / 1e3:.0f} kyr (68%: {lo / 1e3:.0f}-{hi / 1e3:.0f} kyr)"
-    return f"{m / 1e6:.2f} Myr (68%: {lo / 1e6:.2f}-{hi / 1e6:.2f} Myr)"
+    return format_age_interval(iv)
 
 
 def _prob_text(p, err):
