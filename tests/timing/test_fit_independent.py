@@ -44,7 +44,7 @@ PERIOD = 0.00431  # s (invented)
 SPIN_FREQ = Decimal(1) / Decimal("0.00431")
 SPIN_FREQ_DOT = Decimal("-2.1e-15")
 EPOCH = Time(61400.0, format="mjd", scale="tdb")
-SITE = dict(lon=-107.62, lat=34.08, height=2124.0)  # invented telescope site
+SITE = dict(lon=-61.34, lat=-27.91, height=150.0)  # invented telescope site (open plain, no observatory)
 
 
 @pytest.fixture(autouse=True)
