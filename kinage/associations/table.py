@@ -47,8 +47,10 @@ _RANGES = {
     "ra": (0.0, 360.0, False, True, "right ascension is an angle in [0, 360) deg"),
     "dec": (-90.0, 90.0, False, False, "declination is an angle in [-90, 90] deg"),
     "distance": (1.0, 1e5, False, False, "a Galactic association lies between 1 pc and 100 kpc"),
-    "age": (0.0, 13_800.0, True, False, "no association is older than the Galaxy (13.8 Gyr)"),
-    "radius": (0.0, 1e4, True, False, "an association is smaller than 10 kpc"),
+    # the lower ends catch a unit slip (a radius of 18 km, an age of 11 yr), not a physical limit
+    "age": (0.01, 13_800.0, False, False, "no association is younger than ~10 kyr or older than the Galaxy "
+            "(13.8 Gyr)"),
+    "radius": (0.01, 1e4, False, False, "an association is larger than 0.01 pc (2000 au) and smaller than 10 kpc"),
     "pm_ra_cosdec": (-1e5, 1e5, False, False, "no star moves 100 arcsec/yr across the sky"),
     "pm_dec": (-1e5, 1e5, False, False, "no star moves 100 arcsec/yr across the sky"),
     "radial_velocity": (-5000.0, 5000.0, False, False, "no association moves faster than ~1000 km/s"),

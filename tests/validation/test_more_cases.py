@@ -467,6 +467,9 @@ def test_trace_run_time_estimate_names_the_argument(tmp_path):
     lambda q: q.__setitem__("radius", q["radius"].value * u.km / u.s),   # a speed is not a size
     lambda q: q.__setitem__("age", q["age"].value * u.pc),
     lambda q: q.__setitem__("distance", q["distance"].value * u.kpc),    # values in pc labelled kpc: 560 kpc
+    # the right dimension, the wrong unit: radii of ~20 km and ages of ~10 yr ran to exit 0 (no encounters)
+    lambda q: q.__setitem__("radius", q["radius"].value * u.km),
+    lambda q: q.__setitem__("age", q["age"].value * u.yr),
 ])
 def test_trace_with_a_qtable_in_wrong_units(scenario, make):
     import kinage
