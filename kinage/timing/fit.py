@@ -157,10 +157,19 @@ class FitResult(ResultDisplay):
                     f"the proper motion ({plx}): its errors exceed 1 arcsec/yr, where the linearised timing model "
                     f"has no meaning, so imaging astrometry is needed for the motion (reduced chi-square "
                     f"{self.chi2_reduced:.2f}{'' if self.converged else ', NOT converged'}).")
+        from ..report.numbers import round_to_error
+
+        def pm(key):  # value and error rounded to the error (Particle Data Group rule)
+            value, error = round_to_error(v[key], s[key])
+            return f"{value} +/- {error}" if error is not None else value
+
+        plx = v["parallax_mas"], s["parallax_mas"]
+        if abs(plx[0]) < 2.0 * plx[1]:
+            plx_text = f"a parallax not distinguished from zero ({pm('parallax_mas')} mas)"
+        else:
+            plx_text = f"a parallax of {pm('parallax_mas')} mas"
         text = (f"The timing fit of {self.n_toas} TOAs (at the {self.reference.kind}){pri} gives a proper motion of "
-                f"{v['pm_ra_cosdec_masyr']:.3g} +/- {s['pm_ra_cosdec_masyr']:.2g} (ra*cos dec) and "
-                f"{v['pm_dec_masyr']:.3g} +/- {s['pm_dec_masyr']:.2g} (dec) mas/yr and a parallax of "
-                f"{v['parallax_mas']:.3g} +/- {s['parallax_mas']:.2g} mas "
+                f"{pm('pm_ra_cosdec_masyr')} (ra*cos dec) and {pm('pm_dec_masyr')} (dec) mas/yr and {plx_text} "
                 f"(reduced chi-square {self.chi2_reduced:.2f}"
                 f"{'' if self.converged else ', NOT converged'}).")
         return text

@@ -26,6 +26,13 @@ POSITION_LIMIT_MAS = 1000.0
 PRACTICAL_EXPOSURE_S = 1.0e6
 
 
+def _sigma_text(x):
+    """A significance with two significant figures, written out ('2,900', not '2.9e+03')."""
+    if not np.isfinite(x):
+        return "n/a"
+    return f"{float(f'{x:.2g}'):,.0f}" if abs(x) >= 100 else f"{x:.2g}"
+
+
 def constrained(sigma, pm_error_along_motion):
     """Which quantities the forecast errors can meaningfully describe.
 
@@ -139,8 +146,8 @@ def _significance(r):
         return " The expected proper motion is unknown (no distance), so no significance is given."
     reached = r.pm_significance >= r.target_significance
     s = (f" The expected motion of {_num(r.motion.pm_masyr)} mas/yr would be detected at "
-         f"{r.pm_significance:.2g} sigma (target {r.target_significance:g} sigma reached)." if reached else
-         f" The expected motion of {_num(r.motion.pm_masyr)} mas/yr would reach only {r.pm_significance:.2g} sigma")
+         f"{_sigma_text(r.pm_significance)} sigma (target {r.target_significance:g} sigma reached)." if reached else
+         f" The expected motion of {_num(r.motion.pm_masyr)} mas/yr would reach only {_sigma_text(r.pm_significance)} sigma")
     if reached:
         return s
     if r.baseline_needed_yr is None:
