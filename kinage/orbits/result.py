@@ -159,9 +159,11 @@ class TraceResult(ResultDisplay):
         if best is not None and pc.size and best["age_yr"]["median"] is not None:
             kin = best["age_yr"]
             if np.median(pc) > kin["hi68"]:
-                out.append(f"The plane-crossing age ({np.median(pc) / 1e6:.2f} Myr) is older than the kinematic "
-                           f"age from {best['name']} ({kin['median'] / 1e6:.2f} Myr): the star was born away from "
-                           "the mid-plane, so the crossing does not date its birth.")
+                from ..ages.verdicts import format_age_interval
+
+                out.append(f"The plane-crossing age ({format_age_interval(interval(pc), bare=True)}) is older than "
+                           f"the kinematic age from {best['name']} ({format_age_interval(kin, bare=True)}): the star "
+                           "was born away from the mid-plane, so the crossing does not date its birth.")
         return out
 
     def _favoured_implies(self):
