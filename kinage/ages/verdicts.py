@@ -16,6 +16,8 @@ import math
 
 import numpy as np
 
+from .._rounding import pdg_decimals
+
 __all__ = ["format_age", "format_interval", "format_age_interval", "format_factor", "log_sigma",
            "compare_intervals", "pair_verdict", "age_verdicts", "cooling_explanations", "cooling_caveat"]
 
@@ -34,19 +36,6 @@ def _age_unit(yr):
         if yr >= scale:
             return scale, unit
     return 1.0, "yr"
-
-
-def _pdg_decimals(width):
-    """Decimals that show an error ``width`` by the Particle Data Group rule (may be negative).
-
-    The three leading digits of the error decide: 100-354 keep two significant
-    figures, 355-949 one, 950-999 round up to 1000 and keep two (Particle Data
-    Group, Review of Particle Physics, Introduction: rounding).
-    """
-    exp = int(math.floor(math.log10(width)))
-    lead = int(width / 10.0 ** (exp - 2))
-    # 950-999 become 1000 with two figures: the same decimals as one figure of the unrounded error
-    return 1 - exp if lead < 355 else -exp
 
 
 def _digits(x, d):
@@ -90,7 +79,7 @@ def format_interval(value, lo=None, hi=None, unit="", *, unbounded_above=False, 
     widths = [w for w in ((value - lo) if lo is not None else None, (hi - value) if hi is not None else None)
               if w is not None and np.isfinite(w) and w > 0]
     if widths:
-        d = min(d, _pdg_decimals(min(widths)))
+        d = min(d, pdg_decimals(min(widths)))
     v = _digits(value, d)
     if bare:
         return v + u

@@ -4,9 +4,9 @@ Values are read from the stage's JSON dictionary, so every number in the
 report is the one stored in ``results.json``.  Rules (the usual ones of a
 results table):
 
-* a value with an error is rounded to the error's precision, the error to
-  two significant figures (one when it starts with 3 or more is also common;
-  two is kept everywhere for simplicity);
+* a value with an error is rounded to the error's precision, the error by the
+  Particle Data Group rule (two significant figures when its leading digits
+  are 100-354, one for 355-949, 950-999 rounded up to two; ``kinage._rounding``);
 * units in the usual notation (mas/yr, µs, kyr, Myr) in the label or after
   the number; ages and times choose yr/kyr/Myr from their size;
 * inputs are echoed in the unit the scenario gave (``74 eV`` stays eV);
@@ -16,6 +16,8 @@ results table):
 """
 
 import math
+
+from .._rounding import pdg_decimals
 
 __all__ = ["stage_rows", "fmt", "fmt_interval", "value_error", "fmt_age", "fmt_age_interval", "fmt_duration_s",
            "round_to_error", "fmt_power", "expected_parallax_mas", "astrometry_source_words", "LABELS"]
@@ -48,23 +50,7 @@ def _sig_round(x, sig=2):
     return round(x, sig - 1 - int(math.floor(math.log10(abs(x)))))
 
 
-def _decimals_for(err, sig=None):
-    """Decimals that show ``err`` rounded by the Particle Data Group rule (may be negative).
-
-    The three leading digits of the error decide: 100-354 keep two significant
-    figures, 355-949 one, 950-999 round up to 1000 and keep two (Particle Data
-    Group, Review of Particle Physics, Introduction: rounding).  ``sig`` forces
-    a number of significant figures instead.
-    """
-    exp = int(math.floor(math.log10(abs(err))))
-    if sig is not None:
-        return sig - 1 - exp
-    lead = int(abs(err) / 10.0 ** (exp - 2))
-    if lead < 355:
-        return 1 - exp
-    if lead < 950:
-        return -exp
-    return 1 - (exp + 1)
+_decimals_for = pdg_decimals  # one rounding rule for every printed number (kinage._rounding)
 
 
 _SUPERSCRIPT = str.maketrans("-0123456789", "⁻⁰¹²³⁴⁵⁶⁷⁸⁹")
