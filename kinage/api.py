@@ -287,8 +287,21 @@ def _warn(result, category, raised=(), stacklevel=5):
     return result
 
 
+def _check_rng(rng):
+    """``rng`` as the stages take it, or an InputError naming it (before any work)."""
+    import numpy as np
+
+    if rng is None or isinstance(rng, (np.random.Generator, np.random.SeedSequence, np.random.BitGenerator)):
+        return rng
+    if isinstance(rng, (int, np.integer)) and not isinstance(rng, bool) and rng >= 0:
+        return rng
+    raise InputError("rng", f"expected a non-negative integer seed, a numpy.random.Generator or None (got {rng!r})")
+
+
 def _stage(func, category, *args, **kwargs):
     """Run a stage; warnings kinage's own modules raise come out as ``category`` (a KinageWarning)."""
+    if "rng" in kwargs:
+        _check_rng(kwargs["rng"])
     result, raised = _catching(func, category, *args, **kwargs)
     return _warn(result, category, raised)
 

@@ -147,6 +147,8 @@ def forecast(scenario, *, progress=False, method="woodbury"):
     -------
     ForecastResult
     """
+    if method not in ("woodbury", "dense"):
+        raise InputError("method", f"expected 'woodbury' or 'dense' (got {method!r})")
     c = scenario.campaign
     if c is None:
         raise InputError("[campaign]", "required for a forecast")

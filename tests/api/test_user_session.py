@@ -115,6 +115,14 @@ def test_front_doors_name_the_argument_for_wrong_objects():
         kinage.fit(5, {"star": _star()})
     with pytest.raises(kinage.InputError, match="trace: expected the TraceResult"):
         kinage.compare_ages({"star": _star()}, trace=3)
+    # numpy.random.default_rng takes None, a non-negative int, a SeedSequence, a BitGenerator or a Generator
+    # (numpy documentation); anything else is named before any work
+    for bad in ("abc", -1, 2.5, True):
+        with pytest.raises(kinage.InputError, match="rng: expected a non-negative integer seed"):
+            kinage.compare_ages({"star": _star()}, rng=bad)
+    with pytest.raises(kinage.InputError, match="method: expected 'woodbury' or 'dense'"):
+        kinage.forecast({"star": _star(), "campaign": {"start": "2029-01-01", "baseline": "3 yr",
+                                                       "visits_per_year": 4, "toa_error": "1 ms"}}, method="bogus")
 
 
 # ------------------------------------------------------------------ results
