@@ -233,6 +233,8 @@ def cmd_demo(args):
     from .demo import copy_case, get_case, list_lines
 
     if getattr(args, "list", False):
+        if getattr(args, "case", None) is not None:
+            get_case(args.case)  # a misspelt --case is named even with --list
         for line in list_lines():
             print(line)
         return 0
