@@ -8,6 +8,7 @@ half-written result behind.
 
 import contextlib
 import datetime
+import hashlib
 import json
 import math
 import os
@@ -19,6 +20,9 @@ from pathlib import Path
 import numpy as np
 
 from .._version import __version__
+
+#: in-memory input tables up to this many rows are recorded in full in the provenance
+MAX_RECORDED_ROWS = 1000
 
 __all__ = ["atomic_write", "atomic_path", "write_json", "provenance", "to_jsonable", "interval", "versions",
            "command_line", "VERSIONED"]
@@ -169,7 +173,10 @@ def provenance(*, scenario=None, seed=None, parameter_sets=(), input_files=(), c
         ``sys.argv``, shell-quoted) and ``argv`` (as a list), ``seed``,
         ``created_utc``, ``python``, ``versions`` (:func:`versions`) and
         ``numpy_version``, ``astropy_version``, ``galpy_version``,
-        ``scipy_version``, ``parameter_sets``, ``input_sha256``.
+        ``scipy_version``, ``parameter_sets``, ``input_sha256`` and ``input_tables``
+        (tables given in memory: their SHA-256 over canonical JSON, row count and,
+        up to :data:`MAX_RECORDED_ROWS` rows, the rows themselves, so a notebook run
+        can be reproduced from its outputs).
     """
     from .scenario import file_sha256
 
@@ -179,6 +186,14 @@ def provenance(*, scenario=None, seed=None, parameter_sets=(), input_files=(), c
     for f in files:
         if f is not None and Path(f).is_file():
             hashes[str(f)] = file_sha256(f)
+    tables = {}
+    if scenario is not None and hasattr(scenario, "input_tables"):
+        for where, obj in scenario.input_tables().items():
+            content = to_jsonable(obj.to_dict())
+            text = json.dumps(content, sort_keys=True, separators=(",", ":"))
+            rows = len(obj) if hasattr(obj, "__len__") else None
+            tables[where] = {"sha256": hashlib.sha256(text.encode()).hexdigest(), "rows": rows,
+                             "content": content if rows is not None and rows <= MAX_RECORDED_ROWS else None}
     vers = versions()
     seen = {}
     for p in parameter_sets:
@@ -196,6 +211,7 @@ def provenance(*, scenario=None, seed=None, parameter_sets=(), input_files=(), c
         **{f"{name}_version": vers[name] for name in ("numpy", "astropy", "galpy", "scipy")},
         "parameter_sets": list(seen.values()),
         "input_sha256": hashes,
+        "input_tables": tables,
     }
 
 

@@ -157,6 +157,22 @@ class Scenario:
                 files.append(s.get(key))
         return files
 
+    def input_tables(self):
+        """Tables given in memory rather than as files (e.g. an association QTable from a notebook).
+
+        Returns
+        -------
+        dict
+            ``"[table] key"`` -> the object (it has ``to_dict()``), for provenance.
+        """
+        out = {}
+        for sec, key in (("trace", "associations"),):
+            s = getattr(self, sec)
+            value = s.get(key) if s is not None else None
+            if value is not None and not isinstance(value, (str, Path)) and hasattr(value, "to_dict"):
+                out[f"[{sec}] {key}"] = value
+        return out
+
     def replace(self, **changes):
         """A copy with some sections replaced."""
         from dataclasses import replace

@@ -276,6 +276,8 @@ def provenance_rows(run):
     rows = [("command line", prov["command"]), ("seed", str(prov["seed"])), ("created (UTC)", prov["created_utc"]),
             ("software", ", ".join(versions))]
     hashes = [(str(Path(f).name), h) for f, h in prov["input_sha256"].items()]
+    hashes += [(f"{where} (in memory, {t.get('rows')} rows; recorded in results.json)", t["sha256"])
+               for where, t in (prov.get("input_tables") or {}).items()]
     return rows, prov["parameter_sets"], hashes
 
 

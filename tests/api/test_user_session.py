@@ -283,3 +283,21 @@ def test_warnings_point_at_the_notebook_line():
     ours = [w for w in caught if issubclass(w.category, kinage.KinageWarning)]
     assert {w.category.__name__ for w in ours} == {"TraceWarning", "AgesWarning"}
     assert all(w.filename == __file__ for w in ours), [(w.filename, w.lineno) for w in ours]
+
+
+def test_run_with_an_in_memory_table_records_it(tmp_path):
+    # a notebook run must be reproducible from its outputs: the table's rows and a SHA-256 (hashlib, over
+    # canonical JSON) are stored in the provenance; common practice, no source
+    import hashlib
+
+    scn = kinage.scenario_from_dict({"star": _star(), "trace": {**SMALL_TRACE, "associations": _associations()}})
+    kinage.run(scn, tmp_path / "out")
+    prov = json.loads((tmp_path / "out" / "results.json").read_text())["provenance"]
+    rec = prov["input_tables"]["[trace] associations"]
+    assert rec["rows"] == 3
+    names = [a["name"] for a in rec["content"]["associations"]]
+    assert names == ["Brenmark OB3", "Ythel Group", "Sorrow Drift"]
+    assert rec["content"]["associations"][0]["distance"] == pytest.approx(450.0)  # 0.45 kpc in pc
+    text = json.dumps(rec["content"], sort_keys=True, separators=(",", ":"))
+    assert rec["sha256"] == hashlib.sha256(text.encode()).hexdigest()
+    assert rec["sha256"] in (tmp_path / "out" / "report.html").read_text()

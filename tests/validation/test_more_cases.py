@@ -599,7 +599,6 @@ def test_too_few_dates_names_the_dates(tmp_path, capsys):
 
 def test_misspelt_demo_case_is_named_even_with_list(capsys):
     # common practice, no source: an option the command cannot honour is an error, not silently dropped
-
     status, out, err = run_cli(["demo", "--list", "--case", "bogus"], capsys)
     assert_one_line_error(status, err, "--case", "bogus")
     assert out == ""
