@@ -45,9 +45,17 @@ def output_lock(folder, where="--out"):
     """
     import fcntl
 
+    from .paths import _os_problem
+
     folder = Path(os.path.abspath(folder))
-    folder.parent.mkdir(parents=True, exist_ok=True)
     path = _lock_path(folder)
+    try:  # a parent the operating system will not write in (a read-only or virtual file system, say)
+        folder.parent.mkdir(parents=True, exist_ok=True)
+        os.close(os.open(path, os.O_RDWR | os.O_CREAT, 0o644))
+    except OSError as exc:
+        why = _os_problem(exc, folder.parent) if exc.errno in (errno.ELOOP, errno.EACCES, errno.EPERM,
+                                                                errno.ENOTDIR) else os.strerror(exc.errno or 0)
+        raise InputError(where, f"cannot create files in {folder.parent} ({why}); choose another folder") from None
     while True:
         fd = os.open(path, os.O_RDWR | os.O_CREAT, 0o644)
         try:

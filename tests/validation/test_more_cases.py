@@ -602,3 +602,14 @@ def test_misspelt_demo_case_is_named_even_with_list(capsys):
     status, out, err = run_cli(["demo", "--list", "--case", "bogus"], capsys)
     assert_one_line_error(status, err, "--case", "bogus")
     assert out == ""
+
+
+def test_out_folder_on_a_file_system_that_refuses_files(tmp_path, capsys):
+    # /proc accepts no new files even for root (Linux proc(5)); the answer is one line, not a traceback
+    import os
+
+    if not os.path.isdir("/proc/self"):
+        pytest.skip("needs Linux /proc")
+    path = write_case(tmp_path / "in", scenario_dict())
+    status, _, err = run_cli(["ages", path, "--out", "/proc/kinage-test-out"], capsys)
+    assert_one_line_error(status, err, "--out", "/proc")
