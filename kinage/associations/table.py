@@ -232,7 +232,7 @@ def associations_from_table(table, source="table"):
     --------
     >>> import astropy.units as u
     >>> from astropy.table import QTable
-    >>> t = QTable({"name": ["Vela Nova 9"], "ra": [201.5] * u.deg, "dec": [-41.2] * u.deg,
+    >>> t = QTable({"name": ["Tesserin Nova 9"], "ra": [201.5] * u.deg, "dec": [-41.2] * u.deg,
     ...             "distance": [0.41] * u.kpc, "pm_ra_cosdec": [-3.1] * u.mas / u.yr,
     ...             "pm_dec": [-2.2] * u.mas / u.yr, "radial_velocity": [4.0] * u.km / u.s,
     ...             "radius": [18.0] * u.pc, "age": [6.5] * u.Myr})
