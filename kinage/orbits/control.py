@@ -43,7 +43,7 @@ from .probability import CONTROL_HITS, SUM_KEYS, kernel_group_sums, posterior_fr
 from .statistics import encounter_mask
 
 __all__ = ["control_draws_needed", "required_control_draws", "probability_control_draws", "FIRST_ROUND",
-           "MAX_ROUNDS", "MAX_CONTROL_FACTOR", "MAX_EXTRA_CONTROL_DRAWS", "RELEVANT_PROBABILITY",
+           "MAX_ROUNDS", "usable_draws", "MAX_CONTROL_FACTOR", "MAX_EXTRA_CONTROL_DRAWS", "RELEVANT_PROBABILITY",
            "probability_control_cap"]
 
 #: control draws of the first round
@@ -79,7 +79,7 @@ def required_control_draws(ctrl, adraws, afailed, cfg):
     n = ctrl["dmin"].shape[1]
     need = 0.0
     for j in range(adraws.n_assoc):
-        valid = _valid(ctrl, adraws, afailed, j)
+        valid = usable_draws(ctrl, adraws, afailed, j)
         enc = encounter_mask(ctrl["dmin"][j].astype(float), ctrl["tau"][j].astype(float), ctrl["edge"][j], valid,
                              adraws.radius_pc[j], adraws.age_myr[j], cfg["factor"], cfg["tolerance"])
         nv = int(valid.sum())
@@ -93,7 +93,7 @@ def probability_control_cap(n_star):
     return int(min(MAX_CONTROL_FACTOR * n_star, max(n_star, MAX_EXTRA_CONTROL_DRAWS)))
 
 
-def _valid(results, adraws, afailed, j):
+def usable_draws(results, adraws, afailed, j):
     """Usable draws of association j: orbit integrated for the star (or control) draw and its association draw."""
     n = results["dmin"].shape[1]
     bad = np.zeros(n, bool)
@@ -123,7 +123,7 @@ def probability_control_draws(ctrl, main, adraws, afailed, cfg):
     per_assoc = []
     for j in range(adraws.n_assoc):
         draws = [tuple(r[k][j].astype(float) if k != "edge" else r[k][j] for k in ("dmin", "tau", "edge"))
-                 + (_valid(r, adraws, afailed, j),) for r in (main, ctrl)]
+                 + (usable_draws(r, adraws, afailed, j),) for r in (main, ctrl)]
         per_assoc.append(kernel_group_sums(draws[0], draws[1], adraws.radius_pc[j], adraws.age_myr[j],
                                            cfg["tolerance"], cfg.get("neighbourhood_scale", 50.0)))
     sums = {k: np.array([a[k] for a in per_assoc]) for k in SUM_KEYS}

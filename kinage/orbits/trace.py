@@ -28,7 +28,7 @@ from ..kinematics import draw_star, rotated_proper_motions, velocity_prior as ma
 from ..params.registry import galaxy_pair
 from ..progress import progress_bar
 from .chunks import chunk_rows, integrate_associations, run_draws
-from .control import control_draws_needed, probability_control_cap
+from .control import control_draws_needed, probability_control_cap, usable_draws
 from .frames import solar_frame
 from .integrate import integration_cores, time_grid
 from .result import TraceResult
@@ -184,23 +184,13 @@ def trace(scenario, *, solution=None, rng=None, samples=None, potential=None, pr
 def _summaries(cfg, adraws, afailed, draws, main, ctrl, cores=1):
     """Per-association statistics; with several cores the associations are summarised in parallel threads
     (numpy's sorting and quantiles release the GIL), in order, so the result does not depend on ``cores``."""
-    bad_star = np.zeros(draws.n, bool)
-    bad_star[list(main["failed"])] = True
-
     def one(j):
         name = adraws.names[j]
-        abad = np.zeros(adraws.m, bool)
-        for i in afailed:
-            if i // adraws.m == j:
-                abad[i % adraws.m] = True
-        valid = ~bad_star & ~abad[np.arange(draws.n) % adraws.m] & np.isfinite(main["dmin"][j])
+        valid = usable_draws(main, adraws, afailed, j)
         control = None
         if ctrl is not None:
-            nc = ctrl["dmin"].shape[1]
-            cbad = np.zeros(nc, bool)
-            cbad[list(ctrl["failed"])] = True
-            cvalid = ~cbad & ~abad[np.arange(nc) % adraws.m] & np.isfinite(ctrl["dmin"][j])
-            control = (ctrl["dmin"][j].astype(float), ctrl["tau"][j].astype(float), ctrl["edge"][j], cvalid)
+            control = (ctrl["dmin"][j].astype(float), ctrl["tau"][j].astype(float), ctrl["edge"][j],
+                       usable_draws(ctrl, adraws, afailed, j))
         s = summarise_association(name, adraws.radius_pc[j], adraws.age_myr[j], main["dmin"][j].astype(float),
                                   main["tau"][j].astype(float), main["edge"][j], valid, draws.radial_velocity,
                                   factor=cfg["factor"], tolerance_myr=cfg["tolerance"], control=control,
