@@ -9,6 +9,7 @@ Front doors (see :mod:`kinage.api`)::
     import kinage
     scenario = kinage.load_scenario("star.toml")          # or kinage.scenario_from_dict({...})
     star = kinage.star_from_skycoord(coord, spin_period=...)  # the [star] table from a SkyCoord
+    star = kinage.star_from_table(row, columns={...})      # ... or from a catalogue row
     kinage.forecast(scenario)        # can timing measure the motion?
     kinage.fit(toas, scenario)       # TOAs as a path or an astropy Table
     kinage.trace(scenario, associations=table)   # path, Table or QTable
@@ -31,6 +32,7 @@ __all__ = [
     "load_scenario",
     "scenario_from_dict",
     "star_from_skycoord",
+    "star_from_table",
     "forecast",
     "simulate",
     "fit",
@@ -53,6 +55,7 @@ _LAZY = {
     "load_scenario": "kinage.api",
     "scenario_from_dict": "kinage.api",
     "star_from_skycoord": "kinage.api",
+    "star_from_table": "kinage.api",
     "forecast": "kinage.api",
     "simulate": "kinage.api",
     "fit": "kinage.api",

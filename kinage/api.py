@@ -28,7 +28,7 @@ from pathlib import Path
 from .errors import InputError
 from .warnings import AgesWarning, FitWarning, ForecastWarning, KinageWarning, TraceWarning, emit
 
-__all__ = ["load_scenario", "scenario_from_dict", "star_from_skycoord", "as_scenario", "forecast", "simulate",
+__all__ = ["load_scenario", "scenario_from_dict", "star_from_skycoord", "star_from_table", "as_scenario", "forecast", "simulate",
            "fit", "trace", "compare_ages", "run"]
 
 _PLACEHOLDER = "<in-memory association table>"
@@ -117,13 +117,14 @@ def _table_input(obj, where, what):
     raise InputError(where, f"expected {what} (got {type(obj).__name__})")
 
 
-def _associations(obj):
-    """An AssociationTable from a path, Table, QTable or AssociationTable."""
+def _associations(obj, columns=None):
+    """An AssociationTable from a path, Table, QTable or AssociationTable (with an optional column map)."""
     from .associations.table import AssociationTable, read_associations
 
     if isinstance(obj, AssociationTable):
         return obj
-    return read_associations(_table_input(obj, "[trace] associations", "a file path, an astropy Table or QTable"))
+    return read_associations(_table_input(obj, "[trace] associations", "a file path, an astropy Table or QTable"),
+                             columns=columns)
 
 
 def scenario_from_dict(mapping, base_dir=".", source=None, **kwargs):
@@ -267,6 +268,13 @@ def star_from_skycoord(coord, **values):
     return star
 
 
+def star_from_table(row, columns=None, **values):
+    """The ``[star]`` table from one catalogue row (:func:`kinage.io.star_table.star_from_table`)."""
+    from .io.star_table import star_from_table as _from_table
+
+    return _from_table(row, columns, **values)
+
+
 # ------------------------------------------------------------------ stages
 def _recorded(result):
     msgs = getattr(result, "warnings", None)
@@ -407,14 +415,16 @@ def fit(toas, scenario=None, **kwargs):
     return _stage(fit_toas, FitWarning, toas, scn, **kwargs)
 
 
-def _with_associations(scn, associations):
+def _with_associations(scn, associations, columns=None):
     """The scenario with its [trace] table holding an in-memory AssociationTable."""
+    if columns is None and scn.trace is not None:
+        columns = scn.trace.get("association_columns")
     if associations is None:
         if scn.trace is None or scn.trace.get("associations") is None:
             raise InputError("[trace] associations", "no association table: give associations=<path, Table or "
                              "QTable> or [trace] associations")
-        return scn, _associations(scn.trace.get("associations"))
-    table = _associations(associations)
+        return scn, _associations(scn.trace.get("associations"), columns)
+    table = _associations(associations, columns)
     if scn.trace is None:
         raw = {k: v for k, v in (scn.raw or {}).items() if k != "trace"}
         raw.setdefault("star", {})
@@ -427,7 +437,7 @@ def _with_associations(scn, associations):
 
 
 def trace(scenario, associations=None, *, solution=None, rng=None, samples=None, potential=None, progress=False,
-          **kwargs):
+          association_columns=None, **kwargs):
     """Trace the star back to candidate birth associations (:func:`kinage.orbits.trace`).
 
     Parameters
@@ -448,6 +458,9 @@ def trace(scenario, associations=None, *, solution=None, rng=None, samples=None,
         Overrides ``[trace] potential``.
     progress : bool
         Show a progress bar (a widget in Jupyter).
+    association_columns : dict, optional
+        Column map for the association table, kinage name -> file column or
+        ``{"column": ..., "unit": ...}``; default ``[trace.association_columns]``.
 
     Returns
     -------
@@ -459,7 +472,12 @@ def trace(scenario, associations=None, *, solution=None, rng=None, samples=None,
     from .io.limits import check_resources, check_samples
 
     samples = check_samples(samples)
-    scn, table = _with_associations(as_scenario(scenario), associations)
+    if association_columns is not None:
+        from .associations.table import OPTIONAL, REQUIRED
+        from .io.tables import parse_column_map
+
+        association_columns = parse_column_map(association_columns, REQUIRED + OPTIONAL, "association_columns")
+    scn, table = _with_associations(as_scenario(scenario), associations, association_columns)
     check_resources(scn, samples=samples, n_associations=len(table), samples_name="samples")  # before any work
     if solution is not None and hasattr(solution, "solution") and not hasattr(solution, "covariance"):
         solution = solution_for_trace(scn, solution)

@@ -117,7 +117,8 @@ class AstrometricSolution:
         """Build the solution typed into a scenario's ``[star]`` table.
 
         Position offsets are zero with the given ``ra_error``/``dec_error``
-        (mas); proper-motion errors are correlated by ``pm_correlation``.
+        (mas); errors are correlated by ``[star.correlations]`` (any pair of
+        ra, dec, pm_ra_cosdec, pm_dec, parallax) and ``pm_correlation``.
         Parameters not given are NaN.  When only ``distance`` is given the
         parallax is NaN (tracing then uses the distance directly).
         """
@@ -133,9 +134,13 @@ class AstrometricSolution:
                 vals[i] = star.value(key, UNITS[key])
                 sig[i] = star.value(f"{key}_error", UNITS[key], 0.0)
         cov = np.diag(sig**2)
-        rho = star.get("pm_correlation") or 0.0
-        if np.isfinite(sig[2]) and np.isfinite(sig[3]):
-            cov[2, 3] = cov[3, 2] = rho * sig[2] * sig[3]
+        corr = dict(star.get("correlations") or {})
+        corr.setdefault("pm_ra_cosdec_pm_dec", star.get("pm_correlation") or 0.0)
+        for i in range(5):
+            for j in range(i + 1, 5):
+                rho = corr.get(f"{PARAMETERS[i]}_{PARAMETERS[j]}", 0.0)
+                if rho and np.isfinite(sig[i]) and np.isfinite(sig[j]):
+                    cov[i, j] = cov[j, i] = rho * sig[i] * sig[j]
         ep = star.get("epoch") or epoch or Time("J2000", scale="tdb")
         return cls(ep, star.value("ra", "deg"), star.value("dec", "deg"), vals, cov, source="scenario")
 

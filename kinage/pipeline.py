@@ -104,7 +104,8 @@ def preflight(scenario, samples=None):
     if "trace" in stages:
         from .associations import read_associations
 
-        loaded["associations"] = read_associations(scenario.trace.associations)
+        loaded["associations"] = read_associations(scenario.trace.associations,
+                                                   columns=scenario.trace.get("association_columns"))
     from .io.limits import check_resources
 
     check_resources(scenario, samples=samples, n_associations=len(loaded.get("associations") or ()) or None)

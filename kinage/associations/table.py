@@ -13,9 +13,19 @@ radial_velocity            km/s    mean heliocentric radial velocity
 radius                     pc      size used for the encounter criterion
 age                        Myr     age of the association
 <col>_error                as col  1-sigma errors of distance, pm_ra_cosdec,
-                                   pm_dec, radial_velocity, ra, dec (deg) and
-                                   age; optional, a missing column means 0
+                                   pm_dec, radial_velocity, ra, dec (deg),
+                                   radius and age; optional, a missing column
+                                   means 0
 =========================  ======  ==========================================
+
+Files may be ECSV, CSV, FITS or VOTable (:mod:`kinage.io.tables`), with the
+authors' own column names when a column map says which is which
+(``[trace.association_columns]``, or ``columns=`` in Python).  Units come from
+the file (ECSV header, FITS ``TUNIT``, VOTable ``unit``) or from the map and
+are converted to the units above; a mapped column with neither is refused.
+A radius given as an angle (arcmin, deg, ...) is converted to parsecs with the
+association's distance, and the distance error is propagated into
+``radius_error`` (added in quadrature to an angular radius error, if given).
 
 Every problem names the file, the row (1-based, data rows) and the column.
 """
@@ -28,8 +38,11 @@ import numpy as np
 
 from ..errors import InputError
 
-__all__ = ["COLUMNS", "REQUIRED", "OPTIONAL", "Association", "AssociationTable", "read_associations",
+__all__ = ["COLUMNS", "REQUIRED", "OPTIONAL", "SYNONYMS", "Association", "AssociationTable", "read_associations",
            "associations_from_table"]
+
+#: where a column map for association tables goes in a scenario
+MAP_KEY = "[trace.association_columns]"
 
 #: default unit of every numeric column
 COLUMNS = {
@@ -37,10 +50,28 @@ COLUMNS = {
     "radial_velocity": "km/s", "radius": "pc", "age": "Myr",
     "distance_error": "pc", "pm_ra_cosdec_error": "mas/yr", "pm_dec_error": "mas/yr",
     "radial_velocity_error": "km/s", "ra_error": "deg", "dec_error": "deg", "age_error": "Myr",
+    "radius_error": "pc",
 }
 REQUIRED = ("name", "ra", "dec", "distance", "pm_ra_cosdec", "pm_dec", "radial_velocity", "radius", "age")
 OPTIONAL = ("distance_error", "pm_ra_cosdec_error", "pm_dec_error", "radial_velocity_error", "ra_error", "dec_error",
-            "age_error")
+            "age_error", "radius_error")
+_BASE_SYNONYMS = {
+    "name": ("Name", "Assoc", "Association", "Cluster", "ID", "Group"),
+    "ra": ("RAdeg", "RA_ICRS", "RAJ2000", "RA", "_RA", "ra_deg", "RA_deg"),
+    "dec": ("DEdeg", "DE_ICRS", "DEJ2000", "DE", "Dec", "_DE", "dec_deg", "DEC_deg"),
+    "distance": ("Dist", "dist", "D", "d", "distance_pc", "Dist_pc", "Distance"),
+    "pm_ra_cosdec": ("pmra", "pmRA", "pm_ra", "pmRAcosDE", "pmracosdec", "pmRA_cosDE"),
+    "pm_dec": ("pmdec", "pmDE", "pmDEC", "pm_de"),
+    "radial_velocity": ("RV", "rv", "HRV", "Vr", "vrad", "RVel"),
+    "radius": ("Rad", "r", "R", "size", "Size", "r50", "R50", "radius_pc"),
+    "age": ("Age", "age_myr", "Age_Myr", "t"),
+}
+#: catalogue spellings of each column, offered as the nearest match when a column is missing
+SYNONYMS = dict(_BASE_SYNONYMS)
+for _col, _names in _BASE_SYNONYMS.items():
+    if _col != "name":
+        SYNONYMS[f"{_col}_error"] = tuple(f"e_{n}" for n in _names) + tuple(f"{n}_error" for n in _names) \
+            + tuple(f"{n}_err" for n in _names)
 _POSITIVE = ("distance", "radius", "age")
 #: physical ranges of a row: column -> (low, high, low open, high open, reason)
 _RANGES = {
@@ -62,6 +93,7 @@ _RANGES = {
     "pm_dec_error": (0.0, 1e5, False, False, "an error beyond 100 arcsec/yr"),
     "radial_velocity_error": (0.0, 5000.0, False, False, "an error beyond 5000 km/s"),
     "age_error": (0.0, 13_800.0, False, False, "an error beyond the age of the Galaxy (13.8 Gyr)"),
+    "radius_error": (0.0, 1e4, False, False, "an error beyond 10 kpc"),
 }
 _MAX_NAME = 200
 _MAX_ROWS = 100_000
@@ -104,6 +136,7 @@ class Association:
     ra_error: float = 0.0
     dec_error: float = 0.0
     age_error: float = 0.0
+    radius_error: float = 0.0
 
 
 @dataclass(frozen=True)
@@ -115,10 +148,13 @@ class AssociationTable:
     associations : tuple of Association
     source : str
         File name (or 'table').
+    sha256 : str
+        SHA-256 of the file's bytes as read ('' for a table given in memory).
     """
 
     associations: tuple
     source: str = "table"
+    sha256: str = ""
 
     def __len__(self):
         return len(self.associations)
@@ -155,8 +191,8 @@ class AssociationTable:
         return {"source": self.source, "associations": [asdict(a) for a in self.associations]}
 
 
-def read_associations(path):
-    """Read an association table (ECSV or CSV), or validate one already in memory.
+def read_associations(path, columns=None):
+    """Read an association table (ECSV, CSV, FITS or VOTable), or validate one already in memory.
 
     Parameters
     ----------
@@ -164,6 +200,10 @@ def read_associations(path):
         A file name; a Table or QTable (columns with units are converted, plain
         columns are taken in the default units); an AssociationTable is
         returned as it is.
+    columns : dict, optional
+        Column map, kinage name -> file column, or -> ``{"column": ..., "unit":
+        ...}`` for a file column without a unit (``[trace.association_columns]``
+        in a scenario).
 
     Returns
     -------
@@ -176,22 +216,21 @@ def read_associations(path):
     """
     from astropy.table import Table
 
+    from ..io.tables import read_table
+
     if isinstance(path, AssociationTable):
         return path
     if isinstance(path, Table):
-        return associations_from_table(path, source=str(path.meta.get("name", "table")))
+        return associations_from_table(path, source=str(path.meta.get("name", "table")), columns=columns)
     if not isinstance(path, (str, Path)):
         raise InputError("[trace] associations", f"expected a file path, an astropy Table or QTable, or an "
                                                  f"AssociationTable (got {type(path).__name__})")
     path = Path(path)
     if not path.is_file():
         raise InputError("[trace] associations", f"file not found: {path}")
-    fmt = "ascii.ecsv" if path.suffix.lower() == ".ecsv" else "ascii.csv"
-    try:
-        table = Table.read(path, format=fmt)
-    except Exception as exc:  # noqa: BLE001 - any parse error becomes an input error
-        raise InputError(str(path.name), f"could not read as {fmt.split('.')[1].upper()} ({exc})") from None
-    return associations_from_table(table, source=path.name)
+    table, sha, _ = read_table(path, f"[trace] associations ({path.name})")
+    result = associations_from_table(table, source=path.name, columns=columns)
+    return AssociationTable(result.associations, result.source, sha)
 
 
 def _misspelt_columns(colnames):
@@ -221,12 +260,22 @@ def _cell(table, col, i):
     return v
 
 
-def associations_from_table(table, source="table"):
+def associations_from_table(table, source="table", columns=None):
     """Validate an astropy Table or QTable (or anything ``Table(...)`` accepts) as associations.
 
     Columns with units (Table column units or QTable Quantity columns) are
     converted to the default units of :data:`COLUMNS`; plain columns are taken
-    in those units.
+    in those units, except columns named by a column map, which need a unit
+    from the file or the map.  A radius with an angular unit is converted with
+    the association's distance.
+
+    Parameters
+    ----------
+    table : astropy.table.Table or QTable
+    source : str
+        Name for messages.
+    columns : dict, optional
+        Column map (see :func:`read_associations`).
 
     Examples
     --------
@@ -241,28 +290,43 @@ def associations_from_table(table, source="table"):
     """
     from astropy.table import Table
 
+    from ..io.tables import apply_column_map, missing_column_problem, parse_column_map
+
     table = Table(table) if not isinstance(table, Table) else table
+    mapping = parse_column_map(columns, REQUIRED + OPTIONAL, MAP_KEY)
+    table = apply_column_map(table, mapping, source, MAP_KEY)
+    for name in mapping:
+        if name != "name" and getattr(table[name], "unit", None) is None:
+            raise InputError(f"{MAP_KEY} {name}", f"file column '{mapping[name].column}' has no unit in {source}; "
+                             f"give one in the map, e.g. {name} = {{column = \"{mapping[name].column}\", "
+                             f"unit = \"{COLUMNS[name]}\"}}")
     typo = _misspelt_columns(table.colnames)
     if typo:
         raise InputError(f"{source} column '{typo[0]}'", f"unknown column (did you mean '{typo[1]}'?); other "
                          "columns are ignored, so rename it to be used")
     missing = [c for c in REQUIRED if c not in table.colnames]
     if missing:
-        raise InputError(source, "missing column(s) " + ", ".join(f"'{c}'" for c in missing)
-                         + "; required: " + ", ".join(REQUIRED))
+        raise InputError(source, missing_column_problem(missing[0], table.colnames, SYNONYMS.get(missing[0], ()),
+                                                        MAP_KEY)
+                         + (f" (also missing: {', '.join(missing[1:])})" if len(missing) > 1 else ""))
     if len(table) == 0:
         raise InputError(source, "the association table has no rows")
     if len(table) > _MAX_ROWS:
         raise InputError(source, f"{len(table):,} rows, above the limit of {_MAX_ROWS:,} associations")
-    factors = {}
+    factors, angular = {}, {}
     for col, unit in COLUMNS.items():
         if col not in table.colnames:
             continue
         cu = table[col].unit
+        if col in ("radius", "radius_error") and cu is not None and u.Unit(cu).physical_type == "angle":
+            angular[col] = float((1.0 * cu).to_value(u.rad))  # converted with the distance, row by row
+            factors[col] = 1.0
+            continue
         try:
             factors[col] = 1.0 if cu is None else float((1.0 * cu).to_value(unit))
         except u.UnitConversionError:
-            raise InputError(f"{source} column '{col}'", f"unit must convert to {unit} (got {cu})") from None
+            also = " or an angle" if col in ("radius", "radius_error") else ""
+            raise InputError(f"{source} column '{col}'", f"unit must convert to {unit}{also} (got {cu})") from None
     rows, seen = [], {}
     for i in range(len(table)):
         where = f"{source} row {i + 1}"
@@ -287,6 +351,8 @@ def associations_from_table(table, source="table"):
             except (TypeError, ValueError):
                 raise InputError(f"{where}, column '{col}'", f"association '{name}': expected a number in "
                                  f"{COLUMNS[col]} (got {_shown(raw)})") from None
+            if col in angular and np.isfinite(x):
+                x = _angle_to_pc(col, x * angular[col], vals, where, name)
             if not np.isfinite(x):
                 raise InputError(f"{where}, column '{col}'", f"association '{name}': missing or non-finite value "
                                  f"(got {_shown(raw)}); expected a number in {COLUMNS[col]}")
@@ -300,5 +366,17 @@ def associations_from_table(table, source="table"):
             if problem:
                 raise InputError(f"{where}, column '{col}'", f"association '{name}': {problem}")
             vals[col] = x
+        if "radius" in angular and vals["distance"] > 0:
+            # d radius / radius = d distance / distance for a fixed angle; independent of the angle's own error
+            from_distance = vals["radius"] * vals["distance_error"] / vals["distance"]
+            vals["radius_error"] = float(np.hypot(vals["radius_error"], from_distance))
         rows.append(Association(name=name, **vals))
     return AssociationTable(tuple(rows), source)
+
+
+def _angle_to_pc(col, theta_rad, vals, where, name):
+    """An angular size (radians) as parsecs at the association's distance (small angles: d tan theta)."""
+    if not 0.0 <= theta_rad < np.pi / 4:
+        raise InputError(f"{where}, column '{col}'", f"association '{name}': an angular {col.replace('_', ' ')} "
+                         f"must lie in [0, 45) deg (got {np.degrees(theta_rad):g} deg)")
+    return float(vals["distance"] * np.tan(theta_rad))

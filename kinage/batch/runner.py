@@ -21,7 +21,8 @@ from pathlib import Path
 
 from ..errors import InputError
 from ..io.results import atomic_write, to_jsonable
-from .stars import load_template, read_star_rows, safe_name, star_input_hash, star_scenario, star_seed
+from .stars import (load_template, read_star_rows, safe_name, star_columns, star_input_hash, star_scenario,
+                    star_seed)
 
 __all__ = ["run_batch", "run_one_star", "plan_batch", "BatchPlan"]
 
@@ -71,8 +72,8 @@ def plan_batch(stars_path, template_path, out_dir, *, seed=None, samples=None, f
     force : bool
         Redo stars whose results exist.
     """
-    rows = read_star_rows(stars_path)
     template_raw, base_dir = load_template(template_path)
+    rows = read_star_rows(stars_path, columns=star_columns(template_raw))
     check_template(template_raw, base_dir, template_path, samples=samples)
     if seed is None:
         seed = (template_raw.get("trace") or {}).get("seed", 1)
@@ -126,7 +127,7 @@ def check_template(template_raw, base_dir, template_path, samples=None):
     from ..io.scenario import scenario_from_dict
 
     name = Path(template_path).name
-    raw = {k: (dict(v) if isinstance(v, dict) else v) for k, v in template_raw.items()}
+    raw = {k: (dict(v) if isinstance(v, dict) else v) for k, v in template_raw.items() if k != "batch"}
     star = dict(raw.get("star") or {})
     star_check = {k: v for k, v in star.items() if k not in _PROBE_STAR or k == "name"}
     try:  # the template's own [star] values, with the probe filling what rows give
@@ -138,7 +139,8 @@ def check_template(template_raw, base_dir, template_path, samples=None):
     if scenario.trace is not None and scenario.trace.get("associations") is not None:
         from ..associations import read_associations
 
-        n_assoc = len(read_associations(scenario.trace.associations))
+        n_assoc = len(read_associations(scenario.trace.associations,
+                                         columns=scenario.trace.get("association_columns")))
     else:
         n_assoc = None
     check_resources(scenario, samples=samples, n_associations=n_assoc)

@@ -8,6 +8,14 @@ default units of the scenario keys (``kinage keys star``).  The template
 scenario supplies the ``[campaign]``, ``[trace]`` and ``[ages]`` tables and any
 ``[star]`` value the row leaves out.
 
+The table may be ECSV, CSV, FITS or VOTable (:mod:`kinage.io.tables`).  A
+catalogue's own column names are mapped in the template's
+``[batch.star_columns]`` table (``parallax = "Plx"``, or ``distance = {column =
+"Dist", unit = "kpc"}`` for a column without a unit); a mapped column needs a
+unit from the file or the map; columns that are neither mapped nor named like
+``[star]`` keys are then left alone (without a map they are refused, to catch
+misspelt names).
+
 Missing values (the rule for NaN): an empty cell, a masked value and a NaN
 (``nan`` in CSV, NaN in ECSV) all mean "not given" for that star, exactly as
 if the column were absent for that row: the template's ``[star]`` value is
@@ -31,7 +39,11 @@ from ..errors import InputError
 from ..io.schema import SCHEMA
 from ..io.scenario import file_sha256, scenario_from_dict
 
-__all__ = ["read_star_rows", "load_template", "star_scenario", "star_input_hash", "safe_name", "star_seed"]
+__all__ = ["read_star_rows", "load_template", "star_scenario", "star_input_hash", "safe_name", "star_seed",
+           "star_columns"]
+
+#: where a batch template maps a star table's columns
+STAR_MAP_KEY = "[batch.star_columns]"
 
 _STAR_COLUMNS = set(SCHEMA["star"]) | {f"{k}_error" for k, v in SCHEMA["star"].items() if v.error}
 
@@ -42,29 +54,46 @@ def safe_name(name):
     return s or "star"
 
 
-def read_star_rows(path):
+def read_star_rows(path, columns=None):
     """Read the star table into a list of ``{key: value}`` dicts (raw scenario values).
 
     Quantities with units become strings such as ``"3.2 mas"`` so the scenario
     reader converts and validates them like any scenario value.
 
+    Parameters
+    ----------
+    path : str or Path
+        ECSV, CSV, FITS or VOTable file.
+    columns : dict, optional
+        Column map ``[star] key -> file column`` or ``-> {column, unit}``
+        (the template's ``[batch.star_columns]``).
+
     Raises
     ------
     InputError
-        Unreadable table, no ``name`` column, unknown columns, duplicate names.
+        Unreadable table, no ``name`` column, unknown columns, duplicate names,
+        a mapped column that is missing or has no unit.
     """
-    from astropy.table import Table
+    from ..io.star_table import STAR_KEYS
+    from ..io.tables import apply_column_map, parse_column_map, read_table
 
     path = Path(path)
     if not path.is_file():
         raise InputError("stars table", f"file not found: {path}")
-    try:
-        tab = Table.read(path, format="ascii.ecsv" if path.suffix.lower() == ".ecsv" else "ascii.csv")
-    except Exception as exc:  # noqa: BLE001 - any reader failure is an input problem
-        raise InputError(f"stars table {path.name}", f"cannot read it as ECSV/CSV ({exc})") from None
+    tab, _, _ = read_table(path, f"stars table {path.name}")
+    mapping = parse_column_map(columns, STAR_KEYS, STAR_MAP_KEY)
+    tab = apply_column_map(tab, mapping, f"stars table {path.name}", STAR_MAP_KEY)
+    for key, spec in mapping.items():
+        kind = SCHEMA["star"].get(key[:-6] if key.endswith("_error") and key not in SCHEMA["star"] else key).kind
+        if kind in ("quantity", "angle") and tab[key].unit is None:
+            raise InputError(f"{STAR_MAP_KEY} {key}", f"file column '{spec.column}' has no unit in {path.name}; "
+                             f"give one in the map, e.g. {key} = {{column = \"{spec.column}\", unit = \"...\"}}")
     if "name" not in tab.colnames:
         raise InputError(f"stars table {path.name}", "needs a 'name' column")
     unknown = [c for c in tab.colnames if c not in _STAR_COLUMNS]
+    if mapping:  # a catalogue export: the map names what is used, its other columns are left alone
+        tab = tab[[c for c in tab.colnames if c in _STAR_COLUMNS]]
+        unknown = []
     if unknown:
         raise InputError(f"stars table {path.name}",
                          f"unknown columns {unknown}; columns are named like [star] keys (see 'kinage keys star')")
@@ -120,6 +149,25 @@ def _check_column_units(tab, name):
                              f"[star] {col}; see 'kinage keys star')") from None
 
 
+def star_columns(template_raw):
+    """The star-table column map of a template (``[batch.star_columns]``), or None.
+
+    Raises
+    ------
+    InputError
+        A ``[batch]`` table with other keys, or a map that is not a table.
+    """
+    batch = template_raw.get("batch")
+    if batch is None:
+        return None
+    if not isinstance(batch, dict):
+        raise InputError("[batch]", "expected a table holding star_columns")
+    unknown = sorted(set(batch) - {"star_columns"})
+    if unknown:
+        raise InputError(f"[batch] {unknown[0]}", "unknown key; [batch] holds only star_columns")
+    return batch.get("star_columns")
+
+
 def load_template(path):
     """Read a template scenario as raw TOML data; returns ``(raw, folder)``."""
     path = Path(path)
@@ -134,7 +182,7 @@ def load_template(path):
 
 def star_scenario(row, template_raw, base_dir):
     """Validated scenario for one star: the template with ``[star]`` updated from the row."""
-    raw = {k: (dict(v) if isinstance(v, dict) else v) for k, v in template_raw.items()}
+    raw = {k: (dict(v) if isinstance(v, dict) else v) for k, v in template_raw.items() if k != "batch"}
     star = dict(raw.get("star", {}))
     star.update(row)
     raw["star"] = star

@@ -277,6 +277,8 @@ def scenario_from_dict(raw, base_dir=".", source=None, *, allow_missing=()):
     if not problems:
         _cross_checks(sections, problems)
     if not problems:
+        _correlation_checks(sections["star"], problems)
+    if not problems:
         _physical_checks(sections, problems)
     if not problems:
         _reference_checks(sections, problems, base_dir)
@@ -446,6 +448,15 @@ def _convert(key, val, base_dir, where, must_exist=True):
         if isinstance(val, str):
             return _path(val, base_dir, where)
         raise InputError(where, f"expected 'sinusoid', a list of harmonic amplitudes or a template file (got {shown(val)})")
+    if kind == "correlations":
+        from .correlations import parse_correlations
+
+        return parse_correlations(val, f"[{where.split(']')[0].lstrip('[')}.{key.name}]")
+    if kind == "column_map":
+        from .tables import parse_column_map
+
+        mapping = parse_column_map(val, key.choices, f"[{where.split(']')[0].lstrip('[')}.{key.name}]")
+        return {name: spec.to_dict() for name, spec in mapping.items()}
     raise AssertionError(f"unknown key kind {kind}")
 
 
@@ -459,6 +470,30 @@ def _path(val, base_dir, where, must_exist=True):
     p = check_output_file(Path(base_dir) / Path(val.strip()) if not val.strip().startswith("~") else val.strip(),
                           where)
     return Path(os.path.abspath(p))
+
+
+def _correlation_checks(star, problems):
+    """``[star.correlations]`` must join measured parameters and form a positive-definite matrix."""
+    from .correlations import correlation_problem, pair_key
+
+    corr = dict(star.get("correlations") or {})
+    if star.given("pm_correlation"):
+        if pair_key("pm_ra_cosdec", "pm_dec") in corr:
+            problems.append(InputError("[star] pm_correlation", "also given as [star.correlations] "
+                                       "pm_ra_cosdec_pm_dec; give it once"))
+            return
+        if star.get("pm_correlation"):
+            corr[pair_key("pm_ra_cosdec", "pm_dec")] = float(star.get("pm_correlation"))
+    if not star.given("correlations") or not corr:
+        return
+    measured = []
+    for p in ("ra", "dec", "pm_ra_cosdec", "pm_dec", "parallax"):
+        err = star.get(f"{p}_error")
+        if star.get(p) is not None and err is not None and float(getattr(err, "value", err)) > 0:
+            measured.append(p)
+    problem = correlation_problem(corr, measured)
+    if problem:
+        problems.append(InputError("[star.correlations]", problem))
 
 
 def _cross_checks(sections, problems):

@@ -11,7 +11,12 @@ unit, which must be positive.
 
 from dataclasses import dataclass
 
-__all__ = ["Key", "SCHEMA", "TABLES", "range_text"]
+__all__ = ["Key", "SCHEMA", "TABLES", "range_text", "ASSOCIATION_COLUMNS"]
+
+#: the columns of an association table (kinage.associations.table.REQUIRED + OPTIONAL; a test keeps them equal)
+ASSOCIATION_COLUMNS = ("name", "ra", "dec", "distance", "pm_ra_cosdec", "pm_dec", "radial_velocity", "radius", "age",
+                       "distance_error", "pm_ra_cosdec_error", "pm_dec_error", "radial_velocity_error", "ra_error",
+                       "dec_error", "age_error", "radius_error")
 
 
 @dataclass(frozen=True)
@@ -25,7 +30,10 @@ class Key:
         ``quantity`` (needs ``unit``), ``angle`` (ra / dec, sexagesimal
         allowed), ``time``, ``times`` (list of epochs), ``int``, ``float``,
         ``bool``, ``str``, ``path``, ``names`` (list of str), ``floats``
-        (list of numbers), ``pulse_shape``.
+        (list of numbers), ``pulse_shape``, ``correlations`` (a table of
+        correlation coefficients, :mod:`kinage.io.correlations`),
+        ``column_map`` (a table mapping kinage column names, listed in
+        ``choices``, to a file's columns, :mod:`kinage.io.tables`).
     unit : str
         Default unit of a quantity (a plain number is taken in it).
     default : object
@@ -84,6 +92,8 @@ _STAR = [
     Key("pm_ra_cosdec", "quantity", "mas/yr", error=True, doc="proper motion in ra*cos(dec)"),
     Key("pm_dec", "quantity", "mas/yr", error=True, doc="proper motion in dec"),
     Key("pm_correlation", "float", default=0.0, lower=-1, upper=1, doc="correlation coefficient of the two proper-motion errors"),
+    Key("correlations", "correlations",
+        doc="table [star.correlations] of correlation coefficients between ra, dec, parallax, pm_ra_cosdec, pm_dec errors (keys like parallax_pm_ra_cosdec)"),
     Key("radial_velocity", "quantity", "km/s", error=True, doc="measured radial velocity (rare for neutron stars; otherwise drawn from a prior)"),
     Key("transverse_velocity", "quantity", "km/s", positive=True, doc="expected transverse speed for the forecast; default: median of the velocity prior"),
     Key("spin_period", "quantity", "s", error=True, positive=True, doc="spin period"),
@@ -139,7 +149,9 @@ _CAMPAIGN = [
 ]
 
 _TRACE = [
-    Key("associations", "path", doc="association table (ECSV or CSV)"),
+    Key("associations", "path", doc="association table (ECSV, CSV, FITS or VOTable)"),
+    Key("association_columns", "column_map", choices=ASSOCIATION_COLUMNS,
+        doc="table [trace.association_columns]: kinage column = \"file column\" or {column = ..., unit = ...}"),
     Key("samples", "int", default=2000, positive=True, doc="Monte Carlo draws of the star"),
     Key("association_samples", "int", default=200, positive=True, doc="Monte Carlo draws of each association"),
     Key("max_age", "quantity", "Myr", default=10.0, positive=True, doc="how far back to integrate"),

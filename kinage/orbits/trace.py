@@ -122,7 +122,9 @@ def trace(scenario, *, solution=None, rng=None, samples=None, potential=None, pr
     gen, seed = _rng_and_seed(scenario, rng)
     star_rng, assoc_rng, control_rng = gen.spawn(3)
     frame = solar_frame(cfg["solar"].name)
-    table = associations if associations is not None else read_associations(scenario.trace.get("associations"))
+    table = associations
+    if table is None:
+        table = read_associations(scenario.trace.get("associations"), columns=scenario.trace.get("association_columns"))
     if solution is None:
         solution = AstrometricSolution.from_star(scenario.star)
     star = scenario.star
