@@ -7,8 +7,8 @@ come from columns named under ``"correlations"``::
 
     star_from_table(row, columns={"ra": "RAdeg", "dec": "DEdeg", "parallax": "Plx",
                                   "parallax_error": "e_Plx",
-                                  "pm_ra_cosdec": {"column": "pmRA", "unit": "mas/yr"},
-                                  "correlations": {"parallax_pm_ra_cosdec": "Plx_pmRA_corr"}})
+                                  "pm_ra_cosdec": {"column": "pmRAcosDE", "unit": "mas/yr"},
+                                  "correlations": {"parallax_pm_ra_cosdec": "Plx_pmRAcosDE_corr"}})
 
 Columns named like ``[star]`` keys need no map.  A mapped column needs a unit,
 from the table or from the map (a bare number is ambiguous); an unmapped one
@@ -101,12 +101,12 @@ def star_from_table(row, columns=None, **values):
     --------
     >>> from astropy.table import Table
     >>> t = Table({"Name": ["Invented-7"], "RAdeg": [83.1], "DEdeg": [-12.4], "Plx": [1.9], "e_Plx": [0.2],
-    ...            "pmRA": [31.0], "e_pmRA": [0.4], "pmDE": [-8.0], "e_pmDE": [0.5], "Plx_pmRA": [0.25]})
+    ...            "pmRAcosDE": [31.0], "e_pmRA": [0.4], "pmDE": [-8.0], "e_pmDE": [0.5], "Plx_pmRA": [0.25]})
     >>> for c in ("Plx", "e_Plx"): t[c].unit = "mas"
-    >>> for c in ("pmRA", "e_pmRA", "pmDE", "e_pmDE"): t[c].unit = "mas / yr"
+    >>> for c in ("pmRAcosDE", "e_pmRA", "pmDE", "e_pmDE"): t[c].unit = "mas / yr"
     >>> for c in ("RAdeg", "DEdeg"): t[c].unit = "deg"
     >>> star = star_from_table(t[0], columns={"name": "Name", "ra": "RAdeg", "dec": "DEdeg", "parallax": "Plx",
-    ...                        "parallax_error": "e_Plx", "pm_ra_cosdec": "pmRA", "pm_ra_cosdec_error": "e_pmRA",
+    ...                        "parallax_error": "e_Plx", "pm_ra_cosdec": "pmRAcosDE", "pm_ra_cosdec_error": "e_pmRA",
     ...                        "pm_dec": "pmDE", "pm_dec_error": "e_pmDE",
     ...                        "correlations": {"parallax_pm_ra_cosdec": "Plx_pmRA"}})
     >>> star["parallax"], star["correlations"]

@@ -8,7 +8,7 @@ that, by extension; anything else is read as CSV.
 
 A column map says which file column holds which kinage column::
 
-    {"pm_ra_cosdec": "pmRA", "distance": {"column": "Dist", "unit": "kpc"}}
+    {"pm_ra_cosdec": "pmRAcosDE", "distance": {"column": "Dist", "unit": "kpc"}}
 
 Units come from the file's own metadata and are converted by the caller; a map
 may give a unit where the file has none.  The file is read once, from the bytes

@@ -47,7 +47,7 @@ def catalogue_style():
     t["DEdeg"] = c["dec"].to(u.deg)
     t["Dist"] = c["distance"].to(u.kpc)
     t["e_Dist"] = c["distance_error"].to(u.kpc)
-    t["pmRA"] = c["pm_ra_cosdec"]
+    t["pmRAcosDE"] = c["pm_ra_cosdec"]
     t["e_pmRA"] = c["pm_ra_cosdec_error"]
     t["pmDE"] = c["pm_dec"]
     t["e_pmDE"] = c["pm_dec_error"]
@@ -60,7 +60,7 @@ def catalogue_style():
 
 
 MAP = {"name": "Name", "ra": "RAdeg", "dec": "DEdeg", "distance": "Dist", "distance_error": "e_Dist",
-       "pm_ra_cosdec": "pmRA", "pm_ra_cosdec_error": "e_pmRA", "pm_dec": "pmDE", "pm_dec_error": "e_pmDE",
+       "pm_ra_cosdec": "pmRAcosDE", "pm_ra_cosdec_error": "e_pmRA", "pm_dec": "pmDE", "pm_dec_error": "e_pmDE",
        "radial_velocity": "RV", "radial_velocity_error": "e_RV", "radius": "Rad", "age": "Age"}
 
 
@@ -82,7 +82,7 @@ def write_all(tmp_path):
 CSV_MAP = {k: v for k, v in MAP.items()}
 CSV_MAP.update({"ra": {"column": "RAdeg", "unit": "deg"}, "dec": {"column": "DEdeg", "unit": "deg"},
                 "distance": {"column": "Dist", "unit": "kpc"}, "distance_error": {"column": "e_Dist", "unit": "kpc"},
-                "pm_ra_cosdec": {"column": "pmRA", "unit": "mas/yr"},
+                "pm_ra_cosdec": {"column": "pmRAcosDE", "unit": "mas/yr"},
                 "pm_ra_cosdec_error": {"column": "e_pmRA", "unit": "mas/yr"},
                 "pm_dec": {"column": "pmDE", "unit": "mas/yr"}, "pm_dec_error": {"column": "e_pmDE", "unit": "mas/yr"},
                 "radial_velocity": {"column": "RV", "unit": "km/s"},
@@ -138,8 +138,8 @@ def test_in_memory_table_with_a_map():
 
 
 @pytest.mark.parametrize("columns, where, text", [
-    ({**MAP, "pm_dec": "pmDEC"}, "pm_dec", "nearest: 'pmDE'"),
-    ({**MAP, "pm_dec": "pmRA"}, "pm_dec", "already mapped"),
+    ({**MAP, "pm_dec": "pmDEx"}, "pm_dec", "nearest: 'pmDE'"),
+    ({**MAP, "pm_dec": "pmRAcosDE"}, "pm_dec", "already mapped"),
     ({**MAP, "velocity": "RV"}, "velocity", "not a kinage column"),
     ({**MAP, "distance": {"column": "Dist", "unit": "pc"}}, "distance", "remove the unit from the map"),
 ])
@@ -170,7 +170,7 @@ def test_missing_column_names_what_the_file_has(tmp_path):
     msg = str(exc.value)
     assert "missing column 'name'" in msg and "'Name'" in msg and "[trace.association_columns]" in msg
     cols = {k: v for k, v in MAP.items() if k != "pm_ra_cosdec"}
-    with pytest.raises(InputError, match=r"missing column 'pm_ra_cosdec'.*nearest: 'pmRA'"):
+    with pytest.raises(InputError, match=r"missing column 'pm_ra_cosdec'.*nearest: 'pmRAcosDE'"):
         read_associations(paths["fits"], columns=cols)
 
 
@@ -185,7 +185,7 @@ def test_scenario_map_is_checked_before_any_work(tmp_path):
     paths = write_all(tmp_path)
     raw = {"star": {"ra": 85.0, "dec": -29.0, "parallax": 2.4, "parallax_error": 0.2, "pm_ra_cosdec": 20.0,
                     "pm_dec": -35.0},
-           "trace": {"associations": str(paths["fits"]), "association_columns": {"pm_dec": "pmRA", "pm_ra_cosdec": "pmRA"}}}
+           "trace": {"associations": str(paths["fits"]), "association_columns": {"pm_dec": "pmRAcosDE", "pm_ra_cosdec": "pmRAcosDE"}}}
     with pytest.raises(InputError, match=r"\[trace.association_columns\] pm_ra_cosdec.*already mapped"):
         kinage.scenario_from_dict(raw)
 

@@ -87,13 +87,13 @@ def test_both_ways_of_giving_the_pm_correlation_is_refused():
 
 def test_star_from_a_catalogue_row_with_its_correlations():
     t = Table({"Src": ["Invented-4"], "RA_ICRS": [211.3], "DE_ICRS": [17.8], "Plx": [2.0], "e_Plx": [0.02],
-               "pmRA": [14.0], "e_pmRA": [0.3], "pmDE": [-9.0], "e_pmDE": [0.25], "Plx_pmRA": [0.3],
+               "pmRAcosDE": [14.0], "e_pmRA": [0.3], "pmDE": [-9.0], "e_pmDE": [0.25], "Plx_pmRA": [0.3],
                "Dist_kpc": [0.48]})
     t["RA_ICRS"].unit = t["DE_ICRS"].unit = u.deg
     t["Plx"].unit = t["e_Plx"].unit = u.mas
-    t["pmRA"].unit = t["e_pmRA"].unit = t["pmDE"].unit = t["e_pmDE"].unit = u.mas / u.yr
+    t["pmRAcosDE"].unit = t["e_pmRA"].unit = t["pmDE"].unit = t["e_pmDE"].unit = u.mas / u.yr
     cols = {"name": "Src", "ra": "RA_ICRS", "dec": "DE_ICRS", "parallax": "Plx", "parallax_error": "e_Plx",
-            "pm_ra_cosdec": "pmRA", "pm_ra_cosdec_error": "e_pmRA", "pm_dec": "pmDE", "pm_dec_error": "e_pmDE",
+            "pm_ra_cosdec": "pmRAcosDE", "pm_ra_cosdec_error": "e_pmRA", "pm_dec": "pmDE", "pm_dec_error": "e_pmDE",
             "correlations": {"parallax_pm_ra_cosdec": "Plx_pmRA"}}
     s = kinage.star_from_table(t[0], columns=cols, spin_period="0.8123 s")
     assert s["parallax"].to_value(u.mas) == pytest.approx(2.0)
@@ -107,4 +107,4 @@ def test_star_from_a_catalogue_row_with_its_correlations():
                                 distance_from="parallax")
     assert s2["distance"].to_value(u.pc) == pytest.approx(480.0)
     with pytest.raises(InputError, match="nearest: 'pmDE'"):
-        kinage.star_from_table(t[0], columns={**cols, "pm_dec": "pmDEC"})
+        kinage.star_from_table(t[0], columns={**cols, "pm_dec": "pmDEx"})
