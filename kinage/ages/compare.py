@@ -81,7 +81,9 @@ class AgesResult(ResultDisplay):
                                              for r in self.cooling_at_mass.per_model]
         out["verdicts"] = [{"pair": v["pair"], "text": v["text"], "consistent": v["consistent"],
                             "ratio": v["ratio"], **({"favoured_models": v["favoured_models"]}
-                                                    if "favoured_models" in v else {})}
+                                                    if "favoured_models" in v else {}),
+                            **({"reconciling_envelopes": v["reconciling_envelopes"]}
+                               if "reconciling_envelopes" in v else {})}
                            for v in self.verdicts]
         out["warnings"] = list(self.warnings)
         out["inputs"] = self.inputs
@@ -105,9 +107,14 @@ class AgesResult(ResultDisplay):
             tc_iv = self.uncertainties.get("characteristic_age_yr")
             parts.append(f"characteristic age {format_age_interval(tc_iv, tc, bare=True)}")
         if self.cooling is not None and self.cooling.pooled.get("median") is not None:
-            r = self.cooling.range_yr
-            parts.append(f"cooling age {format_age_interval(self.cooling.pooled, bare=True)} "
-                         f"(range {format_age(r['lo68'], 2)}-{format_age(r['hi68'], 2)} over envelopes and masses)")
+            envs = [e for e in self.cooling.per_envelope if e.get("median") is not None]
+            if len(envs) > 1:  # one age per envelope: they differ by more than their errors
+                parts.append("cooling age " + ", ".join(f"{format_age_interval(e, bare=True)} ({e['envelope']})"
+                                                        for e in envs) + " by envelope")
+            else:
+                r = self.cooling.range_yr
+                parts.append(f"cooling age {format_age_interval(self.cooling.pooled, bare=True)} "
+                             f"(range {format_age(r['lo68'], 2)}-{format_age(r['hi68'], 2)} over the masses)")
         head = ("; ".join(parts) + ".") if parts else "No ages could be computed."
         if head[0].islower():
             head = head[0].upper() + head[1:]
@@ -165,6 +172,8 @@ class AgesResult(ResultDisplay):
                 ct[name] = c.T_inf_K
                 ct[name].unit = "K"
             ct.meta["model"] = self.cooling.model
+            ct.meta["envelopes"] = {e["envelope"]: e["description"] for e in self.cooling.per_envelope}
+            ct.meta["pairing"] = getattr(self.cooling, "pairing", None) or "none (model without nucleon pairing)"
             with atomic_path(out / "ages_cooling_curves.ecsv") as tmp:
                 ct.write(tmp, format="ascii.ecsv", overwrite=True)
             paths.append(out / "ages_cooling_curves.ecsv")

@@ -34,7 +34,7 @@ from scipy.optimize import brentq
 from .._units import quantity_edge
 from ..errors import InputError, ModelRangeError
 from ..params import ParameterSet, get
-from .envelope import ENVELOPES, TB_MAX_K, TB_MIN_K, TS_MIN_K, star_structure
+from .envelope import TB_MAX_K, TB_MIN_K, TS_MIN_K, envelope_relation, star_structure
 from .spindown import SECONDS_PER_YEAR
 
 __all__ = ["CoolingModel", "CoolingCurve", "cooling_curve", "field_decay_heating", "default_times"]
@@ -231,7 +231,7 @@ def cooling_curve(mass, radius, envelope="iron", times_yr=None, model="modified-
     ----------
     mass : float (solar masses) or Quantity [mass]
     radius : float (km) or Quantity [length]
-    envelope : {'iron', 'accreted', 'gpe83'}
+    envelope : {'iron', 'accreted', 'gpe83'} or 'light<log10 dM/M>' (e.g. 'light-12')
         Envelope relation (:mod:`.envelope`).
     times_yr : array-like (yr) or Quantity [time], optional
         Output times within the model's span (default: 301 log-spaced
@@ -263,8 +263,7 @@ def cooling_curve(mass, radius, envelope="iron", times_yr=None, model="modified-
         times_yr = times_yr.to_value(u.yr)
     m = CoolingModel.resolve(model)
     env = str(envelope).lower()
-    if env not in ENVELOPES:
-        raise InputError("[ages] envelopes", f"unknown envelope {envelope!r}; choose one of: {', '.join(ENVELOPES)}")
+    envelope_relation(env)  # an unknown name is an InputError here, before any work
     times = default_times(m) if times_yr is None else np.atleast_1d(np.asarray(times_yr, float))
     if check and (np.any(times < m.t_start_yr * (1 - 1e-9)) or np.any(times > m.t_end_yr * (1 + 1e-9))):
         raise ModelRangeError("times_yr", f"cooling model '{m.name}' covers {m.t_start_yr:g} to {m.t_end_yr:g} yr "
@@ -289,7 +288,7 @@ def _cached(mass, radius, env, key, times, m):
 def _solve(mass, radius, env, m, times, heating):
     st = star_structure(mass, radius)
     c0, lmu, ldu = m.coefficients(mass, radius)
-    relation = ENVELOPES[env]
+    relation = envelope_relation(env)
     red = st.redshift_factor
     area = 4.0 * np.pi * (radius * 1e5) ** 2 * red**2 * _SIGMA_SB
 

@@ -36,6 +36,11 @@ class CoolingAgeResult:
     per_model : list of dict
         ``envelope``, ``mass_msun``, ``median``, ``lo68``, ``hi68``,
         ``fraction_in_range``, ``too_hot``, ``too_cold``.
+    per_envelope : list of dict
+        ``envelope``, ``median``, ``lo68``, ``hi68`` (yr) of the ages of one
+        envelope pooled over the masses (equal weight per mass), plus
+        ``description`` and ``light_element_log_mass`` (log10 Delta M/M, or
+        None for iron, accreted and gpe83).
     range_yr : dict
         ``lo68``/``hi68``: the lowest lo68 and highest hi68 over the
         combinations; ``median_min``/``median_max``: range of their medians.
@@ -54,6 +59,7 @@ class CoolingAgeResult:
     model: str = "minimal"
     warnings: list = field(default_factory=list)
     samples: np.ndarray = field(default=None, repr=False)
+    per_envelope: list = field(default_factory=list)
 
     def to_dict(self):
         """JSON-ready record."""
@@ -64,6 +70,7 @@ class CoolingAgeResult:
             "model": self.model,
             "cooling_age_yr": {k: self.pooled[k] for k in ("median", "lo68", "hi68", "lo95", "hi95")},
             "per_model": list(self.per_model),
+            "per_envelope": list(self.per_envelope),
             "range_yr": dict(self.range_yr),
             "warnings": list(self.warnings),
         }
@@ -88,7 +95,8 @@ def cooling_age(temperature_K=None, temperature_error_K=None, *, luminosity_erg_
     radius_km : float or Quantity, km
         One radius for all masses.
     envelopes : sequence of str
-        Envelope relations (:mod:`.envelope`).
+        Envelope relations (:mod:`.envelope`): 'iron', 'accreted', 'gpe83' or
+        'light<log10 dM/M>' (:func:`.envelope.light_element_envelope`).
     model : str or ParameterSet
         Cooling-model parameter set.
     samples : int
@@ -190,6 +198,7 @@ def cooling_age(temperature_K=None, temperature_error_K=None, *, luminosity_erg_
                      f"({lo:.3g}-{hi:.3g} erg/s")
         err.short = short + f" from {m.t_start_yr:g} to {m.t_end_yr:g} yr)"
         raise err
+    per_envelope = _per_envelope(envelopes, curves, pooled)
     all_ages = np.concatenate(pooled) if pooled else np.array([])
     meds = [r["median"] for r in per_model if r["median"] is not None]
     los = [r["lo68"] for r in per_model if r["lo68"] is not None]
@@ -198,4 +207,17 @@ def cooling_age(temperature_K=None, temperature_error_K=None, *, luminosity_erg_
               "median_min": min(meds) if meds else None, "median_max": max(meds) if meds else None}
     return CoolingAgeResult(quantity=quantity, observed=value, observed_error=None if err is None else float(err),
                             pooled=interval(all_ages), per_model=per_model, range_yr=rng_yr, curves=curves,
-                            model=m.name, warnings=warnings, samples=all_ages)
+                            model=m.name, warnings=warnings, samples=all_ages, per_envelope=per_envelope)
+
+
+def _per_envelope(envelopes, curves, pooled):
+    """Interval of each envelope's ages pooled over the masses (each mass's draws weigh the same)."""
+    from .envelope import light_element_log_mass, envelope_label
+
+    out = []
+    for env in dict.fromkeys(str(e).lower() for e in envelopes):
+        ages = [a for c, a in zip(curves, pooled) if c.envelope == env]
+        iv = interval(np.concatenate(ages) if ages else np.array([]))
+        out.append({"envelope": env, "median": iv["median"], "lo68": iv["lo68"], "hi68": iv["hi68"],
+                    "description": envelope_label(env), "light_element_log_mass": light_element_log_mass(env)})
+    return out
