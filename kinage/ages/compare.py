@@ -16,7 +16,7 @@ from .._results import ResultDisplay
 from .._units import quantity_edge
 from ..errors import ModelRangeError
 from ..io.results import interval
-from .cooling_age import cooling_age
+from .cooling_age import cooling_age, cooling_assumptions
 from .draws import draw_kinematic_age, draw_spin, read_settings
 from .envelope import star_structure
 from .field_decay import (exponential_decay_timescale, ohm_hall_characteristic_age, ohm_hall_timescale,
@@ -449,10 +449,7 @@ def _assumptions(s, shk, kin_method):
         f"Spin-down luminosity 4 pi^2 I Pdot / P^3 with I = {s.moment_of_inertia:.3g} g cm^2 (Lorimer & Kramer 2005)",
         "Field decay with P0 << P: tau_c = int B^2 dt / B^2; exponential (closed form) and Ohm + Hall "
         "(Aguilera, Pons & Miralles 2008, ApJ 673, L167)",
-        f"Isothermal-core cooling from 100 yr, model '{s.cooling_model}': C ~ 1e39 T9 erg/K, "
-        "L_MU ~ 1e40 T9^8 erg/s, no superfluidity (Yakovlev & Pethick 2004, ARA&A 42, 169)",
-        "Envelopes: Potekhin, Chabrier & Yakovlev 1997 (iron, accreted), Gudmundsson, Pethick & Epstein 1983",
-        f"One radius R = {s.radius_km:g} km for every mass; redshift sqrt(1 - 2GM/Rc^2)",
+        *cooling_assumptions(s),
         "Gaussian, independent input errors propagated by Monte Carlo",
     ]
     if shk.get("applied"):

@@ -17,7 +17,7 @@ from ..errors import InputError, ModelRangeError
 from ..io.results import interval
 from .cooling import CoolingModel, cooling_curve
 
-__all__ = ["CoolingAgeResult", "cooling_age"]
+__all__ = ["CoolingAgeResult", "cooling_age", "cooling_assumptions"]
 
 _EV_PER_K = 8.617333262e-5  # Boltzmann constant in eV/K (CODATA 2018)
 
@@ -143,6 +143,7 @@ def cooling_age(temperature_K=None, temperature_error_K=None, *, luminosity_erg_
     m = CoolingModel.resolve(model)
     rng = np.random.default_rng(rng)
     curves = [cooling_curve(mass, radius_km, env, model=m, heating=heating) for env in envelopes for mass in masses]
+    radius_notes = _eos_radius_notes(m, masses, radius_km)
 
     if err is None:
         draws = np.full(samples, value)
@@ -151,7 +152,7 @@ def cooling_age(temperature_K=None, temperature_error_K=None, *, luminosity_erg_
         draws = draws[draws > 0]
 
     nominal_ok = False
-    per_model, pooled, warnings = [], [], []
+    per_model, pooled, warnings = [], [], list(radius_notes)
     for c in curves:
         y = c.T_inf_K if quantity == "temperature" else c.L_inf_erg_s
         ages = c.age_at_temperature(draws) if quantity == "temperature" else c.age_at_luminosity(draws)
@@ -210,6 +211,18 @@ def cooling_age(temperature_K=None, temperature_error_K=None, *, luminosity_erg_
                             model=m.name, warnings=warnings, samples=all_ages, per_envelope=per_envelope)
 
 
+def _eos_radius_notes(m, masses, radius_km, tolerance_km=0.5):
+    """Warnings when an EOS model's radii differ from the radius given (which it then does not use)."""
+    if m.eos is None or radius_km is None:
+        return []
+    off = [(mass, m.radius_for(mass, radius_km)) for mass in masses]
+    off = [(mass, r) for mass, r in off if abs(r - radius_km) > tolerance_km]
+    if not off:
+        return []
+    return [f"[ages] radius = {radius_km:g} km is not used by cooling model '{m.name}': its equation of state "
+            f"'{m.eos}' gives " + ", ".join(f"R = {r:.2f} km at {mass:g} Msun" for mass, r in off)]
+
+
 def _per_envelope(envelopes, curves, pooled):
     """Interval of each envelope's ages pooled over the masses (each mass's draws weigh the same)."""
     from .envelope import light_element_log_mass, envelope_label
@@ -221,3 +234,28 @@ def _per_envelope(envelopes, curves, pooled):
         out.append({"envelope": env, "median": iv["median"], "lo68": iv["lo68"], "hi68": iv["hi68"],
                     "description": envelope_label(env), "light_element_log_mass": light_element_log_mass(env)})
     return out
+
+
+def cooling_assumptions(s):
+    """The cooling model's lines of an assumptions list (reference-star scalings, or a star from an EOS).
+
+    Parameters
+    ----------
+    s : AgesSettings
+        ``cooling_model``, ``light_element_mass``, ``radius_km``.
+    """
+    from ..params import get
+
+    eos = get("cooling_model", s.cooling_model).values.get("eos")
+    light = (f", light-element layers log10(Delta M/M) = {', '.join(f'{x:g}' for x in s.light_element_mass)}"
+             if s.light_element_mass else "")
+    env = (f"Envelopes: Potekhin, Chabrier & Yakovlev 1997 (iron, accreted{light}), Gudmundsson, Pethick & "
+           "Epstein 1983")
+    if eos is None:
+        return [f"Isothermal-core cooling from 100 yr, model '{s.cooling_model}': C ~ 1e39 T9 erg/K, "
+                "L_MU ~ 1e40 T9^8 erg/s, no superfluidity (Yakovlev & Pethick 2004, ARA&A 42, 169)", env,
+                f"One radius R = {s.radius_km:g} km for every mass; redshift sqrt(1 - 2GM/Rc^2)"]
+    return [f"Isothermal interior from 100 yr, model '{s.cooling_model}': TOV star of EOS {eos} for each mass, "
+            "heat capacity and modified Urca + nucleon bremsstrahlung of an unpaired npe core integrated over the "
+            "volume with redshift factors (Yakovlev et al. 2001, Phys. Rep. 354, 1); no superfluidity", env,
+            f"Radius from the EOS for each mass (the [ages] radius is not used); redshift sqrt(1 - 2GM/Rc^2)"]

@@ -32,6 +32,7 @@ Structures are cached per (EOS, mass): a mass is found by root-finding the
 central density on the stable branch (below the maximum mass).
 """
 
+from bisect import bisect_right
 from dataclasses import dataclass
 from functools import lru_cache
 
@@ -169,8 +170,9 @@ class Structure:
     @property
     def volume_element(self):
         """Proper volume per unit radius, 4 pi r^2 / sqrt(1 - 2 G m / r c^2), cm^2."""
-        r = np.maximum(self.r_cm, 1e-30)
-        return 4 * np.pi * self.r_cm**2 / np.sqrt(1 - 2 * G_CGS * self.mass_g / (r * C_CGS**2))
+        r = np.maximum(self.r_cm, 1.0)
+        compact = np.where(self.r_cm > 0, 2 * G_CGS * self.mass_g / (r * C_CGS**2), 0.0)
+        return 4 * np.pi * self.r_cm**2 / np.sqrt(1 - compact)
 
     def core(self, eos_model_):
         """Boolean mask of the uniform-matter core (rho above the crust-core boundary)."""
@@ -197,11 +199,15 @@ def tov(eos, rho_c, n_out=400):
     p_c = float(m.pressure(rho_c))
     p_surf = float(m.pressure(_RHO_SURFACE))
 
-    def rhs(r, y):
+    p_lo = (m.k * m.rho_lo**m.gamma).tolist()
+    ks, gs, as_ = m.k.tolist(), m.gamma.tolist(), m.a.tolist()
+
+    def rhs(r, y):  # plain floats: this runs ~1,000 times per star
         mass, p, _ = y
         p = max(p, p_surf * 1e-3)
-        rho = m.density_at_pressure(p)
-        eps = m.energy_density(rho)
+        i = max(bisect_right(p_lo, p) - 1, 0)
+        rho = (p / ks[i]) ** (1.0 / gs[i])
+        eps = (1.0 + as_[i]) * rho + ks[i] * rho ** gs[i] / (gs[i] - 1.0)
         dp = -gc2 * (eps + p) * (mass + 4 * np.pi * r**3 * p) / (r**2 * (1 - 2 * gc2 * mass / r))
         return [4 * np.pi * r**2 * eps, dp, -dp / (eps + p)]
 
