@@ -8,7 +8,7 @@ Solar Shapiro delay for a source at infinity, with the observer's distance
 from the Sun.  The delay of a ray from an emitter at distance r_e from the
 Sun to an observer at distance r (emitter-observer distance rho) is
 (Shapiro 1964, Phys. Rev. Lett. 13, 789; e.g. Backer & Hellings 1986,
-ARA&A 24, 537, eq. 6)::
+ARA&A 24, 537)::
 
     2 T_sun ln[(r_e + r + rho) / (r_e + r - rho)],   T_sun = G M_sun / c^3 = 4.925490947 us.
 
@@ -37,8 +37,8 @@ observer moving with velocity v (first order Doppler shift).
 
 import numpy as np
 
-__all__ = ["T_SUN_S", "AU_LIGHT_S", "DISPERSION_CONSTANT_S", "solar_shapiro_delay", "dispersion_delay", "barycentric_frequency",
-           "cos_elongation"]
+__all__ = ["T_SUN_S", "AU_LIGHT_S", "DISPERSION_CONSTANT_S", "solar_shapiro_delay", "dispersion_delay",
+           "barycentric_frequency", "cos_elongation"]
 
 #: G M_sun / c^3 in seconds (IAU 2015 nominal solar mass parameter GM_sun = 1.3271244e20 m^3 s^-2)
 T_SUN_S = 4.925490947e-6
