@@ -16,7 +16,7 @@ from pathlib import Path
 
 
 def _scenario(path, light=None):
-    text = ('[star]\nname = "Tessaly-4"\nspin_period = "0.4127 s"\nspin_period_derivative = 3.9e-14\n'
+    text = ('[star]\nname = "Tessaly-4"\nspin_period = "0.4718 s"\nspin_period_derivative = 3.9e-14\n'
             'temperature = "63 eV"\ntemperature_error = "6 eV"\n\n[ages]\nkinematic_age = "120 kyr"\n'
             'kinematic_age_error = "30 kyr"\n')
     if light:
