@@ -16,7 +16,7 @@ from .._results import ResultDisplay
 from .._units import quantity_edge
 from ..errors import ModelRangeError
 from ..io.results import interval
-from .cooling_age import cooling_age
+from .cooling_age import cooling_age, cooling_assumptions
 from .draws import draw_kinematic_age, draw_spin, read_settings
 from .envelope import star_structure
 from .field_decay import (exponential_decay_timescale, ohm_hall_characteristic_age, ohm_hall_timescale,
@@ -81,7 +81,9 @@ class AgesResult(ResultDisplay):
                                              for r in self.cooling_at_mass.per_model]
         out["verdicts"] = [{"pair": v["pair"], "text": v["text"], "consistent": v["consistent"],
                             "ratio": v["ratio"], **({"favoured_models": v["favoured_models"]}
-                                                    if "favoured_models" in v else {})}
+                                                    if "favoured_models" in v else {}),
+                            **({"reconciling_envelopes": v["reconciling_envelopes"]}
+                               if "reconciling_envelopes" in v else {})}
                            for v in self.verdicts]
         out["warnings"] = list(self.warnings)
         out["inputs"] = self.inputs
@@ -105,9 +107,14 @@ class AgesResult(ResultDisplay):
             tc_iv = self.uncertainties.get("characteristic_age_yr")
             parts.append(f"characteristic age {format_age_interval(tc_iv, tc, bare=True)}")
         if self.cooling is not None and self.cooling.pooled.get("median") is not None:
-            r = self.cooling.range_yr
-            parts.append(f"cooling age {format_age_interval(self.cooling.pooled, bare=True)} "
-                         f"(range {format_age(r['lo68'], 2)}-{format_age(r['hi68'], 2)} over envelopes and masses)")
+            envs = [e for e in self.cooling.per_envelope if e.get("median") is not None]
+            if len(envs) > 1:  # one age per envelope: they differ by more than their errors
+                parts.append("cooling age " + ", ".join(f"{format_age_interval(e, bare=True)} ({e['envelope']})"
+                                                        for e in envs) + " by envelope")
+            else:
+                r = self.cooling.range_yr
+                parts.append(f"cooling age {format_age_interval(self.cooling.pooled, bare=True)} "
+                             f"(range {format_age(r['lo68'], 2)}-{format_age(r['hi68'], 2)} over the masses)")
         head = ("; ".join(parts) + ".") if parts else "No ages could be computed."
         if head[0].islower():
             head = head[0].upper() + head[1:]
@@ -165,6 +172,8 @@ class AgesResult(ResultDisplay):
                 ct[name] = c.T_inf_K
                 ct[name].unit = "K"
             ct.meta["model"] = self.cooling.model
+            ct.meta["envelopes"] = {e["envelope"]: e["description"] for e in self.cooling.per_envelope}
+            ct.meta["pairing"] = getattr(self.cooling, "pairing", None) or "none (model without nucleon pairing)"
             with atomic_path(out / "ages_cooling_curves.ecsv") as tmp:
                 ct.write(tmp, format="ascii.ecsv", overwrite=True)
             paths.append(out / "ages_cooling_curves.ecsv")
@@ -440,10 +449,7 @@ def _assumptions(s, shk, kin_method):
         f"Spin-down luminosity 4 pi^2 I Pdot / P^3 with I = {s.moment_of_inertia:.3g} g cm^2 (Lorimer & Kramer 2005)",
         "Field decay with P0 << P: tau_c = int B^2 dt / B^2; exponential (closed form) and Ohm + Hall "
         "(Aguilera, Pons & Miralles 2008, ApJ 673, L167)",
-        f"Isothermal-core cooling from 100 yr, model '{s.cooling_model}': C ~ 1e39 T9 erg/K, "
-        "L_MU ~ 1e40 T9^8 erg/s, no superfluidity (Yakovlev & Pethick 2004, ARA&A 42, 169)",
-        "Envelopes: Potekhin, Chabrier & Yakovlev 1997 (iron, accreted), Gudmundsson, Pethick & Epstein 1983",
-        f"One radius R = {s.radius_km:g} km for every mass; redshift sqrt(1 - 2GM/Rc^2)",
+        *cooling_assumptions(s),
         "Gaussian, independent input errors propagated by Monte Carlo",
     ]
     if shk.get("applied"):

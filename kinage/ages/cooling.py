@@ -34,7 +34,7 @@ from scipy.optimize import brentq
 from .._units import quantity_edge
 from ..errors import InputError, ModelRangeError
 from ..params import ParameterSet, get
-from .envelope import ENVELOPES, TB_MAX_K, TB_MIN_K, TS_MIN_K, star_structure
+from .envelope import TB_MAX_K, TB_MIN_K, TS_MIN_K, envelope_relation, star_structure
 from .spindown import SECONDS_PER_YEAR
 
 __all__ = ["CoolingModel", "CoolingCurve", "cooling_curve", "field_decay_heating", "default_times"]
@@ -61,6 +61,13 @@ class CoolingModel:
     reference_mass_msun, reference_radius_km : float
     t_start_yr, t_end_yr : float
     parameter_set : ParameterSet
+    eos : str or None
+        An ``eos`` parameter set: C0 and L_MU are then integrated over the
+        TOV star of each mass (:mod:`.star_cooling`; unpaired npe core,
+        modified Urca and nucleon bremsstrahlung) and the radius follows from
+        the mass, instead of the reference-star scalings.
+    effective_mass_n, effective_mass_p : float
+        Nucleon effective masses (units of the bare masses) for ``eos`` models.
     """
 
     name: str
@@ -74,6 +81,11 @@ class CoolingModel:
     t_start_yr: float
     t_end_yr: float
     parameter_set: ParameterSet = field(repr=False, compare=False, default=None)
+    eos: str | None = None
+    effective_mass_n: float = 0.8
+    effective_mass_p: float = 0.8
+
+    _OPTIONAL = ("name", "parameter_set", "eos", "effective_mass_n", "effective_mass_p")
 
     @classmethod
     def resolve(cls, model, where="[ages] cooling_model"):
@@ -85,18 +97,40 @@ class CoolingModel:
         pset = model if isinstance(model, ParameterSet) else get("cooling_model", model, where)
         if pset.kind != "cooling_model":
             raise InputError(where, f"expected a cooling_model parameter set (got kind {pset.kind!r})")
-        names = [f for f in cls.__dataclass_fields__ if f not in ("name", "parameter_set")]
+        names = [f for f in cls.__dataclass_fields__ if f not in cls._OPTIONAL]
         missing = [k for k in names if k not in pset.values]
         if missing:
             raise InputError(where, f"cooling model '{pset.name}' lacks values: {', '.join(missing)}")
-        return cls(name=pset.name, parameter_set=pset, **{k: float(pset.values[k]) for k in names})
+        extra = {k: float(pset.values[k]) for k in ("effective_mass_n", "effective_mass_p") if k in pset.values}
+        eos = pset.values.get("eos")
+        if eos is not None:
+            get("eos", eos, f"cooling model '{pset.name}' eos")
+        return cls(name=pset.name, parameter_set=pset, eos=eos, **extra,
+                   **{k: float(pset.values[k]) for k in names})
 
     def key(self):
         """Hashable identity of the coefficients (for caching)."""
         return tuple(getattr(self, f) for f in self.__dataclass_fields__ if f != "parameter_set")
 
+    def radius_for(self, mass_msun, radius_km):
+        """The radius (km) a curve uses: the EOS's for this mass for an ``eos`` model, else ``radius_km``."""
+        if self.eos is None:
+            return radius_km
+        from .star_cooling import npe_core_coefficients
+
+        return npe_core_coefficients(self.eos, mass_msun, self.effective_mass_n, self.effective_mass_p)[2]
+
     def coefficients(self, mass_msun, radius_km):
-        """(C0 [erg/K], L_MU [erg/s], L_DU [erg/s]) scaled to a star of given mass and radius."""
+        """(C0 [erg/K], L_MU [erg/s], L_DU [erg/s]) for a star of given mass and radius.
+
+        Scaled from the reference star, or for an ``eos`` model integrated over
+        the TOV star of that mass (the radius then follows from the EOS).
+        """
+        if self.eos is not None:
+            from .star_cooling import npe_core_coefficients
+
+            c0, l0, _ = npe_core_coefficients(self.eos, mass_msun, self.effective_mass_n, self.effective_mass_p)
+            return c0, l0, 0.0
         mr = mass_msun / self.reference_mass_msun
         rho = mr * (self.reference_radius_km / radius_km) ** 3
         c0 = self.heat_capacity_erg_K * mr * rho ** (-2.0 / 3.0)
@@ -231,7 +265,8 @@ def cooling_curve(mass, radius, envelope="iron", times_yr=None, model="modified-
     ----------
     mass : float (solar masses) or Quantity [mass]
     radius : float (km) or Quantity [length]
-    envelope : {'iron', 'accreted', 'gpe83'}
+        Ignored by models with an ``eos`` (the radius follows from the mass).
+    envelope : {'iron', 'accreted', 'gpe83'} or 'light<log10 dM/M>' (e.g. 'light-12')
         Envelope relation (:mod:`.envelope`).
     times_yr : array-like (yr) or Quantity [time], optional
         Output times within the model's span (default: 301 log-spaced
@@ -263,14 +298,14 @@ def cooling_curve(mass, radius, envelope="iron", times_yr=None, model="modified-
         times_yr = times_yr.to_value(u.yr)
     m = CoolingModel.resolve(model)
     env = str(envelope).lower()
-    if env not in ENVELOPES:
-        raise InputError("[ages] envelopes", f"unknown envelope {envelope!r}; choose one of: {', '.join(ENVELOPES)}")
+    envelope_relation(env)  # an unknown name is an InputError here, before any work
     times = default_times(m) if times_yr is None else np.atleast_1d(np.asarray(times_yr, float))
     if check and (np.any(times < m.t_start_yr * (1 - 1e-9)) or np.any(times > m.t_end_yr * (1 + 1e-9))):
         raise ModelRangeError("times_yr", f"cooling model '{m.name}' covers {m.t_start_yr:g} to {m.t_end_yr:g} yr "
                               f"(isothermal core) (got {np.min(times):.3g} to {np.max(times):.3g} yr)")
     if np.any(np.diff(times) <= 0):
         raise InputError("times_yr", "must be strictly increasing")
+    radius = m.radius_for(float(mass), float(radius))
     if heating is None:
         return _cached_curve(float(mass), float(radius), env, m, tuple(times.tolist()))
     return _solve(float(mass), float(radius), env, m, times, heating)
@@ -289,7 +324,7 @@ def _cached(mass, radius, env, key, times, m):
 def _solve(mass, radius, env, m, times, heating):
     st = star_structure(mass, radius)
     c0, lmu, ldu = m.coefficients(mass, radius)
-    relation = ENVELOPES[env]
+    relation = envelope_relation(env)
     red = st.redshift_factor
     area = 4.0 * np.pi * (radius * 1e5) ** 2 * red**2 * _SIGMA_SB
 

@@ -17,7 +17,7 @@ from ..errors import InputError, ModelRangeError
 from ..io.results import interval
 from .cooling import CoolingModel, cooling_curve
 
-__all__ = ["CoolingAgeResult", "cooling_age"]
+__all__ = ["CoolingAgeResult", "cooling_age", "cooling_assumptions"]
 
 _EV_PER_K = 8.617333262e-5  # Boltzmann constant in eV/K (CODATA 2018)
 
@@ -36,6 +36,11 @@ class CoolingAgeResult:
     per_model : list of dict
         ``envelope``, ``mass_msun``, ``median``, ``lo68``, ``hi68``,
         ``fraction_in_range``, ``too_hot``, ``too_cold``.
+    per_envelope : list of dict
+        ``envelope``, ``median``, ``lo68``, ``hi68`` (yr) of the ages of one
+        envelope pooled over the masses (equal weight per mass), plus
+        ``description`` and ``light_element_log_mass`` (log10 Delta M/M, or
+        None for iron, accreted and gpe83).
     range_yr : dict
         ``lo68``/``hi68``: the lowest lo68 and highest hi68 over the
         combinations; ``median_min``/``median_max``: range of their medians.
@@ -54,6 +59,7 @@ class CoolingAgeResult:
     model: str = "minimal"
     warnings: list = field(default_factory=list)
     samples: np.ndarray = field(default=None, repr=False)
+    per_envelope: list = field(default_factory=list)
 
     def to_dict(self):
         """JSON-ready record."""
@@ -64,6 +70,7 @@ class CoolingAgeResult:
             "model": self.model,
             "cooling_age_yr": {k: self.pooled[k] for k in ("median", "lo68", "hi68", "lo95", "hi95")},
             "per_model": list(self.per_model),
+            "per_envelope": list(self.per_envelope),
             "range_yr": dict(self.range_yr),
             "warnings": list(self.warnings),
         }
@@ -88,7 +95,8 @@ def cooling_age(temperature_K=None, temperature_error_K=None, *, luminosity_erg_
     radius_km : float or Quantity, km
         One radius for all masses.
     envelopes : sequence of str
-        Envelope relations (:mod:`.envelope`).
+        Envelope relations (:mod:`.envelope`): 'iron', 'accreted', 'gpe83' or
+        'light<log10 dM/M>' (:func:`.envelope.light_element_envelope`).
     model : str or ParameterSet
         Cooling-model parameter set.
     samples : int
@@ -135,6 +143,7 @@ def cooling_age(temperature_K=None, temperature_error_K=None, *, luminosity_erg_
     m = CoolingModel.resolve(model)
     rng = np.random.default_rng(rng)
     curves = [cooling_curve(mass, radius_km, env, model=m, heating=heating) for env in envelopes for mass in masses]
+    radius_notes = _eos_radius_notes(m, masses, radius_km)
 
     if err is None:
         draws = np.full(samples, value)
@@ -143,7 +152,7 @@ def cooling_age(temperature_K=None, temperature_error_K=None, *, luminosity_erg_
         draws = draws[draws > 0]
 
     nominal_ok = False
-    per_model, pooled, warnings = [], [], []
+    per_model, pooled, warnings = [], [], list(radius_notes)
     for c in curves:
         y = c.T_inf_K if quantity == "temperature" else c.L_inf_erg_s
         ages = c.age_at_temperature(draws) if quantity == "temperature" else c.age_at_luminosity(draws)
@@ -190,6 +199,7 @@ def cooling_age(temperature_K=None, temperature_error_K=None, *, luminosity_erg_
                      f"({lo:.3g}-{hi:.3g} erg/s")
         err.short = short + f" from {m.t_start_yr:g} to {m.t_end_yr:g} yr)"
         raise err
+    per_envelope = _per_envelope(envelopes, curves, pooled)
     all_ages = np.concatenate(pooled) if pooled else np.array([])
     meds = [r["median"] for r in per_model if r["median"] is not None]
     los = [r["lo68"] for r in per_model if r["lo68"] is not None]
@@ -198,4 +208,54 @@ def cooling_age(temperature_K=None, temperature_error_K=None, *, luminosity_erg_
               "median_min": min(meds) if meds else None, "median_max": max(meds) if meds else None}
     return CoolingAgeResult(quantity=quantity, observed=value, observed_error=None if err is None else float(err),
                             pooled=interval(all_ages), per_model=per_model, range_yr=rng_yr, curves=curves,
-                            model=m.name, warnings=warnings, samples=all_ages)
+                            model=m.name, warnings=warnings, samples=all_ages, per_envelope=per_envelope)
+
+
+def _eos_radius_notes(m, masses, radius_km, tolerance_km=0.5):
+    """Warnings when an EOS model's radii differ from the radius given (which it then does not use)."""
+    if m.eos is None or radius_km is None:
+        return []
+    off = [(mass, m.radius_for(mass, radius_km)) for mass in masses]
+    off = [(mass, r) for mass, r in off if abs(r - radius_km) > tolerance_km]
+    if not off:
+        return []
+    return [f"[ages] radius = {radius_km:g} km is not used by cooling model '{m.name}': its equation of state "
+            f"'{m.eos}' gives " + ", ".join(f"R = {r:.2f} km at {mass:g} Msun" for mass, r in off)]
+
+
+def _per_envelope(envelopes, curves, pooled):
+    """Interval of each envelope's ages pooled over the masses (each mass's draws weigh the same)."""
+    from .envelope import light_element_log_mass, envelope_label
+
+    out = []
+    for env in dict.fromkeys(str(e).lower() for e in envelopes):
+        ages = [a for c, a in zip(curves, pooled) if c.envelope == env]
+        iv = interval(np.concatenate(ages) if ages else np.array([]))
+        out.append({"envelope": env, "median": iv["median"], "lo68": iv["lo68"], "hi68": iv["hi68"],
+                    "description": envelope_label(env), "light_element_log_mass": light_element_log_mass(env)})
+    return out
+
+
+def cooling_assumptions(s):
+    """The cooling model's lines of an assumptions list (reference-star scalings, or a star from an EOS).
+
+    Parameters
+    ----------
+    s : AgesSettings
+        ``cooling_model``, ``light_element_mass``, ``radius_km``.
+    """
+    from ..params import get
+
+    eos = get("cooling_model", s.cooling_model).values.get("eos")
+    light = (f", light-element layers log10(Delta M/M) = {', '.join(f'{x:g}' for x in s.light_element_mass)}"
+             if s.light_element_mass else "")
+    env = (f"Envelopes: Potekhin, Chabrier & Yakovlev 1997 (iron, accreted{light}), Gudmundsson, Pethick & "
+           "Epstein 1983")
+    if eos is None:
+        return [f"Isothermal-core cooling from 100 yr, model '{s.cooling_model}': C ~ 1e39 T9 erg/K, "
+                "L_MU ~ 1e40 T9^8 erg/s, no superfluidity (Yakovlev & Pethick 2004, ARA&A 42, 169)", env,
+                f"One radius R = {s.radius_km:g} km for every mass; redshift sqrt(1 - 2GM/Rc^2)"]
+    return [f"Isothermal interior from 100 yr, model '{s.cooling_model}': TOV star of EOS {eos} for each mass, "
+            "heat capacity and modified Urca + nucleon bremsstrahlung of an unpaired npe core integrated over the "
+            "volume with redshift factors (Yakovlev et al. 2001, Phys. Rep. 354, 1); no superfluidity", env,
+            f"Radius from the EOS for each mass (the [ages] radius is not used); redshift sqrt(1 - 2GM/Rc^2)"]

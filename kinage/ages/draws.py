@@ -36,6 +36,7 @@ class AgesSettings:
     envelopes: tuple
     masses: tuple
     cooling_model: str
+    light_element_mass: tuple
     hall_timescale_yr: float | None
     ohmic_timescale_yr: float | None
     samples: int
@@ -47,6 +48,21 @@ def _ages_value(section, key, unit=None):
         return section.value(key, unit)
     k = SCHEMA["ages"].get(key)
     return None if k is None else k.default
+
+
+def _envelopes(section):
+    """``[ages] envelopes`` with one 'light<log10 dM/M>' envelope per ``light_element_mass`` value, in order of
+    light-element mass: iron first, the light-element layers, then fully accreted."""
+    from .envelope import light_element_envelope
+
+    envs = [str(e).lower() for e in _ages_value(section, "envelopes")]
+    light = [light_element_envelope(x) for x in sorted(set(_ages_value(section, "light_element_mass") or ()))]
+    if not light:
+        return tuple(envs)
+    head = [e for e in envs if e != "accreted"]
+    at = head.index("iron") + 1 if "iron" in head else 0
+    out = head[:at] + [e for e in light if e not in envs] + head[at:] + (["accreted"] if "accreted" in envs else [])
+    return tuple(out)
 
 
 def read_settings(scenario):
@@ -62,9 +78,10 @@ def read_settings(scenario):
         kinematic_age_error_yr=_ages_value(a, "kinematic_age_error", "yr"),
         mass_msun=float(_ages_value(a, "mass", "solMass")),
         radius_km=float(_ages_value(a, "radius", "km")),
-        envelopes=tuple(_ages_value(a, "envelopes")),
+        envelopes=_envelopes(a),
         masses=tuple(float(x) for x in _ages_value(a, "masses")),
         cooling_model=str(_ages_value(a, "cooling_model")),
+        light_element_mass=tuple(_ages_value(a, "light_element_mass") or ()),
         hall_timescale_yr=_ages_value(a, "hall_timescale", "yr"),
         ohmic_timescale_yr=_ages_value(a, "ohmic_timescale", "yr"),
         samples=int(_ages_value(a, "samples")),

@@ -16,6 +16,20 @@ the surface gravity g.  Relations offered (names used in scenario files):
     the same paper, fully accreted (light-element) envelope:
     Ts6^4 = g14 (18.1 Tb9)^2.42.
 
+``"light-12"`` (``light`` followed by log10(Delta M / M))
+    the same paper, partially accreted: a light-element layer of mass
+    Delta M on top of iron, interpolating between the two fits above with
+    eta = g14^2 Delta M / M:
+    Ts^4 = [a Ts_Fe^4 + Ts_acc^4] / (a + 1),
+    a = [1.2 + (5.3e-6 / eta)^0.38] Tb9^(5/3).
+    Small eta gives the iron relation, large eta (and low Tb) the fully
+    accreted one.  Named by :func:`light_element_envelope` from the scenario
+    key ``[ages] light_element_mass``; log10(Delta M / M) from
+    :data:`LIGHT_ELEMENT_LOG_RANGE` (-17 to -7: from ~1e-16 Msun of light
+    elements, the least that changes Ts, up to the ~1e-7 M of the whole
+    envelope above 1e10 g/cm^3, where light elements have burnt; value from
+    memory).
+
 Here Ts6 = Ts / 1e6 K, Tb9 = Tb / 1e9 K, g14 = g / 1e14 cm s^-2.  The fit
 coefficients of the 1997 paper are quoted from memory (the paper itself could
 not be consulted when this was written; value from memory); the iron fit
@@ -40,6 +54,12 @@ __all__ = [
     "gpe83",
     "pcy97_iron",
     "pcy97_accreted",
+    "pcy97_light",
+    "LIGHT_ELEMENT_LOG_RANGE",
+    "light_element_envelope",
+    "light_element_log_mass",
+    "envelope_relation",
+    "envelope_label",
     "StarStructure",
     "star_structure",
 ]
@@ -75,7 +95,84 @@ def pcy97_accreted(tb_k, g14):
     return 1e6 * (np.asarray(g14, float) * (18.1 * tb9) ** 2.42) ** 0.25
 
 
-#: envelope name -> relation Ts(Tb [K], g14) [K]
+#: log10(Delta M / M) of a light-element layer that the partially accreted relation covers
+LIGHT_ELEMENT_LOG_RANGE = (-17.0, -7.0)
+
+
+def pcy97_light(tb_k, g14, log_dm):
+    """Potekhin, Chabrier & Yakovlev (1997) partially accreted envelope; Ts in K (coefficients from memory).
+
+    Parameters
+    ----------
+    tb_k : float or ndarray, K
+        Local temperature at the bottom of the envelope.
+    g14 : float or ndarray, 1e14 cm s^-2
+        Local surface gravity.
+    log_dm : float
+        log10(Delta M / M) of the light-element layer.
+
+    Returns
+    -------
+    float or ndarray, K
+    """
+    tb = np.asarray(tb_k, float)
+    g14 = np.asarray(g14, float)
+    eta = g14**2 * 10.0 ** float(log_dm)
+    a = (1.2 + (5.3e-6 / eta) ** 0.38) * (tb / 1e9) ** (5.0 / 3.0)
+    ts4 = (a * pcy97_iron(tb, g14) ** 4 + pcy97_accreted(tb, g14) ** 4) / (a + 1.0)
+    return ts4**0.25
+
+
+def light_element_envelope(log_dm, where="[ages] light_element_mass"):
+    """The envelope name of a light-element layer with log10(Delta M / M) = ``log_dm``, e.g. ``'light-12'``.
+
+    Raises
+    ------
+    InputError
+        ``log_dm`` outside :data:`LIGHT_ELEMENT_LOG_RANGE`.
+    """
+    x = float(log_dm)
+    lo, hi = LIGHT_ELEMENT_LOG_RANGE
+    if not (np.isfinite(x) and lo <= x <= hi):
+        raise InputError(where, f"log10(Delta M / M) of the light-element envelope must be within {lo:g} to {hi:g} "
+                                f"(Potekhin, Chabrier & Yakovlev 1997; got {log_dm!r})")
+    return f"light{x:+g}"
+
+
+def light_element_log_mass(name):
+    """log10(Delta M / M) of a ``'light<x>'`` envelope name, else None."""
+    if not name.startswith("light") or len(name) == 5:
+        return None
+    try:
+        return float(name[5:])
+    except ValueError:
+        return None
+
+
+def envelope_label(name):
+    """Words for an envelope name: ``'light-12'`` -> ``'light elements, Delta M/M = 1e-12'``."""
+    x = light_element_log_mass(str(name).lower())
+    return str(name) if x is None else f"light elements, Delta M/M = 1e{x:g}"
+
+
+def envelope_relation(name, where="[ages] envelopes"):
+    """The relation Ts(Tb [K], g14) [K] of an envelope name (:data:`ENVELOPES` or ``'light<log10 dM/M>'``)."""
+    env = str(name).lower()
+    if env in ENVELOPES:
+        return ENVELOPES[env]
+    x = light_element_log_mass(env)
+    if x is None:
+        raise InputError(where, f"unknown envelope {name!r}; choose one of: {', '.join(ENVELOPES)}, or "
+                                "light<log10 dM/M> such as 'light-12'")
+    light_element_envelope(x, where)
+
+    def relation(tb_k, g14):
+        return pcy97_light(tb_k, g14, x)
+
+    return relation
+
+
+#: envelope name -> relation Ts(Tb [K], g14) [K]; partially accreted ones are named 'light<log10 dM/M>'
 ENVELOPES = {"iron": pcy97_iron, "accreted": pcy97_accreted, "gpe83": gpe83}
 
 
@@ -89,7 +186,7 @@ def surface_temperature(tb_k, g14, envelope="iron", check=True, where="envelope"
         Local temperature at the bottom of the envelope.
     g14 : float or ndarray, 1e14 cm s^-2
         Local surface gravity.
-    envelope : {'iron', 'accreted', 'gpe83'}
+    envelope : {'iron', 'accreted', 'gpe83'} or 'light<log10 dM/M>'
     check : bool
         Raise :class:`ModelRangeError` outside the declared validity range.
     where : str
@@ -99,10 +196,7 @@ def surface_temperature(tb_k, g14, envelope="iron", check=True, where="envelope"
     -------
     float or ndarray, K
     """
-    try:
-        relation = ENVELOPES[str(envelope).lower()]
-    except KeyError:
-        raise InputError(where, f"unknown envelope {envelope!r}; choose one of: {', '.join(ENVELOPES)}") from None
+    relation = envelope_relation(envelope, where)
     tb = np.asarray(tb_k, float)
     ts = relation(tb, g14)
     if check:

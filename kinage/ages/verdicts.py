@@ -17,6 +17,7 @@ import math
 import numpy as np
 
 from .._rounding import pdg_decimals
+from .cooling_verdicts import cooling_pair_verdict
 
 __all__ = ["format_age", "format_interval", "format_age_interval", "format_factor", "log_sigma",
            "compare_intervals", "pair_verdict", "age_verdicts", "cooling_explanations", "cooling_caveat"]
@@ -239,7 +240,7 @@ def cooling_explanations(s):
     if "iron" not in envs:
         colder.append("a heavy-element (iron) envelope")
     hotter.append("heating (e.g. by magnetic-field decay), which these curves do not include")
-    if not ({"accreted", "light"} & envs):
+    if not ({"accreted", "light"} & envs or any(e.startswith("light") for e in envs)):
         hotter.append("a light-element (accreted) envelope")
     hotter.append("a kinematic age that is too long (a different birthplace)")
     colder.append("a kinematic age that is too short (a different birthplace)")
@@ -383,10 +384,11 @@ def age_verdicts(values, unc, kin, cool, s):
     cool_iv = cool.pooled if cool is not None else None
     cmiss = None if cool is not None else "no temperature or luminosity in [star]"
     colder, hotter = cooling_explanations(s)
-    v = pair_verdict("kinematic-cooling", "kinematic age", kin, "cooling age", cool_iv,
-                     if_younger="the star is colder than the cooling curves predict at that age" + colder,
-                     if_older="the star is hotter than the cooling curves predict at that age" + hotter,
-                     missing=cmiss)
+    # each envelope on its own: the envelopes differ by more than the errors (cooling_verdicts)
+    v = cooling_pair_verdict("kinematic-cooling", "kinematic age", kin, cool,
+                             if_younger="the star is colder than the cooling curves predict at that age" + colder,
+                             if_older="the star is hotter than the cooling curves predict at that age" + hotter,
+                             missing=cmiss)
     caveat = cooling_caveat(cool)
     if v["consistent"] is not None and caveat:
         v["text"] += caveat
@@ -398,11 +400,8 @@ def age_verdicts(values, unc, kin, cool, s):
         if fits:
             v["text"] += f" Envelopes and masses consistent with the kinematic age: {', '.join(fits)}."
         elif v["consistent"]:
-            # the pooled interval spans the envelopes and masses: agreement with it alone is the models' spread
-            v["text"] += (" No single envelope and mass considered matches the kinematic age: the agreement comes "
-                          "from the spread between them.")
-        else:
-            v["text"] += " No envelope and mass considered matches the kinematic age."
+            v["text"] += (" No single mass considered matches it: the agreement comes from the spread between the "
+                          "masses.")
     out.append(v)
     if lower is not None:
         v = _lower_limit_verdict("characteristic-cooling", "cooling age", cool_iv, lower, "a Pdot consistent with zero",
@@ -412,11 +411,11 @@ def age_verdicts(values, unc, kin, cool, s):
             v["ratio"] = 1.0 / v["ratio"]  # this pair's ratio is tau_c / cooling age (here its lower bound)
         out.append(v)
     else:
-        out.append(pair_verdict("characteristic-cooling", "characteristic age", tc_iv, "cooling age", cool_iv,
-                                if_younger="the star is colder than expected at its characteristic age",
-                                if_older="the star is hotter than expected at its characteristic age, as field "
-                                         "decay (spin-down age too long) or heating would give",
-                                missing=miss or cmiss))
+        out.append(cooling_pair_verdict("characteristic-cooling", "characteristic age", tc_iv, cool,
+                                        if_younger="the star is colder than expected at its characteristic age",
+                                        if_older="the star is hotter than expected at its characteristic age, as "
+                                                 "field decay (spin-down age too long) or heating would give",
+                                        missing=miss or cmiss))
     if out[-1]["consistent"] is not None and caveat:
         out[-1]["text"] += caveat
     return out

@@ -201,6 +201,9 @@ _AGES = [
     Key("radius", "quantity", "km", default=12.0, positive=True, doc="neutron-star radius"),
     Key("envelopes", "names", default=("iron", "accreted"), doc="envelope compositions for the cooling age"),
     Key("masses", "floats", default=(1.2, 1.4, 1.6), doc="masses (solar) spanned by the cooling-age range"),
+    Key("light_element_mass", "floats",
+        doc="log10(Delta M/M) of light-element envelopes between iron and fully accreted (one value or a list); "
+            "each adds an envelope 'light<value>' to the cooling age"),
     Key("cooling_model", "str", default="modified-urca", doc="cooling model parameter set (kinage parameter-sets cooling_model)"),
     Key("hall_timescale", "quantity", "yr", positive=True, doc="Hall timescale for the Ohm + Hall decay model"),
     Key("ohmic_timescale", "quantity", "yr", positive=True, doc="Ohmic timescale for the Ohm + Hall decay model"),
@@ -287,6 +290,9 @@ _RANGES = {
                        reason="a neutron star weighs ~0.1-3 Msun (none is stable above ~2.3-3 Msun)"),
         "radius": dict(upper=30, reason="neutron stars have radii of ~10-15 km"),
         "envelopes": dict(choices="envelope", max_length=20),
+        "light_element_mass": dict(lower=-17, upper=-7, max_length=20,
+                                   reason="the partially accreted envelope relation of Potekhin, Chabrier & Yakovlev "
+                                          "1997 spans log10(Delta M/M) from -17 (iron-like) to -7 (fully accreted)"),
         "cooling_model": dict(choices="param:cooling_model"),
         "samples": dict(upper=1_000_000, reason="1e6 Monte Carlo draws already give sub-percent intervals"),
     },

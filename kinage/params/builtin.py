@@ -103,3 +103,4 @@ _builtin(ParameterSet(
     description="uniform space density, r^2 up to r_max = 5 kpc",
 ))
 from . import cooling  # noqa: E402,F401
+from . import eos  # noqa: E402,F401

@@ -77,3 +77,23 @@ _builtin(ParameterSet(
     description=("modified Urca plus direct Urca above 1.5 solar masses (illustrative threshold); "
                  "no pairing, no heating"),
 ))
+
+_NPE_REFS = (
+    "Yakovlev, Kaminker, Gnedin & Haensel 2001, Phys. Rep. 354, 1 (modified Urca and nucleon bremsstrahlung "
+    "emissivities, Fermi-liquid heat capacity; coefficients from memory)",
+    "Gnedin, Yakovlev & Potekhin 2001, MNRAS 324, 725 (isothermal interior after thermal relaxation)",
+    "Read, Lackey, Owen & Friedman 2009, PRD 79, 124032 (equation of state; see the eos sets)",
+    "Gudmundsson, Pethick & Epstein 1983, ApJ 272, 286; Potekhin, Chabrier & Yakovlev 1997, A&A 323, 415 (envelopes)",
+)
+for _eos in ("SLy", "APR4"):
+    # heat_capacity_erg_K, modified_urca_erg_s and the reference star are required by the format but not used:
+    # an eos model integrates both over the TOV star of each mass (kinage.ages.star_cooling)
+    _builtin(ParameterSet(
+        "cooling_model", f"npe-{_eos}",
+        dict(_COMMON, direct_urca_erg_s=0.0, direct_urca_threshold_msun=0.0, direct_urca_width_msun=0.1,
+             eos=_eos, effective_mass_n=0.8, effective_mass_p=0.8),
+        references=_NPE_REFS,
+        description=(f"unpaired npe core of a TOV star ({_eos} EOS): heat capacity, modified Urca and nucleon "
+                     "bremsstrahlung integrated over the volume with redshift factors, radius from the EOS; no "
+                     "nucleon pairing, no direct Urca, no heating"),
+    ))

@@ -87,3 +87,61 @@ def test_star_structure_rejects_too_compact_stars():
     with pytest.raises(InputError, match=r"\[ages\] radius.*Buchdahl"):
         star_structure(1.4, 4.5)
     assert star_structure(1.4, 4.8).redshift_factor > 0
+
+
+# --- light-element (partially accreted) envelopes --------------------------------------------------------------
+def _pcy97_partial_reference(tb, g14, log_dm):
+    # Potekhin, Chabrier & Yakovlev 1997 (A&A 323, 415), partially accreted envelope (coefficients from memory; the
+    # paper could not be retrieved offline): Ts^4 = [a Ts_Fe^4 + Ts_acc^4] / (a + 1),
+    # a = [1.2 + (5.3e-6 / eta)^0.38] Tb9^(5/3), eta = g14^2 Delta M / M
+    eta = g14**2 * 10.0**log_dm
+    a = (1.2 + (5.3e-6 / eta) ** 0.38) * (tb / 1e9) ** (5 / 3)
+    return ((a * _pcy97_iron_reference(tb, g14) ** 4 + _pcy97_accreted_reference(tb, g14) ** 4) / (a + 1)) ** 0.25
+
+
+@pytest.mark.parametrize("tb, g14, log_dm", [(1e7, 1.0, -16), (1e8, 2.4, -12), (5e8, 1.6, -9), (2e9, 1.0, -7)])
+def test_partially_accreted_envelope_formula(tb, g14, log_dm):
+    # transcription check of the from-memory fit (see above), through the name the scenario key produces
+    from kinage.ages.envelope import light_element_envelope
+
+    name = light_element_envelope(log_dm)
+    assert surface_temperature(tb, g14, name, check=False) == pytest.approx(
+        _pcy97_partial_reference(tb, g14, log_dm), rel=1e-12)
+
+
+def test_light_element_envelopes_run_from_iron_to_fully_accreted():
+    # Potekhin et al. 1997 (sec. 5 and their figure of Teff against Tb for several Delta M): the partially accreted
+    # relation lies between the iron and fully accreted ones, rises with the light-element mass, is iron-like for
+    # a trace of light elements and close to fully accreted for a whole envelope of them at Tb ~ 1e7-1e8 K
+    from kinage.ages.envelope import pcy97_light
+
+    tb = np.geomspace(1e7, 3e9, 40)
+    g14 = 1.9
+    prev = pcy97_iron(tb, g14)
+    for x in np.arange(-17, -6.9, 1.0):
+        ts = pcy97_light(tb, g14, x)
+        assert np.all(ts >= prev * (1 - 1e-12)) and np.all(ts <= pcy97_accreted(tb, g14) * (1 + 1e-12))
+        prev = ts
+    cool = tb[tb <= 1e8]
+    # a trace of light elements: within ~10 % of iron (the abstract: masses above ~1e-16 Msun change Ts appreciably)
+    assert np.all(pcy97_light(tb, g14, -17) / pcy97_iron(tb, g14) < 1.12)
+    assert np.all(pcy97_light(cool, g14, -7) / pcy97_accreted(cool, g14) > 0.97)  # within 3 % of fully accreted
+
+
+def test_light_element_mass_outside_the_relation_is_one_line(tmp_path, capsys):
+    # bad input: a key outside its range is one line naming the key and the range, exit 2, nothing written
+    from kinage.cli import main
+
+    scn = tmp_path / "s.toml"
+    scn.write_text('[star]\nname = "Orsk-3"\ntemperature = "60 eV"\n\n[ages]\nlight_element_mass = [-12, -5]\n')
+    out = tmp_path / "out"
+    assert main(["ages", str(scn), "--out", str(out), "--quiet"]) == 2
+    err = capsys.readouterr().err.strip().splitlines()
+    assert len(err) == 1 and "[ages] light_element_mass" in err[0] and "-17" in err[0] and "-7" in err[0], err
+    assert not out.exists()
+    from kinage.ages.envelope import light_element_envelope
+
+    with pytest.raises(InputError, match=r"light_element_mass.*-17 to -7"):
+        light_element_envelope(-19)
+    with pytest.raises(InputError, match="-17 to -7"):
+        surface_temperature(1e8, 1.0, "light-3")

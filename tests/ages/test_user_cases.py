@@ -289,13 +289,38 @@ def test_asymmetric_intervals_compared_on_the_facing_side():
     assert compare_intervals(a, {"median": 100.0, "unbounded_above": True})["consistent"] is True
 
 
-def test_pooled_agreement_without_a_matching_model_is_called_the_models_spread():
-    # kT = 50 eV: the iron and accreted curves reach it at ages a factor ~4 apart (the cooling figure), so the
-    # pooled 68% interval (about 110-470 kyr) is wide; 0.9 Myr is ~1.7 sigma from the pool's upper side but more
-    # than 2 sigma from every single curve's narrow interval
+def test_no_sigma_across_envelopes_that_disagree():
+    # kT = 50 eV: the iron and accreted curves reach it at ages a factor ~4 apart (the cooling figure), so a pooled
+    # 68% interval (about 110-470 kyr) would be wide and 0.9 Myr only ~1.7 "sigma" from it; each envelope on its
+    # own is more than 2 sigma away, so no envelope reconciles the ages and the verdict says so, by envelope
     star = {"name": "Dunmere-5", "spin_period": "1.302 s", "spin_period_derivative": 2e-15,
             "temperature": "50 eV", "temperature_error": "5 eV"}
     d = compare_ages(_scn(star, {"kinematic_age": "0.9 Myr", "kinematic_age_error": "0.15 Myr"}), rng=8).to_dict()
     v = _verdict(d, "kinematic-cooling")
-    assert v["favoured_models"] == [] and v["consistent"] is True
-    assert "the agreement comes from the spread between them" in v["text"]
+    assert v["favoured_models"] == [] and v["reconciling_envelopes"] == [] and v["consistent"] is False
+    assert "older than the cooling age for every envelope considered" in v["text"] and "sigma" not in v["text"]
+    envs = d["cooling"]["per_envelope"]
+    assert [e["envelope"] for e in envs] == ["iron", "accreted"]
+    assert envs[0]["median"] > 2 * envs[1]["median"]  # the iron envelope is the older reading of a cold star
+    for e in envs:
+        assert {"envelope", "median", "lo68", "hi68"} <= set(e) and e["lo68"] < e["median"] < e["hi68"]
+
+
+def test_a_light_element_mass_between_the_ends_reconciles_the_ages():
+    # the same star: a kinematic age between the iron and accreted readings matches neither end; the verdict
+    # says a light-element mass in between may do it, and with [ages] light_element_mass the matching one is named
+    star = {"name": "Dunmere-5", "spin_period": "1.302 s", "spin_period_derivative": 2e-15,
+            "temperature": "50 eV", "temperature_error": "5 eV"}
+    ages = {"kinematic_age": "230 kyr", "kinematic_age_error": "20 kyr"}
+    v = _verdict(compare_ages(_scn(star, ages), rng=8).to_dict(), "kinematic-cooling")
+    assert v["consistent"] is False and "light_element_mass" in v["text"] and "sigma" not in v["text"]
+    d = compare_ages(_scn(star, dict(ages, light_element_mass=[-14, -11, -8])), rng=8).to_dict()
+    names = [e["envelope"] for e in d["cooling"]["per_envelope"]]
+    assert names == ["iron", "light-14", "light-11", "light-8", "accreted"]  # ordered by light-element mass
+    meds = [e["median"] for e in d["cooling"]["per_envelope"]]
+    assert all(a >= b for a, b in zip(meds, meds[1:]))  # more light elements: hotter surface, younger reading
+    v = _verdict(d, "kinematic-cooling")
+    assert v["consistent"] is True and v["reconciling_envelopes"] == ["light-11"]
+    assert "Delta M/M = 1e-11" in v["text"] and "sigma" not in v["text"]
+
+

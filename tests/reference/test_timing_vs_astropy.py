@@ -115,6 +115,38 @@ def test_solar_shapiro_delay_against_its_formula_with_astropy_sun():
     model = TimingModel(ra, dec)
     shapiro = model.delay(grid, np.zeros(5)) - model.total_delay(grid, np.zeros(5))
     s = SkyCoord(ra * u.deg, dec * u.deg).cartesian.xyz.value
-    expected = -2 * t_sun * np.log(1 - s @ sun_dir)
+    r_au = np.linalg.norm(sun_icrs, axis=0) / const.au.to_value(u.m)
+    expected = -2 * t_sun * np.log(r_au * (1 - s @ sun_dir))
     np.testing.assert_allclose(shapiro, expected, rtol=1e-4, atol=1e-9)
     assert expected.max() > 4e-5
+
+
+@pytest.mark.parametrize("site", [None, (-63.1, 47.9, 350.0)])  # geocentre; an invented site
+def test_full_solar_shapiro_delay_at_many_epochs_against_astropy_positions(site):
+    # distant-source Shapiro delay with the observer-Sun distance (Shapiro 1964; Backer & Hellings 1986, ARA&A 24,
+    # 537): Delta_S = -2 T_sun ln[(|R| + R.s) / 1 au], R the Sun-to-observer vector, here from astropy's
+    # get_body_barycentric('sun'/'earth') and EarthLocation.get_gcrs_posvel; ecliptic latitude ~44 deg,
+    # 400 epochs over 10 years; agreement < 1 ns
+    import astropy.constants as const
+
+    from kinage.timing.reference import TOAReference
+
+    t_sun = (const.G * const.M_sun / const.c**3).to_value(u.s)
+    rng = np.random.default_rng(11)
+    times = Time(61200, format="mjd", scale="tdb") + np.sort(rng.uniform(0, 3652.5, 400)) * u.day
+    ref = None if site is None else TOAReference("site", *site)
+    grid = TimeGrid.from_times(times, times[0], ref)
+    star = SkyCoord(lon=141.3 * u.deg, lat=44.2 * u.deg, frame="barycentricmeanecliptic").icrs
+    model = TimingModel(star.ra.deg, star.dec.deg)
+    shapiro = model.delay(grid, np.zeros(5)) - model.total_delay(grid, np.zeros(5))
+    obs = get_body_barycentric("earth", times).xyz.to_value(u.m)
+    if site is not None:
+        loc = EarthLocation.from_geodetic(site[0] * u.deg, site[1] * u.deg, site[2] * u.m)
+        obs = obs + loc.get_gcrs_posvel(times)[0].xyz.to_value(u.m)
+    big_r = obs - get_body_barycentric("sun", times).xyz.to_value(u.m)
+    s = star.cartesian.xyz.value
+    expected = -2 * t_sun * np.log((np.linalg.norm(big_r, axis=0) + s @ big_r) / const.au.to_value(u.m))
+    np.testing.assert_allclose(shapiro, expected, rtol=0, atol=1e-9)
+    # the distance term matters at this level: the angle-only form is off by up to 2 T_sun e ~ 0.16 us
+    angle_only = -2 * t_sun * np.log1p(s @ big_r / np.linalg.norm(big_r, axis=0))
+    assert 0.12e-6 < np.max(np.abs(angle_only - expected)) < 0.2e-6

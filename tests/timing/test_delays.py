@@ -32,16 +32,46 @@ def test_solar_mass_time_constant_from_astropy():
 def test_shapiro_delay_amplitude_for_a_ray_grazing_the_sun():
     # Lorimer & Kramer 2005 (Handbook of Pulsar Astronomy, sec. 8.2): the solar Shapiro delay reaches
     # ~120 us for a ray grazing the Sun (value from memory); the closed form at elongation R_sun / 1 au
-    # gives 2 T_sun ln(2 au^2 / R_sun^2) = 113 us
+    # gives 2 T_sun ln(2 au^2 / R_sun^2) = 113 us (observer at 1 au: the angle-only form)
+    au = (const.au / const.c).to_value(u.s)  # astropy constants
     theta = (const.R_sun / const.au).to_value(u.dimensionless_unscaled)
     s = np.array([[1.0, 0.0, 0.0]])
-    sun = np.array([[np.cos(theta), np.sin(theta), 0.0]]) * 499.0
+    sun = np.array([[np.cos(theta), np.sin(theta), 0.0]]) * au
     got = delays.solar_shapiro_delay(s, sun)[0]
     assert got == pytest.approx(2 * delays.T_SUN_S * np.log(2 / theta**2), rel=1e-6)
     assert 100e-6 < got < 125e-6
     # opposite the Sun: -2 T_sun ln 2 = -6.8 us; at 90 deg: 0
-    assert delays.solar_shapiro_delay(s, np.array([[-499.0, 0.0, 0.0]]))[0] == pytest.approx(-2 * delays.T_SUN_S * np.log(2), rel=1e-6)
-    assert delays.solar_shapiro_delay(s, np.array([[0.0, 499.0, 0.0]]))[0] == pytest.approx(0.0, abs=1e-15)
+    opposite = delays.solar_shapiro_delay(s, np.array([[-au, 0.0, 0.0]]))[0]
+    assert opposite == pytest.approx(-2 * delays.T_SUN_S * np.log(2), rel=1e-9)
+    assert delays.solar_shapiro_delay(s, np.array([[0.0, au, 0.0]]))[0] == pytest.approx(0.0, abs=1e-15)
+
+
+@pytest.mark.parametrize("r_au", [0.983, 1.017, 1.5])
+def test_shapiro_delay_carries_the_observer_sun_distance(r_au):
+    # distant-source limit of 2 T_sun ln[(r_e + r + rho)/(r_e + r - rho)] (Shapiro 1964; Backer & Hellings 1986,
+    # ARA&A 24, 537): -2 T_sun ln[r (1 - cos elongation)] up to a constant; evaluated here with a far but finite
+    # emitter (r_e = 1e9 au) from the three distances, the constant 2 T_sun ln(2 rho) removed
+    au = (const.au / const.c).to_value(u.s)
+    rng = np.random.default_rng(5)
+    for _ in range(5):
+        s = rng.normal(size=3)
+        s /= np.linalg.norm(s)
+        sun = rng.normal(size=3)
+        sun *= r_au * au / np.linalg.norm(sun)
+        rho = 1e9 * au
+        emitter = rho * s - sun  # Sun-centred
+        r_e, r = np.linalg.norm(emitter), r_au * au
+        # r_e + r - rho written without cancellation: r_e - rho = (r_e^2 - rho^2) / (r_e + rho), with
+        # r_e^2 - rho^2 = r^2 - 2 rho s.sun expanded from |rho s - sun|^2
+        den = (r**2 - 2 * rho * (s @ sun)) / (r_e + rho) + r
+        exact = 2 * delays.T_SUN_S * (np.log((r_e + r + rho) / den) - np.log(2 * rho / au))
+        got = delays.solar_shapiro_delay(s[None, :], sun[None, :])[0]
+        assert got == pytest.approx(exact, abs=1e-12)
+    # the distance term alone: at fixed elongation, r from 0.983 to 1.017 au changes the delay by
+    # -2 T_sun ln(1.017/0.983) = -0.33 us (twice the +-0.16 us annual term of Earth's eccentric orbit)
+    s = np.array([[1.0, 0.0, 0.0]])
+    near, far = (delays.solar_shapiro_delay(s, np.array([[0.0, x * au, 0.0]]))[0] for x in (0.983, 1.017))
+    assert far - near == pytest.approx(-2 * delays.T_SUN_S * np.log(1.017 / 0.983), rel=1e-9)
 
 
 def test_shapiro_delay_varies_by_tens_of_microseconds_for_an_ecliptic_star():
@@ -52,7 +82,8 @@ def test_shapiro_delay_varies_by_tens_of_microseconds_for_an_ecliptic_star():
     grid = TimeGrid.from_times(t, t[0])
     s = np.broadcast_to(star.cartesian.xyz.value, grid.earth.shape)
     dl = delays.solar_shapiro_delay(s, grid.sun)
-    assert dl.min() == pytest.approx(-2 * delays.T_SUN_S * np.log(2), rel=1e-3)
+    # at opposition -2 T_sun ln(2 r / 1 au): r within 0.983-1.017 au moves it by <= 0.17 us (2.5%)
+    assert dl.min() == pytest.approx(-2 * delays.T_SUN_S * np.log(2), rel=0.025)
     assert dl.max() > 30e-6
     sun = (get_body_barycentric("sun", t) - get_body_barycentric("earth", t)).xyz.to_value(u.m).T
     cos_el = np.einsum("ij,ij->i", s, sun) / np.linalg.norm(sun, axis=1)

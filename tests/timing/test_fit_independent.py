@@ -10,8 +10,10 @@ iteration in Python ``decimal`` arithmetic (40 digits), with
   distance 1/parallax, and the exact geometric path difference (d - |d s - r|)/c, which holds the Roemer
   delay and the parallax (wavefront curvature) together (Lorimer & Kramer 2005, Handbook of Pulsar
   Astronomy, sec. 8.2);
-- the solar Shapiro delay -2 (G M_sun / c^3) ln(1 - cos elongation) (Lorimer & Kramer 2005, sec. 8.2;
-  G M_sun and c from astropy.constants) with the Sun from ``get_body_barycentric('sun')``.
+- the solar Shapiro delay of a distant source -2 (G M_sun / c^3) ln[(r / 1 au)(1 - cos elongation)], r the
+  observer-Sun distance (far-emitter limit of Shapiro 1964, Phys. Rev. Lett. 13, 789; at r = 1 au the form
+  of Lorimer & Kramer 2005, sec. 8.2; G M_sun, c and the au from astropy.constants) with the Sun from
+  ``get_body_barycentric('sun')``.
 
 Site TOAs are written in UTC (astropy converts TDB at the site to UTC with the site's location);
 barycentred TOAs are barycentred here for an offset reference position (Roemer + Shapiro removed).
@@ -38,6 +40,7 @@ pytestmark = pytest.mark.filterwarnings("ignore::Warning")
 getcontext().prec = 40
 C = const.c.to_value(u.m / u.s)
 T_SUN = (const.GM_sun / const.c**3).to_value(u.s)  # astropy constants, not kinage's
+AU_M = const.au.to_value(u.m)
 RA, DEC = 97.3, 18.9  # near the ecliptic: the Shapiro delay matters
 TRUE = {"ra_mas": 3.0, "dec_mas": -2.0, "pm_ra_cosdec": 14.0, "pm_dec": -9.0, "parallax": 2.5}
 PERIOD = 0.00431  # s (invented)
@@ -84,8 +87,9 @@ def _delay(r, s, d, sun):
     rs = np.einsum("ij,ij->i", r, s)
     geometric = (2 * d * rs - np.einsum("ij,ij->i", r, r)) / (d + far) / C  # = (d - |d s - r|)/c, no cancellation
     to_sun = sun - r
-    cos_el = np.einsum("ij,ij->i", s, to_sun) / np.linalg.norm(to_sun, axis=1)
-    return geometric - (-2 * T_SUN * np.log(1 - cos_el))
+    dist = np.linalg.norm(to_sun, axis=1)
+    cos_el = np.einsum("ij,ij->i", s, to_sun) / dist
+    return geometric - (-2 * T_SUN * np.log(dist / AU_M * (1 - cos_el)))
 
 
 def _generate(mjd_nominal, site, sigma_s, rng):
@@ -129,8 +133,9 @@ def _barycentre(sec, ra, dec):
     s = np.broadcast_to(SkyCoord(ra * u.deg, dec * u.deg).cartesian.xyz.value, r.shape)
     sun = get_body_barycentric("sun", t).xyz.to_value(u.m).T
     to_sun = sun - r
-    cos_el = np.einsum("ij,ij->i", s, to_sun) / np.linalg.norm(to_sun, axis=1)
-    removed = np.einsum("ij,ij->i", r, s) / C + 2 * T_SUN * np.log(1 - cos_el)
+    dist = np.linalg.norm(to_sun, axis=1)
+    cos_el = np.einsum("ij,ij->i", s, to_sun) / dist
+    removed = np.einsum("ij,ij->i", r, s) / C + 2 * T_SUN * np.log(dist / AU_M * (1 - cos_el))
     return [x + Decimal(repr(float(dl))) for x, dl in zip(sec, removed)]
 
 
