@@ -139,12 +139,12 @@ class Scenario:
     raw: dict = field(default_factory=dict, repr=False, compare=False)
 
     def __repr__(self):
-        from .._results import scenario_repr
+        from .scenario_display import scenario_repr
 
         return scenario_repr(self)
 
     def _repr_html_(self):
-        from .._results import scenario_html
+        from .scenario_display import scenario_html
 
         return scenario_html(self)
 
