@@ -13,7 +13,7 @@ from pathlib import Path
 
 import numpy as np
 
-from ._results import ResultDisplay
+from .display.protocol import ResultDisplay
 from .astrometry import AstrometricSolution
 from .errors import ConvergenceError, InputError, StageError
 from .io.results import provenance, write_json
@@ -153,6 +153,14 @@ def kinematic_age_input(scenario, trace_result=None):
     return None, None
 
 
+def _run_numbers(r):
+    out = [("star", r.scenario.star.get("name")), ("stages", ", ".join(r.stages) or "none"),
+           ("output", str(r.out_dir))]
+    if r.failed:
+        out.append(("failed", "; ".join(f"{k}: {v}" for k, v in r.failed.items())[:200]))
+    return out
+
+
 @dataclass(repr=False)
 class RunResult(ResultDisplay):
     """What ``run_pipeline`` produced.
@@ -166,6 +174,8 @@ class RunResult(ResultDisplay):
     files : list of Path
         Everything written.
     """
+
+    KEY_NUMBERS = _run_numbers
 
     scenario: object
     out_dir: Path

@@ -12,11 +12,12 @@ from pathlib import Path
 
 import numpy as np
 
-from .._results import ResultDisplay
+from ..display.protocol import ResultDisplay
 from .._units import quantity_edge
 from ..errors import ModelRangeError
 from ..io.results import interval
 from .cooling_age import cooling_age
+from .display import _adapt_ages_cooling, _adapt_ages_ladder, _ages_numbers, _ages_table
 from .draws import draw_kinematic_age, draw_spin, read_settings
 from .envelope import star_structure
 from .field_decay import (exponential_decay_timescale, ohm_hall_characteristic_age, ohm_hall_timescale,
@@ -43,6 +44,11 @@ def _short(iv):
 @dataclass(repr=False)
 class AgesResult(ResultDisplay):
     """All ages of one star, their uncertainties and verdicts (see :meth:`to_dict`)."""
+
+    PLOTS = {"ladder": _adapt_ages_ladder, "cooling": _adapt_ages_cooling}
+    PLOT_NEEDS = {"cooling": lambda r: r.cooling is not None}
+    KEY_NUMBERS = _ages_numbers
+    TABLE = _ages_table
 
     star: str
     values: dict

@@ -13,7 +13,7 @@ best by encounter fraction) the remaining Okabe & Ito colours; the rest grey.
 
 import numpy as np
 
-from ..report.style import FAVOURED_COLOR, OTHER_COLOR, PALETTE, STAR_COLOR, figure_for, new_figure
+from ..display.style import FAVOURED_COLOR, OTHER_COLOR, PALETTE, STAR_COLOR, figure_for, new_figure
 from .common_origin import separation_pdf
 from .frames import _ICRS_TO_GALACTIC
 
@@ -403,7 +403,7 @@ def _title(result, s):
 
 def plot_dmin_tau(result, name=None, ax=None):
     """Closest approach d_min against its time tau for every draw, within the integration window."""
-    from ..report.style import plain_log_ticks
+    from ..display.style import plain_log_ticks
 
     s = _pick(result, name)
     dm, tau, mask, _ = _assoc_arrays(result, s)
@@ -462,7 +462,7 @@ def plot_dmin_control(result, name=None, ax=None):
                 label="control draws (direction randomised)")
     sig = (s.get("common_origin") or {}).get("sigma_pc")
     if sig and s.get("n_encounters"):
-        from ..report.numbers import fmt_power
+        from ..display.numbers import fmt_power
 
         x = np.linspace(0, top, 300)
         ax.plot(x, separation_pdf(x, sig), color=FAVOURED_COLOR, lw=1.3,

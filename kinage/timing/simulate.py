@@ -23,7 +23,7 @@ import astropy.units as u
 import numpy as np
 from astropy.table import Table
 
-from .._results import ResultDisplay
+from ..display.protocol import ResultDisplay, fmt
 from ..errors import InputError
 from . import inputs
 from .forecast import noise_from_campaign
@@ -35,6 +35,15 @@ from .reference import resolve_reference, timing_assumptions
 from .toas import write_toas
 
 __all__ = ["simulate_toas", "SimulationResult"]
+
+
+# ------------------------------------------------------------------ display
+def _simulation_numbers(r):
+    from ..display.numbers import fmt_duration_s
+
+    d = r.to_dict()
+    return [("TOAs", d["n_toas"]), ("median TOA error", fmt_duration_s(d["toa_error_s"])),
+            ("span", fmt(d["span_yr"], "yr")), ("seed", d["seed"])]
 
 
 @dataclass(repr=False)
@@ -52,6 +61,9 @@ class SimulationResult(ResultDisplay):
         freq (Hz), freq_dot (Hz/s).
     seed : int or None
     """
+
+    KEY_NUMBERS = _simulation_numbers
+    TABLE = lambda r: r.table  # noqa: E731
 
     table: Table
     injected: dict
