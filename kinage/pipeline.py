@@ -14,7 +14,7 @@ from pathlib import Path
 import numpy as np
 
 from .display.protocol import ResultDisplay
-from .astrometry import AstrometricSolution
+from .astrometry import solution_for_trace
 from .errors import ConvergenceError, InputError, StageError
 from .io.results import provenance, write_json
 
@@ -109,26 +109,6 @@ def preflight(scenario, samples=None):
 
     check_resources(scenario, samples=samples, n_associations=len(loaded.get("associations") or ()) or None)
     return loaded
-
-
-def solution_for_trace(scenario, fit_result=None):
-    """The astrometry tracing uses.
-
-    Without a timing fit: the values typed into ``[star]``.  With one: the
-    inverse-variance combination of the timing solution and the ``[star]``
-    values that carry errors (treated as independent measurements, e.g. from
-    imaging); a parameter measured by only one of them is taken from it.
-    The fit itself uses ``[star]`` values only as starting values.
-    """
-    typed = AstrometricSolution.from_star(scenario.star)
-    if fit_result is None:
-        return typed
-    sol = fit_result.solution
-    usable = np.isfinite(np.diag(typed.covariance)) & (np.diag(typed.covariance) > 0)
-    vals = np.where(usable, typed.values, np.nan)
-    cov = np.where(np.outer(usable, usable), typed.covariance, np.nan)
-    typed = AstrometricSolution(sol.epoch, sol.ra_deg, sol.dec_deg, vals, cov, source="scenario")
-    return sol.combine(typed, source=f"{sol.source}+scenario")
 
 
 def kinematic_age_input(scenario, trace_result=None):

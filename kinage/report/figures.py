@@ -27,7 +27,7 @@ def pm_ellipse_inputs(scenario, fit=None, forecast=None):
 
     Timing: the fit's timing-only solution, else the forecast (centred on the
     imaging values, or zero).  Imaging: ``[star]`` proper motion with errors.
-    Combined: what the trace uses (:func:`kinage.pipeline.solution_for_trace`).
+    Combined: what the trace uses (:func:`kinage.astrometry.solution_for_trace`).
     """
     from ..astrometry import AstrometricSolution
 
@@ -50,7 +50,7 @@ def pm_ellipse_inputs(scenario, fit=None, forecast=None):
     if imaging is not None:
         out.append(("imaging", *imaging))
     if fit is not None and imaging is not None:
-        from ..pipeline import solution_for_trace
+        from ..astrometry import solution_for_trace
 
         v, c = _pm_block(solution_for_trace(scenario, fit))
         out.append(("combined", v, c))
