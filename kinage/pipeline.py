@@ -95,12 +95,12 @@ def preflight(scenario, samples=None):
         resolve_reference(scenario.campaign, loaded["toas"].meta, str(scenario.campaign.toas),
                           base_dir=scenario.path.parent if scenario.path is not None else None,
                           table_dir=Path(scenario.campaign.toas).parent)
-        from .timing.fit import _check_errors_against_period
+        from .timing.toas import check_errors_against_period
         from .timing.inputs import spin_from_star
 
         # the fit's own checks of the star against the table: a spin period, TOA errors well below it
         freq, _, _ = spin_from_star(scenario.star, required=True, where="fitting TOAs")
-        _check_errors_against_period(loaded["toas"], 1.0 / freq, str(scenario.campaign.toas))
+        check_errors_against_period(loaded["toas"], 1.0 / freq, str(scenario.campaign.toas))
     if "trace" in stages:
         from .associations import read_associations
 

@@ -41,13 +41,14 @@ from astropy.time import Time
 from ..astrometry import AstrometricSolution
 from ..errors import ConvergenceError, InputError
 from . import inputs
-from .forecast import noise_from_campaign
+from .noise import noise_from_campaign
 from .fit_result import FitResult
 from .gls import gls_step
 from .model import TimeGrid, TimingModel
 from .priors import prior_solution
 from .reference import resolve_reference, timing_assumptions
-from .toas import check_fit_table, frequency_column, read_toas, site_times, validate_toas
+from .toas import (_period_text, check_errors_against_period, check_fit_table, frequency_column, read_toas, site_times,
+                   validate_toas)
 
 __all__ = ["fit_toas", "FitResult", "STEP_TOLERANCE"]
 
@@ -95,7 +96,7 @@ def fit_toas(toas, scenario, *, max_iter=30, method="woodbury"):
     if ra is None or dec is None:
         raise InputError("[star] ra", "position (ra, dec) is required to fit TOAs")
     freq, freq_dot, _ = inputs.spin_from_star(star, required=True, where="fitting TOAs")
-    _check_errors_against_period(tab, 1.0 / freq, where)
+    check_errors_against_period(tab, 1.0 / freq, where)
     f_mhz = frequency_column(tab, where)
     multi = f_mhz is not None and np.unique(f_mhz).size > 1
     dm0 = _dispersion_measure(star)
@@ -165,19 +166,6 @@ def _chi2_noise(n):
     return max(1e-12 * n, 1e-10)
 
 
-def _check_errors_against_period(tab, period, where):
-    """TOA errors of half the spin period or more leave no pulse phase to fit: most often a unit mistake."""
-    err = u.Quantity(tab["error"]).to_value(u.s)
-    bad = np.flatnonzero(err >= 0.5 * period)
-    if bad.size:
-        i = int(bad[0])
-        mjd = tab["mjd"][i].tdb.to_value("mjd", "float")
-        raise InputError(f"{where} column 'error'",
-                         f"{err[i]:.3g} s (at MJD {mjd:.4f}) is at least half the spin period ({_period_text(period)}), so "
-                         "the TOA fixes no pulse phase; errors must be well below the period (a column without "
-                         "a unit is in seconds: were these microseconds?)")
-
-
 #: a TOA is taken as misnumbered when its residual passes a quarter period and this many times its noise
 MISNUMBERED_SIGMA = 4.0
 
@@ -203,11 +191,6 @@ def _misnumbered(resid, noise, period):
             "are referred elsewhere than toa_reference says; check that [star] epoch is the epoch of spin_period "
             "and that site TOAs have toa_reference = 'site', give better starting values, or add TOAs that "
             "bridge the gaps)")
-
-
-def _period_text(period):
-    """A spin period in the unit people use: ms below a second."""
-    return f"{period * 1e3:.4g} ms" if period < 1.0 else f"{period:.4g} s"
 
 
 def _scatter_warning(chi2, dof):

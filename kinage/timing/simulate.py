@@ -26,7 +26,7 @@ from astropy.table import Table
 from ..display.protocol import ResultDisplay, fmt
 from ..errors import InputError
 from . import inputs
-from .forecast import noise_from_campaign
+from .noise import noise_from_campaign
 from .forecast_result import TIMING_ASSUMPTIONS
 from . import precision
 from .model import ASTRO_PARAMETERS, TimeGrid, TimingModel
