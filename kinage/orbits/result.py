@@ -59,7 +59,7 @@ class TraceResult(ResultDisplay):
     assumptions : list of str
     """
 
-    PLOTS = {"sky": "kinage.orbits.trace_figures:plot_sky",
+    PLOTS = {"sky": "kinage.orbits.sky_figure:plot_sky",
              "dmin_tau": "kinage.orbits.trace_figures:plot_dmin_tau",
              "dmin_control": "kinage.orbits.trace_figures:plot_dmin_control",
              "tau_hist": "kinage.orbits.trace_figures:plot_tau_hist",
