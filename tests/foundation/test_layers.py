@@ -37,7 +37,7 @@ LAYERS = [
                 "kinage.ages")),
     ("report", ("kinage.report",)),
     ("pipeline", ("kinage.pipeline",)),
-    ("front", ("kinage.api", "kinage.commands", "kinage.batch", "kinage.demo")),
+    ("front", ("kinage.api", "kinage.api_scenario", "kinage.commands", "kinage.batch", "kinage.demo")),
     ("cli", ("kinage.cli", "kinage.__main__", "kinage")),
 ]
 
