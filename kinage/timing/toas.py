@@ -42,7 +42,7 @@ from astropy.time import Time
 from ..errors import InputError
 from ..io.results import atomic_path
 
-__all__ = ["read_toas", "write_toas", "validate_toas", "toa_times", "check_fit_table", "check_errors_against_period",
+__all__ = ["read_toas", "write_toas", "validate_toas", "check_fit_table", "check_errors_against_period",
            "frequency_column", "site_times", "MJD_RANGE", "MIN_FREQUENCY_MHZ"]
 
 #: plausible TOA dates: 1965 (before the first pulsar) to 2100 (end of the built-in ephemeris)
@@ -328,11 +328,6 @@ def _time_order(times, where):
         i, j = sorted((int(order[dup[0]]), int(order[dup[0] + 1])))
         raise InputError(f"{where} row {j + 1}, column 'mjd'", f"duplicate time (same as row {i + 1})")
     return None if np.all(order == np.arange(order.size)) else order
-
-
-def toa_times(tab):
-    """The ``mjd`` column of a validated table as a TDB Time."""
-    return tab["mjd"].tdb
 
 
 def write_toas(tab, path):
