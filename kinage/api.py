@@ -26,7 +26,8 @@ Examples
 
 from pathlib import Path
 
-from .api_scenario import _associations, _table_input, as_scenario, load_scenario, scenario_from_dict, star_from_skycoord
+from .api_scenario import (_associations, _table_input, as_scenario, load_scenario, scenario_from_dict,
+                           star_from_skycoord)
 from .errors import InputError
 from .warnings import AgesWarning, FitWarning, ForecastWarning, KinageWarning, TraceWarning, emit
 

@@ -16,9 +16,11 @@ and absolute); each import of another kinage module is an edge.  Each module bel
 An edge from a lower layer to a higher one fails, and so does any cycle between modules (strongly connected
 components by Tarjan's algorithm).  Layering as in the contributors' guide (Architecture); common practice
 for layered packages, no outside source.  Run as a script to print the whole list of offending edges.
+A last check keeps modules small (at most ``MAX_LINES`` lines unless the module says why).
 """
 
 import ast
+import functools
 import sys
 from pathlib import Path
 
@@ -118,8 +120,9 @@ def _is_dynamic_import(node):
             and isinstance(node.args[0].value, str))
 
 
+@functools.lru_cache(maxsize=1)
 def import_graph():
-    """module -> {target: first line} over the whole package."""
+    """module -> {target: first line} over the whole package (read once per session; do not modify)."""
     modules = module_files()
     graph = {}
     for name, path in modules.items():
@@ -226,6 +229,23 @@ def test_display_knows_no_stage(module):
     graph = import_graph()
     stages = [i for i, (name, _) in enumerate(LAYERS) if name == "stages"][0]
     assert all(layer_of(t) < stages for t in graph[module]), graph[module]
+
+
+#: a module longer than this says why at the top of its docstring, in a line starting "Size:" (common practice,
+#: no source: modules of 100-400 lines are easy to read and to merge)
+MAX_LINES = 450
+
+
+def test_modules_are_small_rooms():
+    long = []
+    for name, path in module_files().items():
+        text = path.read_text(encoding="utf-8")
+        n = text.count("\n")
+        doc = ast.get_docstring(ast.parse(text)) or ""
+        if n > MAX_LINES and not any(line.startswith("Size:") for line in doc.splitlines()):
+            long.append(f"{name}: {n} lines")
+    assert not long, f"modules above {MAX_LINES} lines without a reason ('Size: ...' in the docstring):\n" + \
+        "\n".join(long)
 
 
 if __name__ == "__main__":  # print the offending edges
