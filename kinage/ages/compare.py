@@ -144,11 +144,7 @@ class AgesResult(ResultDisplay):
         out.mkdir(parents=True, exist_ok=True)
         paths = []
         rows = self.ladder_rows()
-        t = Table(rows=[(lab, *(np.nan if (iv is None or iv.get(k) is None) else iv[k]
-                                for k in ("median", "lo68", "hi68"))) for lab, iv in rows],
-                  names=("age", "median", "lo68", "hi68"), dtype=(str, float, float, float))
-        for c in ("median", "lo68", "hi68"):
-            t[c].unit = "yr"
+        t = Table(_ages_table(self))
         t.meta["star"] = self.star
         with atomic_path(out / "ages_table.ecsv") as tmp:
             t.write(tmp, format="ascii.ecsv", overwrite=True)

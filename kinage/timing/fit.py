@@ -41,6 +41,7 @@ from astropy.time import Time
 from ..astrometry import AstrometricSolution
 from ..errors import ConvergenceError, InputError
 from . import inputs
+from .inputs import dispersion_measure
 from .noise import noise_from_campaign
 from .fit_result import FitResult
 from .gls import gls_step
@@ -99,7 +100,7 @@ def fit_toas(toas, scenario, *, max_iter=30, method="woodbury"):
     check_errors_against_period(tab, 1.0 / freq, where)
     f_mhz = frequency_column(tab, where)
     multi = f_mhz is not None and np.unique(f_mhz).size > 1
-    dm0 = _dispersion_measure(star)
+    dm0 = dispersion_measure(star)
     model = TimingModel(ra, dec, freq, freq_dot, 0.0, int(c.get("spin_terms", 2)), dm0, multi)
     check_fit_table(tab, where, model.n_parameters)
     times = site_times(tab, reference) if reference.kind == "site" else tab["mjd"].tdb
@@ -152,13 +153,6 @@ def fit_toas(toas, scenario, *, max_iter=30, method="woodbury"):
 
 def _folder(path):
     return None if path is None else Path(path).resolve().parent
-
-
-def _dispersion_measure(star):
-    try:
-        return float(star.value("dispersion_measure", "pc / cm3", 0.0) or 0.0)
-    except (AttributeError, KeyError):
-        return 0.0
 
 
 def _chi2_noise(n):

@@ -26,6 +26,7 @@ from astropy.table import Table
 from ..display.protocol import ResultDisplay, fmt
 from ..errors import InputError
 from . import inputs
+from .inputs import dispersion_measure
 from .noise import noise_from_campaign
 from .forecast_result import TIMING_ASSUMPTIONS
 from . import precision
@@ -108,19 +109,12 @@ def _injected(scenario, rng, inject):
         d = star.value("distance", "pc")
         plx = 1000.0 / d if d else 0.0
     vals = {"ra": 0.0, "dec": 0.0, "pm_ra_cosdec": float(pra), "pm_dec": float(pdec), "parallax": float(plx),
-            "freq": freq, "freq_dot": freq_dot, "dispersion_measure": _star_dm(star)}
+            "freq": freq, "freq_dot": freq_dot, "dispersion_measure": dispersion_measure(star)}
     for k, v in (inject or {}).items():
         if k not in vals:
             raise InputError("inject", f"unknown parameter '{k}' (expected one of {', '.join(vals)})")
         vals[k] = float(v)
     return vals
-
-
-def _star_dm(star):
-    try:
-        return float(star.value("dispersion_measure", "pc / cm3", 0.0) or 0.0)
-    except (AttributeError, KeyError):
-        return 0.0
 
 
 def simulate_toas(scenario, *, rng=None, inject=None, frequency_mhz=None):
