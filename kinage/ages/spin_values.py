@@ -3,13 +3,13 @@ timescales), each with its Monte Carlo interval; used by :func:`kinage.ages.comp
 
 import numpy as np
 
+from ..display.sentences import format_age
 from ..io.results import interval
 from .field_decay import (exponential_decay_timescale, ohm_hall_characteristic_age, ohm_hall_timescale,
                           ohm_hall_true_age)
 from .pdot import open_interval
 from .spindown import (braking_index_age, characteristic_age, dipole_field, implied_initial_period,
                        max_braking_index_age, spin_down_luminosity)
-from .verdicts import format_age
 
 __all__ = []
 

@@ -194,7 +194,7 @@ class TraceResult(ResultDisplay):
         if best is not None and pc.size and best["age_yr"]["median"] is not None:
             kin = best["age_yr"]
             if np.median(pc) > kin["hi68"]:
-                from ..ages.verdicts import format_age_interval
+                from ..display.sentences import format_age_interval
 
                 out.append(f"The plane-crossing age ({format_age_interval(interval(pc), bare=True)}) is older than "
                            f"the kinematic age from {best['name']} ({format_age_interval(kin, bare=True)}): the star "
@@ -262,7 +262,7 @@ class TraceResult(ResultDisplay):
         """A few plain sentences for the report's top summary, in probabilities."""
         text = self.verdict
         rv, dist = self._favoured_implies()
-        from ..ages.verdicts import format_age_interval, format_interval
+        from ..display.sentences import format_age_interval, format_interval
 
         if rv is not None and rv["median"] is not None and dist["median"] is not None:
             text += (f" Birth there implies a radial velocity of "

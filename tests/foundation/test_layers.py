@@ -224,7 +224,27 @@ def test_no_import_circles():
     assert not bad, "import circles:\n" + "\n".join(bad)
 
 
-@pytest.mark.parametrize("module", ["kinage.display.protocol", "kinage.display.style", "kinage.display.numbers"])
+def package_graph(graph):
+    """The import graph between packages and top-level modules (``kinage.orbits``, ``kinage.astrometry``)."""
+    out = {}
+    for mod, edges in graph.items():
+        a = ".".join(mod.split(".")[:2])
+        out.setdefault(a, {})
+        for target, line in edges.items():
+            b = ".".join(target.split(".")[:2])
+            if b != a:
+                out[a].setdefault(b, line)
+    return out
+
+
+def test_no_circles_between_packages():
+    # read at the level of folders too: no stage (or any other package) imports one that imports it back
+    bad = cycle_edges(package_graph(import_graph()))
+    assert not bad, "import circles between packages:\n" + "\n".join(bad)
+
+
+@pytest.mark.parametrize("module", ["kinage.display.protocol", "kinage.display.style", "kinage.display.numbers",
+                                    "kinage.display.sentences"])
 def test_display_knows_no_stage(module):
     graph = import_graph()
     stages = [i for i, (name, _) in enumerate(LAYERS) if name == "stages"][0]
@@ -250,6 +270,6 @@ def test_modules_are_small_rooms():
 
 if __name__ == "__main__":  # print the offending edges
     g = import_graph()
-    lines = upward_edges(g) + cycle_edges(g)
+    lines = upward_edges(g) + cycle_edges(g) + cycle_edges(package_graph(g))
     print("\n".join(lines) or "no upward imports, no circles")
     sys.exit(1 if lines else 0)
