@@ -20,13 +20,8 @@ import inspect
 __all__ = ["ResultDisplay", "draw", "adapter", "fmt"]
 
 
-
 def _table(self):
-    """The result's main table as an astropy QTable (columns with units).
-
-    Forecast: the baseline sweep; fit: the residuals; trace: one row per
-    association (best first); ages: each age with its 68% interval.
-    """
+    """The result's main table as an astropy QTable (columns with units), from the class's ``TABLE``."""
     from astropy.table import QTable
 
     from ..errors import InputError
@@ -158,7 +153,6 @@ class ResultDisplay:
                 f"<table>{rows}</table><p>{escape(summary)}</p></div>")
 
 
-
 # ------------------------------------------------------------------ drawing
 def _available(spec):
     try:
@@ -235,13 +229,11 @@ def _figure_of(out, ax):
     raise TypeError("the drawing function returned no Figure")
 
 
-
 # ------------------------------------------------------------------ adapters
 def adapter(func):
     """Mark a drawing function that calls :func:`draw` itself (it gets ``ax`` as given and returns a Figure)."""
     func._kinage_adapter = True
     return func
-
 
 
 # ------------------------------------------------------------------ key-number helpers
@@ -261,7 +253,6 @@ def _first(d, *keys):
     return None
 
 
-
 def _with_error(value, error, unit):
     """``value +/- error unit``, the value rounded to the error's precision (the report's rule)."""
     from .numbers import value_error
@@ -269,10 +260,7 @@ def _with_error(value, error, unit):
     return value_error(value, error, unit).replace("±", "+/-")
 
 
-
 def _age(yr):
     from .numbers import fmt_age
 
     return None if yr is None else fmt_age(yr)
-
-

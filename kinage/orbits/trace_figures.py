@@ -21,6 +21,7 @@ from .sky_figure import legend_associations, plot_sky, sky_offsets, sky_window_m
 __all__ = ["plot_sky", "plot_dmin_tau", "plot_dmin_control", "plot_tau_hist", "plot_plane_crossing",
            "plot_birth_xyz", "legend_associations", "sky_offsets", "sky_window_myr"]
 
+
 def _assoc_arrays(result, s):
     d = result.data
     j = d["index"][s["name"]]

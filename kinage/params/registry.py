@@ -30,6 +30,7 @@ SOLAR_PECULIAR_V_KMS = 12.24
 #: Sun used with a potential set that names none
 DEFAULT_SOLAR_PARAMETERS = "astropy-v4.0"
 
+
 def get(kind, name, where=None):
     """Look up a parameter set by kind and name (case-insensitive).
 
