@@ -26,6 +26,7 @@ import importlib
 from ._version import __version__
 from .errors import ConvergenceError, InputError, KinageError, ModelRangeError, ScenarioError
 from .warnings import KinageWarning
+from . import params as _params  # noqa: F401  (gives io's scenario checks the parameter-set names; cheap)
 
 __all__ = [
     "__version__",

@@ -14,7 +14,7 @@ from astropy.time import Time
 
 from .errors import InputError
 
-__all__ = ["PARAMETERS", "UNITS", "AstrometricSolution"]
+__all__ = ["PARAMETERS", "UNITS", "AstrometricSolution", "solution_for_trace"]
 
 #: order of the solution vector and covariance
 PARAMETERS = ("ra", "dec", "pm_ra_cosdec", "pm_dec", "parallax")
@@ -171,3 +171,23 @@ class AstrometricSolution:
         cov[np.ix_(idx, idx)] = c_new
         return AstrometricSolution(self.epoch, self.ra_deg, self.dec_deg, vals, cov,
                                    source=source or f"{self.source}+{other.source}")
+
+
+def solution_for_trace(scenario, fit_result=None):
+    """The astrometry tracing uses.
+
+    Without a timing fit: the values typed into ``[star]``.  With one: the
+    inverse-variance combination of the timing solution and the ``[star]``
+    values that carry errors (treated as independent measurements, e.g. from
+    imaging); a parameter measured by only one of them is taken from it.
+    The fit itself uses ``[star]`` values only as starting values.
+    """
+    typed = AstrometricSolution.from_star(scenario.star)
+    if fit_result is None:
+        return typed
+    sol = fit_result.solution
+    usable = np.isfinite(np.diag(typed.covariance)) & (np.diag(typed.covariance) > 0)
+    vals = np.where(usable, typed.values, np.nan)
+    cov = np.where(np.outer(usable, usable), typed.covariance, np.nan)
+    typed = AstrometricSolution(sol.epoch, sol.ra_deg, sol.dec_deg, vals, cov, source="scenario")
+    return sol.combine(typed, source=f"{sol.source}+scenario")

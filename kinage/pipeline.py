@@ -13,8 +13,8 @@ from pathlib import Path
 
 import numpy as np
 
-from ._results import ResultDisplay
-from .astrometry import AstrometricSolution
+from .display.protocol import ResultDisplay
+from .astrometry import solution_for_trace
 from .errors import ConvergenceError, InputError, StageError
 from .io.results import provenance, write_json
 
@@ -95,12 +95,12 @@ def preflight(scenario, samples=None):
         resolve_reference(scenario.campaign, loaded["toas"].meta, str(scenario.campaign.toas),
                           base_dir=scenario.path.parent if scenario.path is not None else None,
                           table_dir=Path(scenario.campaign.toas).parent)
-        from .timing.fit import _check_errors_against_period
+        from .timing.toas import check_errors_against_period
         from .timing.inputs import spin_from_star
 
         # the fit's own checks of the star against the table: a spin period, TOA errors well below it
         freq, _, _ = spin_from_star(scenario.star, required=True, where="fitting TOAs")
-        _check_errors_against_period(loaded["toas"], 1.0 / freq, str(scenario.campaign.toas))
+        check_errors_against_period(loaded["toas"], 1.0 / freq, str(scenario.campaign.toas))
     if "trace" in stages:
         from .associations import read_associations
 
@@ -110,26 +110,6 @@ def preflight(scenario, samples=None):
 
     check_resources(scenario, samples=samples, n_associations=len(loaded.get("associations") or ()) or None)
     return loaded
-
-
-def solution_for_trace(scenario, fit_result=None):
-    """The astrometry tracing uses.
-
-    Without a timing fit: the values typed into ``[star]``.  With one: the
-    inverse-variance combination of the timing solution and the ``[star]``
-    values that carry errors (treated as independent measurements, e.g. from
-    imaging); a parameter measured by only one of them is taken from it.
-    The fit itself uses ``[star]`` values only as starting values.
-    """
-    typed = AstrometricSolution.from_star(scenario.star)
-    if fit_result is None:
-        return typed
-    sol = fit_result.solution
-    usable = np.isfinite(np.diag(typed.covariance)) & (np.diag(typed.covariance) > 0)
-    vals = np.where(usable, typed.values, np.nan)
-    cov = np.where(np.outer(usable, usable), typed.covariance, np.nan)
-    typed = AstrometricSolution(sol.epoch, sol.ra_deg, sol.dec_deg, vals, cov, source="scenario")
-    return sol.combine(typed, source=f"{sol.source}+scenario")
 
 
 def kinematic_age_input(scenario, trace_result=None):
@@ -154,6 +134,14 @@ def kinematic_age_input(scenario, trace_result=None):
     return None, None
 
 
+def _run_numbers(r):
+    out = [("star", r.scenario.star.get("name")), ("stages", ", ".join(r.stages) or "none"),
+           ("output", str(r.out_dir))]
+    if r.failed:
+        out.append(("failed", "; ".join(f"{k}: {v}" for k, v in r.failed.items())[:200]))
+    return out
+
+
 @dataclass(repr=False)
 class RunResult(ResultDisplay):
     """What ``run_pipeline`` produced.
@@ -167,6 +155,8 @@ class RunResult(ResultDisplay):
     files : list of Path
         Everything written.
     """
+
+    KEY_NUMBERS = _run_numbers
 
     scenario: object
     out_dir: Path

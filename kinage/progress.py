@@ -40,9 +40,6 @@ class _Silent:
     def update(self, n=1):
         self.n += n
 
-    def set_postfix_str(self, *_a, **_k):
-        pass
-
     def close(self):
         pass
 

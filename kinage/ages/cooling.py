@@ -240,11 +240,6 @@ class CoolingCurve:
         """Age(s) in yr at which the curve has the given redshifted luminosity(ies); nan outside."""
         return self._invert(self.L_inf_erg_s, L_inf_erg_s)
 
-    def temperature_range(self):
-        """(lowest, highest) valid T_inf in K."""
-        v = self.T_inf_K[self.valid]
-        return (float(np.nanmin(v)), float(np.nanmax(v))) if v.size else (np.nan, np.nan)
-
 
 def _initial_temperature(c0, lmu, ldu, t_s):
     """Redshifted core temperature (K) reached at t_s by an arbitrarily hot star, neutrino losses only."""

@@ -6,19 +6,20 @@ factor ~2-3 at kT ~ 60 eV), so pooling the envelopes and quoting a "sigma"
 against the pool measures the distance between models, not an error.  Here
 another age (kinematic or characteristic) is compared with each envelope's
 cooling age (pooled over the masses only) by the rule of
-:func:`.verdicts.compare_intervals`, and the verdict names the envelopes that
+:func:`.intervals.compare_intervals`, and the verdict names the envelopes that
 reconcile the two, or says that none does and on which side the other age
 lies.  No separation in sigmas across envelopes is ever stated.
 """
 
 import numpy as np
 
+from ..display.sentences import format_age_interval
+from .intervals import compare_intervals, format_factor
+
 __all__ = ["cooling_pair_verdict"]
 
 
 def _fmt(iv):
-    from .verdicts import format_age_interval
-
     return format_age_interval(iv, inner=True)
 
 
@@ -60,7 +61,6 @@ def cooling_pair_verdict(pair, name_a, a, cool, *, if_younger="", if_older="", m
         envelope), ``z`` (None: no sigma across envelopes),
         ``reconciling_envelopes`` (names).
     """
-    from .verdicts import compare_intervals, format_factor
 
     envs = [r for r in (cool.per_envelope if cool is not None else []) if r.get("median") is not None]
     if a is None or a.get("median") is None or not envs:

@@ -8,7 +8,7 @@ uses them).  matplotlib is imported only when a figure is drawn.
 
 import numpy as np
 
-from ..report.style import FAVOURED_COLOR, PALETTE, STAR_COLOR, figure_for, save_figure, style_context
+from ..display.style import FAVOURED_COLOR, PALETTE, STAR_COLOR, figure_for, save_figure, style_context
 
 __all__ = ["plot_age_ladder", "plot_cooling_curves", "age_axis_unit"]
 
@@ -28,7 +28,7 @@ def age_axis_unit(values_yr):
 
 def _plain_log_ticks(axis):
     """Log axis labelled in plain numbers (:func:`kinage.report.style.plain_log_ticks`)."""
-    from ..report.style import plain_log_ticks
+    from ..display.style import plain_log_ticks
 
     plain_log_ticks(axis)
 
@@ -41,7 +41,7 @@ def _pretty(label):
 
 def _temperature_text(t, e):
     """'kT∞ = 77 ± 5 eV, T∞ = (8.9 ± 0.6) × 10⁵ K' from values in K (the error may be None)."""
-    from ..report.numbers import fmt_power, value_error
+    from ..display.numbers import fmt_power, value_error
 
     if e:
         return f"kT∞ = {value_error(t * _EV_PER_K, e * _EV_PER_K, 'eV')}, T∞ = {value_error(t, e, 'K')}"

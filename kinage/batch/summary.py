@@ -78,7 +78,7 @@ def plot_population(table, axes=None):
     crossing is not a kinematic age) are kept apart.  ``axes``: two Axes, or
     None for a new figure.  Returns the Figure.
     """
-    from ..report.style import FAVOURED_COLOR, STAR_COLOR, color, new_figure
+    from ..display.style import FAVOURED_COLOR, STAR_COLOR, color, new_figure
 
     if axes is None:
         fig, (ax1, ax2) = new_figure(ncols=2, width="page", aspect=0.42)
@@ -128,7 +128,7 @@ def plot_population(table, axes=None):
 
 
 def _population_figure(table, path):
-    from ..report.style import save_figure, style_context
+    from ..display.style import save_figure, style_context
 
     with style_context():
         return save_figure(plot_population(table), path)

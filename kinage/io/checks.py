@@ -107,10 +107,9 @@ def _choices(spec):
     if isinstance(spec, (tuple, list)):
         return tuple(spec)
     if spec.startswith("param:"):
-        from ..params import KINDS, available
+        from .choices import names
 
-        kind = spec[len("param:"):]
-        return tuple(available(kind)) if kind in KINDS else None
+        return names("param", spec[len("param:"):])
     if spec == "envelope":
         import sys
 

@@ -73,9 +73,9 @@ def check_arguments(args):
             args.scheduler = check_scheduler_address(args.scheduler)
     potential = getattr(args, "potential", None)
     if potential is not None:
-        from ..params import available
+        from .choices import names as _names
 
-        names = available("potential")
+        names = _names("param", "potential")
         if potential.lower() not in {n.lower() for n in names}:
             raise InputError("--potential", f"expected one of {', '.join(names)} (got {potential!r})")
     return args

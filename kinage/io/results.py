@@ -6,7 +6,6 @@ renamed over the target, so an interrupted or failed run never leaves a
 half-written result behind.
 """
 
-import contextlib
 import datetime
 import hashlib
 import json
@@ -14,58 +13,18 @@ import math
 import os
 import platform
 import sys
-import tempfile
 from pathlib import Path
 
 import numpy as np
 
 from .._version import __version__
+from .atomic import atomic_path, atomic_write
 
 #: in-memory input tables up to this many rows are recorded in full in the provenance
 MAX_RECORDED_ROWS = 1000
 
 __all__ = ["atomic_write", "atomic_path", "write_json", "provenance", "to_jsonable", "interval", "versions",
            "command_line", "VERSIONED"]
-
-
-@contextlib.contextmanager
-def atomic_path(path):
-    """Context manager yielding a temporary path that replaces ``path`` on success.
-
-    Use for writers that want a file name (matplotlib, astropy tables)::
-
-        with atomic_path("fig.png") as tmp:
-            fig.savefig(tmp, format="png")
-    """
-    path = Path(path)
-    path.parent.mkdir(parents=True, exist_ok=True)
-    fd, tmp = tempfile.mkstemp(prefix=f".{path.name}.", suffix=".tmp", dir=path.parent)
-    os.close(fd)
-    try:
-        yield Path(tmp)
-        with open(tmp, "rb") as fh:
-            os.fsync(fh.fileno())
-        os.chmod(tmp, 0o666 & ~_umask())  # mkstemp makes 0600; results get the usual permissions
-        os.replace(tmp, path)
-    except BaseException:
-        with contextlib.suppress(FileNotFoundError):
-            os.unlink(tmp)
-        raise
-
-
-def _umask():
-    mask = os.umask(0)
-    os.umask(mask)
-    return mask
-
-
-def atomic_write(path, data):
-    """Write ``data`` (str or bytes) to ``path`` atomically."""
-    mode = "w" if isinstance(data, str) else "wb"
-    with atomic_path(path) as tmp:
-        with open(tmp, mode, **({"encoding": "utf-8"} if mode == "w" else {})) as fh:
-            fh.write(data)
-    return Path(path)
 
 
 def to_jsonable(obj):

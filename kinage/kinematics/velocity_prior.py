@@ -58,12 +58,6 @@ class VelocityPrior:
         comp = np.sqrt(2 / np.pi) * v**2 / s**3 * np.exp(-(v**2) / (2 * s**2))
         return comp @ self.weights
 
-    def transverse_pdf(self, vt):
-        """Density of the 2-D (projected) speed, per km/s: Rayleigh mixture."""
-        vt = np.asarray(vt, float)[..., None]
-        s = self.sigmas
-        return (vt / s**2 * np.exp(-(vt**2) / (2 * s**2))) @ self.weights
-
     def mean_speed(self):
         """Mean 3-D speed, km/s."""
         return float(self.weights @ (2 * self.sigmas * np.sqrt(2 / np.pi)))
@@ -82,10 +76,6 @@ class VelocityPrior:
         rng = np.random.default_rng(rng)
         k = rng.choice(len(self.weights), size=n, p=self.weights)
         return rng.normal(size=(n, 3)) * self.sigmas[k][:, None]
-
-    def sample_speed(self, n, rng):
-        """Draw ``n`` 3-D speeds, km/s."""
-        return np.linalg.norm(self.sample_velocity(n, rng), axis=1)
 
     def radial_weights(self, vt):
         """Mixture weights W_i of p(v_r | v_t); ``vt`` km/s, shape (..., n_comp)."""

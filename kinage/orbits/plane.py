@@ -14,12 +14,10 @@ import numpy as np
 __all__ = ["plane_crossing_age"]
 
 
-def _heights(bundle, cols=None):
+def _heights(bundle):
     if hasattr(bundle, "array"):
-        a = bundle.array[:, :, 3] if cols is None else bundle.array[:, cols, 3]
-        return a * bundle.ro
-    z = bundle.z()
-    return z if cols is None else z[:, cols]
+        return bundle.array[:, :, 3] * bundle.ro
+    return bundle.z()
 
 
 def _last_crossing(z, t):
@@ -30,15 +28,12 @@ def _last_crossing(z, t):
     return k, has
 
 
-def plane_crossing_age(bundle, cols=None):
+def plane_crossing_age(bundle):
     """Time (Myr before present) of the last mid-plane crossing of each orbit.
 
     Parameters
     ----------
     bundle : orbit bundle (see :mod:`.integrate`)
-    cols : ndarray of int, optional
-        A strided grid searched first; the crossing is then located on the
-        full grid between the two bracketing strided points.
 
     Returns
     -------
@@ -46,28 +41,11 @@ def plane_crossing_age(bundle, cols=None):
     """
     t = bundle.times
     out = np.full(bundle.n, np.nan)
-    if cols is None:
-        z = _heights(bundle)
-        k, has = _last_crossing(z, t)
-        rows = np.flatnonzero(has)
-        z0, z1 = z[rows, k[rows] - 1], z[rows, k[rows]]
-        kk = k[rows]
-    else:
-        cols = np.asarray(cols)
-        kc, has = _last_crossing(_heights(bundle, cols), t[cols])
-        rows = np.flatnonzero(has)
-        if rows.size == 0:
-            return out
-        lo = cols[kc[rows] - 1]
-        width = int(np.max(cols[kc[rows]] - lo)) + 1
-        win = np.minimum(lo[:, None] + np.arange(width)[None, :], len(t) - 1)
-        if hasattr(bundle, "array"):
-            zw = bundle.array[rows[:, None], win, 3] * bundle.ro
-        else:
-            zw = bundle.z()[rows[:, None], win]
-        kw, hw = _last_crossing(zw, None)
-        kk = lo + kw
-        z0, z1 = zw[np.arange(len(rows)), kw - 1], zw[np.arange(len(rows)), kw]
+    z = _heights(bundle)
+    k, has = _last_crossing(z, t)
+    rows = np.flatnonzero(has)
+    z0, z1 = z[rows, k[rows] - 1], z[rows, k[rows]]
+    kk = k[rows]
     if rows.size:
         t0, t1 = t[kk - 1], t[kk]
         out[rows] = -(t0 + (t1 - t0) * z0 / (z0 - z1))

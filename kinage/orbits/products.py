@@ -103,7 +103,7 @@ def write_products(result, out_dir):
     -------
     list of Path
     """
-    from ..report.style import save_figure, style_context
+    from ..display.style import save_figure, style_context
     from . import trace_figures as tf
 
     out = Path(out_dir)

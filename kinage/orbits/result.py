@@ -4,7 +4,7 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
-from .._results import ResultDisplay
+from ..display.protocol import ResultDisplay, _age, _first, _with_error, fmt
 from ..io.results import interval
 from .probability import (DEFAULT_FIELD_PRIOR, DEFAULT_NEIGHBOURHOOD_SCALE_PC, DEFAULT_NEIGHBOURHOOD_SHARE, MODEL_TEXT,
                           PROBABILITY_THRESHOLD)
@@ -12,6 +12,32 @@ from .probability import (DEFAULT_FIELD_PRIOR, DEFAULT_NEIGHBOURHOOD_SCALE_PC, D
 __all__ = ["TraceResult"]
 
 _MAX_FAILED_LISTED = 1000
+
+
+# ------------------------------------------------------------------ display
+def _trace_numbers(r):
+    out = [("star", r.star_name), ("samples", r.n_samples), ("favoured", r.favoured or "none")]
+    best = r.best()
+    if best is not None:
+        out.append(("top association", best.get("name")))
+        p = _first(best, "probability")
+        if isinstance(p, dict):
+            p = _first(p, "value", "median", "p")
+        p_err = best.get("probability_error")
+        if isinstance(p, float) and isinstance(p_err, float) and p_err > 0:
+            out.append(("probability", _with_error(p, p_err, "")))
+        else:
+            out.append(("probability", fmt(p, "", 2) if isinstance(p, float) else None))
+        out.append(("encounter fraction", fmt(_first(best, "encounter_fraction"), "", 2)))
+        age = _first(best, "age_yr") or {}
+        out.append(("kinematic age", _age(age.get("median"))))
+    return out
+
+
+def _trace_table(r):
+    from .products import association_table
+
+    return association_table(r)
 
 
 @dataclass(repr=False)
@@ -32,6 +58,15 @@ class TraceResult(ResultDisplay):
     parameter_sets : list of ParameterSet
     assumptions : list of str
     """
+
+    PLOTS = {"sky": "kinage.orbits.sky_figure:plot_sky",
+             "dmin_tau": "kinage.orbits.trace_figures:plot_dmin_tau",
+             "dmin_control": "kinage.orbits.trace_figures:plot_dmin_control",
+             "tau_hist": "kinage.orbits.trace_figures:plot_tau_hist",
+             "plane_crossing": "kinage.orbits.trace_figures:plot_plane_crossing",
+             "birth": "kinage.orbits.trace_figures:plot_birth_xyz"}
+    KEY_NUMBERS = _trace_numbers
+    TABLE = _trace_table
 
     star_name: str
     n_samples: int
@@ -159,7 +194,7 @@ class TraceResult(ResultDisplay):
         if best is not None and pc.size and best["age_yr"]["median"] is not None:
             kin = best["age_yr"]
             if np.median(pc) > kin["hi68"]:
-                from ..ages.verdicts import format_age_interval
+                from ..display.sentences import format_age_interval
 
                 out.append(f"The plane-crossing age ({format_age_interval(interval(pc), bare=True)}) is older than "
                            f"the kinematic age from {best['name']} ({format_age_interval(kin, bare=True)}): the star "
@@ -227,7 +262,7 @@ class TraceResult(ResultDisplay):
         """A few plain sentences for the report's top summary, in probabilities."""
         text = self.verdict
         rv, dist = self._favoured_implies()
-        from ..ages.verdicts import format_age_interval, format_interval
+        from ..display.sentences import format_age_interval, format_interval
 
         if rv is not None and rv["median"] is not None and dist["median"] is not None:
             text += (f" Birth there implies a radial velocity of "

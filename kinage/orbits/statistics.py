@@ -204,7 +204,7 @@ def rank_associations(summaries, field_prior=DEFAULT_FIELD_PRIOR, neighbourhood_
 
 def _age_text(iv):
     """An age interval (yr) rounded to its 68% interval, as the ages stage quotes it."""
-    from ..ages.verdicts import format_age_interval
+    from ..display.sentences import format_age_interval
 
     if iv.get("median") is None:
         return "no age"

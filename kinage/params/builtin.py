@@ -3,7 +3,7 @@
 Units: lengths in kpc, speeds in km/s, masses in solar masses.
 """
 
-from .registry import ParameterSet, _builtin
+from .sets import ParameterSet, _builtin
 
 # --- solar position and motion ----------------------------------------------
 # values: r0_kpc (Sun - Galactic centre distance), z0_kpc (height above the

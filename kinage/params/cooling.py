@@ -38,7 +38,7 @@ t_start_yr, t_end_yr
     Yakovlev & Pethick 2004, sec. 4).
 """
 
-from .registry import _REGISTRY, ParameterSet, _builtin
+from .sets import _REGISTRY, ParameterSet, _builtin
 
 _COMMON = {
     "heat_capacity_erg_K": 1.0e39,

@@ -22,7 +22,7 @@ from memory); the tests check that they are consistent with each other
 through kinage's own TOV solution.
 """
 
-from .registry import ParameterSet, _builtin
+from .sets import ParameterSet, _builtin
 
 _READ09 = "Read, Lackey, Owen & Friedman 2009, PRD 79, 124032, Tables II-III (piecewise-polytrope fit; memory)"
 

@@ -8,7 +8,7 @@ from pathlib import Path
 
 import numpy as np
 
-from .style import FAVOURED_COLOR, PALETTE, STAR_COLOR, figure_for, save_figure, style_context
+from ..display.style import FAVOURED_COLOR, PALETTE, STAR_COLOR, figure_for, save_figure, style_context
 
 __all__ = ["plot_pm_ellipses", "pm_ellipse_inputs", "write_astrometry_figure"]
 
@@ -27,7 +27,7 @@ def pm_ellipse_inputs(scenario, fit=None, forecast=None):
 
     Timing: the fit's timing-only solution, else the forecast (centred on the
     imaging values, or zero).  Imaging: ``[star]`` proper motion with errors.
-    Combined: what the trace uses (:func:`kinage.pipeline.solution_for_trace`).
+    Combined: what the trace uses (:func:`kinage.astrometry.solution_for_trace`).
     """
     from ..astrometry import AstrometricSolution
 
@@ -50,7 +50,7 @@ def pm_ellipse_inputs(scenario, fit=None, forecast=None):
     if imaging is not None:
         out.append(("imaging", *imaging))
     if fit is not None and imaging is not None:
-        from ..pipeline import solution_for_trace
+        from ..astrometry import solution_for_trace
 
         v, c = _pm_block(solution_for_trace(scenario, fit))
         out.append(("combined", v, c))
@@ -122,7 +122,7 @@ def plot_pm_ellipses(items, ax=None):
     sizes = [np.sqrt(np.max(np.diag(c))) for _, _, c in ref]
     zoom = ax is None and len(sizes) > 1 and max(sizes) > 20 * min(sizes)
     if zoom:
-        from .style import new_figure
+        from ..display.style import new_figure
 
         fig, (ax, ax2) = new_figure(2, 1, width="page", aspect=0.45)
     else:

@@ -32,168 +32,29 @@ with the timing solution (:mod:`kinage.timing.priors`); the result then has
 source 'timing+prior' and keeps the timing-only solution alongside.
 """
 
-from dataclasses import dataclass, field
 from pathlib import Path
 
 import astropy.units as u
 import numpy as np
-from astropy.table import Table
 from astropy.time import Time
 
 from ..astrometry import AstrometricSolution
 from ..errors import ConvergenceError, InputError
-from .._results import ResultDisplay
-from ..io.results import atomic_path
 from . import inputs
-from .forecast import noise_from_campaign
-from .forecast_result import TIMING_ASSUMPTIONS
+from .inputs import dispersion_measure
+from .noise import noise_from_campaign
+from .fit_result import FitResult
 from .gls import gls_step
 from .model import TimeGrid, TimingModel
 from .priors import prior_solution
-from .reference import TOAReference, resolve_reference, timing_assumptions
-from .toas import check_fit_table, frequency_column, read_toas, site_times, validate_toas
+from .reference import resolve_reference, timing_assumptions
+from .toas import (_period_text, check_errors_against_period, check_fit_table, frequency_column, read_toas, site_times,
+                   validate_toas)
 
 __all__ = ["fit_toas", "FitResult", "STEP_TOLERANCE"]
 
 #: converged when every step is below this fraction of its parameter's error
 STEP_TOLERANCE = 1e-3
-
-
-@dataclass(repr=False)
-class FitResult(ResultDisplay):
-    """A timing fit.
-
-    Attributes
-    ----------
-    solution : AstrometricSolution
-        Source 'timing', or 'timing+prior' when an external prior is combined.
-    timing_solution : AstrometricSolution
-        The timing-only solution.
-    parameters : dict
-        All fitted values (astrometric in mas, mas/yr; spin freq Hz, freq_dot Hz/s).
-    parameter_errors : dict
-    chi2 : float
-    n_toas, n_parameters : int
-    converged : bool
-    iterations : int
-    final_step_sigma : float
-        Largest |step| / sigma of the last iteration.
-    reference : TOAReference
-        Where the TOAs are referred to.
-    mjd, residuals_s, errors_s, signature_s : ndarray
-        TOA epochs (MJD TDB, float for plotting), post-fit residuals, effective
-        errors and the fitted astrometric delay at each TOA (s).
-    """
-
-    solution: AstrometricSolution
-    timing_solution: AstrometricSolution
-    parameters: dict
-    parameter_errors: dict
-    chi2: float
-    n_toas: int
-    n_parameters: int
-    converged: bool
-    iterations: int
-    mjd: np.ndarray
-    residuals_s: np.ndarray
-    errors_s: np.ndarray
-    signature_s: np.ndarray
-    signature_grid: tuple | None = None
-    final_step_sigma: float = float("nan")
-    reference: TOAReference = field(default_factory=TOAReference)
-    warnings: list = field(default_factory=list)
-    parameter_sets: list = field(default_factory=list)
-    assumptions: list = field(default_factory=lambda: list(TIMING_ASSUMPTIONS) + [
-        "generalised least squares with fixed noise parameters (Coles et al. 2011, MNRAS 418, 561)",
-    ])
-
-    @property
-    def chi2_reduced(self):
-        return self.chi2 / (self.n_toas - self.n_parameters)
-
-    def to_dict(self):
-        r = self.residuals_s
-        w = 1 / self.errors_s**2
-        out = {
-            "values": self.solution.values_dict(),
-            "sigma": self.solution.sigma_dict(),
-            "source": self.solution.source,
-            "epoch_mjd_tdb": float(self.solution.epoch.tdb.mjd),
-            "ra_deg": float(self.solution.ra.value),
-            "dec_deg": float(self.solution.dec.value),
-            "covariance": self.solution.covariance.tolist(),
-            "chi2": self.chi2,
-            "chi2_reduced": self.chi2_reduced,
-            "n_toas": self.n_toas,
-            "n_parameters": self.n_parameters,
-            "converged": self.converged,
-            "iterations": self.iterations,
-            "final_step_sigma": self.final_step_sigma,
-            "toa_reference": self.reference.kind,
-            "ephemeris": self.reference.ephemeris,
-            "spin": {k: v for k, v in self.parameters.items() if k in ("phase", "freq", "freq_dot", "freq_ddot")},
-            "spin_sigma": {k: v for k, v in self.parameter_errors.items() if k in ("phase", "freq", "freq_dot", "freq_ddot")},
-            "dispersion_measure": self.parameters.get("dispersion_measure"),
-            "dispersion_measure_sigma": self.parameter_errors.get("dispersion_measure"),
-            "residuals": {"rms_us": float(np.sqrt(np.mean(r**2)) * 1e6),
-                          "weighted_rms_us": float(np.sqrt(np.sum(w * r**2) / np.sum(w)) * 1e6),
-                          "max_abs_us": float(np.max(np.abs(r)) * 1e6), "n": int(r.size)},
-            "warnings": list(self.warnings),
-        }
-        if self.solution is not self.timing_solution:
-            out["timing_only"] = {"values": self.timing_solution.values_dict(),
-                                  "sigma": self.timing_solution.sigma_dict()}
-        return out
-
-    def summary(self):
-        v, s = self.solution.values_dict(), self.solution.sigma_dict()
-        pri = " combined with the external prior" if self.solution.source == "timing+prior" else ""
-        if min(s["pm_ra_cosdec_masyr"], s["pm_dec_masyr"]) > 1000.0:
-            # 1 arcsec/yr: faster than any known neutron star, so the fit does not constrain the motion; the
-            # numbers stay in the JSON but are not quoted as if they were measurements
-            plx = ("nor the parallax" if s["parallax_mas"] > 1000.0
-                   else f"though it gives a parallax of {v['parallax_mas']:.3g} +/- {s['parallax_mas']:.2g} mas")
-            return (f"The timing fit of {self.n_toas} TOAs (at the {self.reference.kind}){pri} does not constrain "
-                    f"the proper motion ({plx}): its errors exceed 1 arcsec/yr, where the linearised timing model "
-                    f"has no meaning, so imaging astrometry is needed for the motion (reduced chi-square "
-                    f"{self.chi2_reduced:.2f}{'' if self.converged else ', NOT converged'}).")
-        from ..report.numbers import round_to_error
-
-        def pm(key):  # value and error rounded to the error (Particle Data Group rule)
-            value, error = round_to_error(v[key], s[key])
-            return f"{value} +/- {error}" if error is not None else value
-
-        plx = v["parallax_mas"], s["parallax_mas"]
-        if abs(plx[0]) < 2.0 * plx[1]:
-            plx_text = f"a parallax not distinguished from zero ({pm('parallax_mas')} mas)"
-        else:
-            plx_text = f"a parallax of {pm('parallax_mas')} mas"
-        text = (f"The timing fit of {self.n_toas} TOAs (at the {self.reference.kind}){pri} gives a proper motion of "
-                f"{pm('pm_ra_cosdec_masyr')} (ra*cos dec) and {pm('pm_dec_masyr')} (dec) mas/yr and {plx_text} "
-                f"(reduced chi-square {self.chi2_reduced:.2f}"
-                f"{'' if self.converged else ', NOT converged'}).")
-        return text
-
-    def residual_table(self):
-        t = Table()
-        t["mjd"] = self.mjd
-        t["residual"] = self.residuals_s * u.s
-        t["error"] = self.errors_s * u.s
-        t["astrometric_delay"] = self.signature_s * u.s
-        t.meta["time_scale"] = "tdb"
-        t.meta["toa_reference"] = self.reference.kind
-        t.meta["note"] = "mjd rounded to float64 for plotting; residuals are exact"
-        return t
-
-    def write_products(self, out_dir):
-        """Write ``fit_residuals.ecsv`` and ``fit_residuals.png``."""
-        from .plots import residual_figure
-
-        out = Path(out_dir)
-        out.mkdir(parents=True, exist_ok=True)
-        with atomic_path(out / "fit_residuals.ecsv") as tmp:
-            self.residual_table().write(tmp, format="ascii.ecsv", overwrite=True)
-        return [out / "fit_residuals.ecsv", Path(residual_figure(self, out / "fit_residuals.png"))]
 
 
 def fit_toas(toas, scenario, *, max_iter=30, method="woodbury"):
@@ -236,10 +97,10 @@ def fit_toas(toas, scenario, *, max_iter=30, method="woodbury"):
     if ra is None or dec is None:
         raise InputError("[star] ra", "position (ra, dec) is required to fit TOAs")
     freq, freq_dot, _ = inputs.spin_from_star(star, required=True, where="fitting TOAs")
-    _check_errors_against_period(tab, 1.0 / freq, where)
+    check_errors_against_period(tab, 1.0 / freq, where)
     f_mhz = frequency_column(tab, where)
     multi = f_mhz is not None and np.unique(f_mhz).size > 1
-    dm0 = _dispersion_measure(star)
+    dm0 = dispersion_measure(star)
     model = TimingModel(ra, dec, freq, freq_dot, 0.0, int(c.get("spin_terms", 2)), dm0, multi)
     check_fit_table(tab, where, model.n_parameters)
     times = site_times(tab, reference) if reference.kind == "site" else tab["mjd"].tdb
@@ -294,29 +155,9 @@ def _folder(path):
     return None if path is None else Path(path).resolve().parent
 
 
-def _dispersion_measure(star):
-    try:
-        return float(star.value("dispersion_measure", "pc / cm3", 0.0) or 0.0)
-    except (AttributeError, KeyError):
-        return 0.0
-
-
 def _chi2_noise(n):
     """Relative numerical noise of chi-square: a few float64 roundings per TOA (common practice, no source)."""
     return max(1e-12 * n, 1e-10)
-
-
-def _check_errors_against_period(tab, period, where):
-    """TOA errors of half the spin period or more leave no pulse phase to fit: most often a unit mistake."""
-    err = u.Quantity(tab["error"]).to_value(u.s)
-    bad = np.flatnonzero(err >= 0.5 * period)
-    if bad.size:
-        i = int(bad[0])
-        mjd = tab["mjd"][i].tdb.to_value("mjd", "float")
-        raise InputError(f"{where} column 'error'",
-                         f"{err[i]:.3g} s (at MJD {mjd:.4f}) is at least half the spin period ({_period_text(period)}), so "
-                         "the TOA fixes no pulse phase; errors must be well below the period (a column without "
-                         "a unit is in seconds: were these microseconds?)")
 
 
 #: a TOA is taken as misnumbered when its residual passes a quarter period and this many times its noise
@@ -344,11 +185,6 @@ def _misnumbered(resid, noise, period):
             "are referred elsewhere than toa_reference says; check that [star] epoch is the epoch of spin_period "
             "and that site TOAs have toa_reference = 'site', give better starting values, or add TOAs that "
             "bridge the gaps)")
-
-
-def _period_text(period):
-    """A spin period in the unit people use: ms below a second."""
-    return f"{period * 1e3:.4g} ms" if period < 1.0 else f"{period:.4g} s"
 
 
 def _scatter_warning(chi2, dof):

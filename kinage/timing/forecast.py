@@ -25,7 +25,7 @@ from ..progress import progress_bar
 from . import inputs
 from .gls import covariance_from_fisher, fisher_matrix
 from .model import TimeGrid, TimingModel
-from .noise import NoiseModel
+from .noise import noise_from_campaign
 from .plan import SCHEDULES, SunWindow, make_plan, regular_epochs, schedule_of
 from .priors import prior_solution
 from .forecast_result import ForecastResult
@@ -62,19 +62,6 @@ def astrometric_covariance(model, grid, toa_errors, campaign, span_s=None, metho
     design = model.design_matrix(grid, theta)
     noise = noise_from_campaign(campaign, grid.seconds, toa_errors, span_s)
     return covariance_from_fisher(fisher_matrix(design, noise, method))[:5, :5]
-
-
-def noise_from_campaign(campaign, seconds, errors, span_s=None):
-    """NoiseModel with the scenario's white and red noise keys."""
-    return NoiseModel(
-        seconds, errors,
-        error_scale=campaign.value("error_scale", None, 1.0),
-        added_error=campaign.value("added_error", "s", 0.0),
-        red_amplitude=campaign.value("red_noise_amplitude", None, 0.0),
-        red_index=campaign.value("red_noise_index", None, 4.0),
-        red_modes=int(campaign.get("red_noise_modes", 30)),
-        span_s=span_s,
-    )
 
 
 def pm_error_along(cov, direction):

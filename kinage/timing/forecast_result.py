@@ -6,7 +6,7 @@ from pathlib import Path
 import numpy as np
 
 from ..astrometry import PARAMETERS, AstrometricSolution
-from .._results import ResultDisplay
+from ..display.protocol import ResultDisplay, fmt
 from ..io.results import atomic_path
 from .inputs import ExpectedMotion
 from .plan import ObservingPlan
@@ -24,6 +24,26 @@ TIMING_ASSUMPTIONS = [
     "red noise: power law A^2/(12 pi^2) f_yr^-3 (f/f_yr)^-gamma in a Fourier basis (Lentati et al. 2013; "
     "van Haasteren & Vallisneri 2014); spin terms marginalised",
 ]
+
+
+# ------------------------------------------------------------------ display
+def _forecast_numbers(r):
+    from ..display.numbers import fmt_duration_s
+
+    from ..display.numbers import fit_constrained
+
+    sig = r.solution.sigma_dict()
+    ok = fit_constrained({"sigma": sig})
+    pm = fmt(sig.get("pm_ra_cosdec_masyr"), "") and \
+        f"{sig['pm_ra_cosdec_masyr']:.3g} / {sig['pm_dec_masyr']:.3g} mas/yr (ra*cos dec / dec)"
+    px = fmt(sig.get("parallax_mas"), "mas")
+    return [("visits", r.plan.n_visits), ("span", fmt(r.plan.span_yr, "yr")),
+            ("median TOA error", r.toa_error_s is not None and fmt_duration_s(r.toa_error_s) or None),
+            ("sigma_pm", pm if ok["proper_motion"] or pm is None else
+             f"not constrained by timing (formal {sig['pm_ra_cosdec_masyr']:.2g} / {sig['pm_dec_masyr']:.2g} mas/yr)"),
+            ("sigma_parallax", px if ok["parallax"] or px is None else f"not constrained by timing (formal {px})"),
+            ("pm significance", fmt(r.pm_significance, "sigma", 2)),
+            ("baseline needed", fmt(r.baseline_needed_yr, "yr"))]
 
 
 @dataclass(repr=False)
@@ -54,6 +74,10 @@ class ForecastResult(ResultDisplay):
         Errors of the 'even', 'parallax' and 'motion' schedules with the same visits
         (:func:`kinage.timing.forecast.compare_schedules`); None for explicit dates or a TOA table.
     """
+
+    PLOTS = {"baseline": "kinage.timing.plots:forecast_figure", "plan": "kinage.timing.plots:plan_figure"}
+    KEY_NUMBERS = _forecast_numbers
+    TABLE = lambda r: r.sweep_table()  # noqa: E731
 
     solution: AstrometricSolution
     plan: ObservingPlan
@@ -169,7 +193,7 @@ class ForecastResult(ResultDisplay):
 
     def write_products(self, out_dir):
         """Write forecast_sweep.ecsv, forecast_plan.ecsv, forecast_baseline.png and forecast_plan.png."""
-        from ..report.style import save_figure
+        from ..display.style import save_figure
         from .plots import forecast_figure, plan_figure
 
         out = Path(out_dir)

@@ -18,7 +18,7 @@ from ..errors import InputError
 from . import photons
 
 __all__ = ["K_KMS_PER_MASYR_KPC", "ExpectedMotion", "spin_from_star", "expected_proper_motion", "visit_errors",
-           "distance_pc", "phase_connection", "DETECTION_THRESHOLD_SIGMA"]
+           "distance_pc", "dispersion_measure", "phase_connection", "DETECTION_THRESHOLD_SIGMA"]
 
 #: km/s per (mas/yr * kpc): 1 AU/yr in km/s (IAU 2012 au, Julian year)
 K_KMS_PER_MASYR_KPC = 4.74047
@@ -38,6 +38,14 @@ def spin_from_star(star, required=False, where="timing"):
         return 1.0, 0.0, None
     pdot = star.value("spin_period_derivative", "", 0.0) or 0.0
     return 1.0 / p, -pdot / p**2, p
+
+
+def dispersion_measure(star):
+    """The ``[star] dispersion_measure`` in pc/cm^3 (0 when not given)."""
+    try:
+        return float(star.value("dispersion_measure", "pc / cm3", 0.0) or 0.0)
+    except (AttributeError, KeyError):
+        return 0.0
 
 
 def distance_pc(star):

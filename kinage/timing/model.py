@@ -32,7 +32,7 @@ frequency terms present are set by ``spin_terms`` (1 to 3) — and, when
 ``fit_dispersion``, ``dispersion_measure`` (pc cm^-3) last.
 """
 
-from dataclasses import dataclass, field, replace
+from dataclasses import dataclass, field
 
 import astropy.constants as const
 import astropy.units as u
@@ -231,11 +231,6 @@ class TimingModel:
             spin = (0.0,) * (1 + self.spin_terms)
         dm = ((0.0 if offsets else self.dispersion_measure),) if self.fit_dispersion else ()
         return np.concatenate([np.asarray(astro, float), spin, dm])
-
-    def with_spin(self, theta):
-        """Copy whose freq, freq_dot, freq_ddot are taken from a parameter vector (absolute values)."""
-        freq, freq_dot, freq_ddot = self._spin(theta)
-        return replace(self, freq=float(freq), freq_dot=float(freq_dot), freq_ddot=float(freq_ddot))
 
     def absolute(self, delta):
         """Absolute parameter values (float64) from an offsets vector."""

@@ -30,7 +30,7 @@ from scipy import linalg
 from ..errors import InputError
 from .model import SECONDS_PER_YEAR
 
-__all__ = ["NoiseModel", "red_noise_psd", "fourier_basis"]
+__all__ = ["NoiseModel", "red_noise_psd", "fourier_basis", "noise_from_campaign"]
 
 F_YR = 1.0 / SECONDS_PER_YEAR
 
@@ -192,3 +192,16 @@ class NoiseModel:
             return white
         coef = rng.standard_normal(self.phi.size) * np.sqrt(self.phi)
         return white + self.basis @ coef
+
+
+def noise_from_campaign(campaign, seconds, errors, span_s=None):
+    """NoiseModel with the scenario's white and red noise keys."""
+    return NoiseModel(
+        seconds, errors,
+        error_scale=campaign.value("error_scale", None, 1.0),
+        added_error=campaign.value("added_error", "s", 0.0),
+        red_amplitude=campaign.value("red_noise_amplitude", None, 0.0),
+        red_index=campaign.value("red_noise_index", None, 4.0),
+        red_modes=int(campaign.get("red_noise_modes", 30)),
+        span_s=span_s,
+    )

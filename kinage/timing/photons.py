@@ -110,10 +110,6 @@ class PulseProfile:
         return prof if pulsed_fraction is None else prof.with_pulsed_fraction(pulsed_fraction)
 
     # -- evaluation ---------------------------------------------------------
-    @property
-    def n_harmonics(self):
-        return self.cos_amps.size
-
     def evaluate(self, phi):
         """(phi, f, f', f'') at phases ``phi`` (cycles); derivatives per cycle."""
         phi = np.asarray(phi, float)

@@ -15,7 +15,7 @@ _YEAR_D = 365.25
 
 def _axes(ax, n, **kw):
     """(figure, list of n axes): new ones when ax is None, else the axes given (one Axes fills the first slot)."""
-    from ..report.style import new_figure
+    from ..display.style import new_figure
 
     if ax is None:
         fig, axes = new_figure(1, n, **kw)
@@ -43,7 +43,7 @@ def forecast_figure(result, ax=None):
     -------
     matplotlib.figure.Figure
     """
-    from ..report.style import color, plain_log_ticks, style_context
+    from ..display.style import color, plain_log_ticks, style_context
 
     sw = result.sweep
     b = np.asarray(sw["baseline_yr"], float)
@@ -74,7 +74,7 @@ def forecast_figure(result, ax=None):
 
 
 def _significance_panel(ax, result, b):
-    from ..report.style import color
+    from ..display.style import color
 
     s = np.asarray(result.sweep["pm_significance"], float)
     good = np.isfinite(s) & (s > 0)
@@ -94,7 +94,7 @@ def _significance_panel(ax, result, b):
     ax.axvline(result.plan.span_yr, color="0.5", lw=0.8, ls=":")
     ax.set_ylabel("significance\n" + r"$\mu/\sigma_\mu$")
     if np.any(good):
-        from ..report.style import plain_log_ticks
+        from ..display.style import plain_log_ticks
 
         plain_log_ticks(ax.yaxis)
 
@@ -125,7 +125,7 @@ def plan_figure(result, ax=None):
     -------
     matplotlib.figure.Figure
     """
-    from ..report.style import color, style_context
+    from ..display.style import color, style_context
     from .plan import candidate_rows, sun_separation
 
     sol, plan = result.solution, result.plan
@@ -163,7 +163,7 @@ def plan_figure(result, ax=None):
 
 
 def _campaign_panel(ax, result, ra, dec, direction, along):
-    from ..report.style import color
+    from ..display.style import color
     from .plan import candidate_rows
 
     plan = result.plan
@@ -209,7 +209,7 @@ def residual_figure(result, path=None, ax=None):
     -------
     matplotlib.figure.Figure, or the path when ``path`` is given
     """
-    from ..report.style import color, save_figure, style_context
+    from ..display.style import color, save_figure, style_context
 
     mjd = result.mjd
     sig = result.signature_s

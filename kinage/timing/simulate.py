@@ -23,10 +23,11 @@ import astropy.units as u
 import numpy as np
 from astropy.table import Table
 
-from .._results import ResultDisplay
+from ..display.protocol import ResultDisplay, fmt
 from ..errors import InputError
 from . import inputs
-from .forecast import noise_from_campaign
+from .inputs import dispersion_measure
+from .noise import noise_from_campaign
 from .forecast_result import TIMING_ASSUMPTIONS
 from . import precision
 from .model import ASTRO_PARAMETERS, TimeGrid, TimingModel
@@ -35,6 +36,15 @@ from .reference import resolve_reference, timing_assumptions
 from .toas import write_toas
 
 __all__ = ["simulate_toas", "SimulationResult"]
+
+
+# ------------------------------------------------------------------ display
+def _simulation_numbers(r):
+    from ..display.numbers import fmt_duration_s
+
+    d = r.to_dict()
+    return [("TOAs", d["n_toas"]), ("median TOA error", fmt_duration_s(d["toa_error_s"])),
+            ("span", fmt(d["span_yr"], "yr")), ("seed", d["seed"])]
 
 
 @dataclass(repr=False)
@@ -52,6 +62,9 @@ class SimulationResult(ResultDisplay):
         freq (Hz), freq_dot (Hz/s).
     seed : int or None
     """
+
+    KEY_NUMBERS = _simulation_numbers
+    TABLE = lambda r: r.table  # noqa: E731
 
     table: Table
     injected: dict
@@ -96,19 +109,12 @@ def _injected(scenario, rng, inject):
         d = star.value("distance", "pc")
         plx = 1000.0 / d if d else 0.0
     vals = {"ra": 0.0, "dec": 0.0, "pm_ra_cosdec": float(pra), "pm_dec": float(pdec), "parallax": float(plx),
-            "freq": freq, "freq_dot": freq_dot, "dispersion_measure": _star_dm(star)}
+            "freq": freq, "freq_dot": freq_dot, "dispersion_measure": dispersion_measure(star)}
     for k, v in (inject or {}).items():
         if k not in vals:
             raise InputError("inject", f"unknown parameter '{k}' (expected one of {', '.join(vals)})")
         vals[k] = float(v)
     return vals
-
-
-def _star_dm(star):
-    try:
-        return float(star.value("dispersion_measure", "pc / cm3", 0.0) or 0.0)
-    except (AttributeError, KeyError):
-        return 0.0
 
 
 def simulate_toas(scenario, *, rng=None, inject=None, frequency_mhz=None):

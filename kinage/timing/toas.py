@@ -42,8 +42,8 @@ from astropy.time import Time
 from ..errors import InputError
 from ..io.results import atomic_path
 
-__all__ = ["read_toas", "write_toas", "validate_toas", "toa_times", "check_fit_table", "frequency_column",
-           "site_times", "MJD_RANGE", "MIN_FREQUENCY_MHZ"]
+__all__ = ["read_toas", "write_toas", "validate_toas", "check_fit_table", "check_errors_against_period",
+           "frequency_column", "site_times", "MJD_RANGE", "MIN_FREQUENCY_MHZ"]
 
 #: plausible TOA dates: 1965 (before the first pulsar) to 2100 (end of the built-in ephemeris)
 MJD_RANGE = (39000.0, 88069.0)
@@ -209,6 +209,24 @@ def check_fit_table(tab, where, n_parameters):
                          "parallax need TOAs spread over months to years")
 
 
+def check_errors_against_period(tab, period, where):
+    """TOA errors of half the spin period or more leave no pulse phase to fit: most often a unit mistake."""
+    err = u.Quantity(tab["error"]).to_value(u.s)
+    bad = np.flatnonzero(err >= 0.5 * period)
+    if bad.size:
+        i = int(bad[0])
+        mjd = tab["mjd"][i].tdb.to_value("mjd", "float")
+        raise InputError(f"{where} column 'error'",
+                         f"{err[i]:.3g} s (at MJD {mjd:.4f}) is at least half the spin period ({_period_text(period)}), so "
+                         "the TOA fixes no pulse phase; errors must be well below the period (a column without "
+                         "a unit is in seconds: were these microseconds?)")
+
+
+def _period_text(period):
+    """A spin period in the unit people use: ms below a second."""
+    return f"{period * 1e3:.4g} ms" if period < 1.0 else f"{period:.4g} s"
+
+
 def site_times(tab, reference):
     """TDB arrival times at the site: a non-TDB input scale is converted with the site's location (astropy)."""
     t = tab["mjd"]
@@ -310,11 +328,6 @@ def _time_order(times, where):
         i, j = sorted((int(order[dup[0]]), int(order[dup[0] + 1])))
         raise InputError(f"{where} row {j + 1}, column 'mjd'", f"duplicate time (same as row {i + 1})")
     return None if np.all(order == np.arange(order.size)) else order
-
-
-def toa_times(tab):
-    """The ``mjd`` column of a validated table as a TDB Time."""
-    return tab["mjd"].tdb
 
 
 def write_toas(tab, path):

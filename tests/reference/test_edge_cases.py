@@ -10,7 +10,7 @@ from astropy.time import Time
 from scipy import integrate, optimize, stats
 
 from kinage.kinematics.distance import distance_prior, sample_true_parallax
-from kinage.orbits.closest import CoarseTracks, closest_approach, coarse_columns
+from kinage.orbits.hermite import AssociationGrid, StarChunk, closest_on_grid
 from kinage.orbits.integrate import integrate_orbits, time_grid
 from kinage.params import get
 from kinage.timing.toas import read_toas
@@ -86,8 +86,7 @@ def test_closest_approach_at_exactly_max_age(fraction, at_edge):
     pset = get("potential", "none")
     star = integrate_orbits(ps, np.array([[0.0, 230.0, 0.0]]) + v_rel, t, pset)
     group = integrate_orbits(pa, np.array([[0.0, 230.0, 0.0]]), t, pset)
-    cols = coarse_columns(len(t))
-    res = closest_approach(star, star.positions(cols), CoarseTracks.from_bundle(group, cols), np.arange(1))
+    res = _closest(star, group)
     assert bool(res["edge"][0]) is at_edge
     assert res["tau_myr"][0] == pytest.approx(fraction * max_age, abs=1e-9)
     assert res["dmin_pc"][0] == pytest.approx(2.0, rel=1e-9)
@@ -116,3 +115,11 @@ def test_different_trace_seeds_give_different_draws(tmp_path):
                      "max_age": 2.0, "time_steps": 101, "control_runs": 0}}
     d = [trace(scenario_from_dict(raw), rng=s).to_dict()["associations"][0]["dmin_pc"] for s in (1, 2, 1)]
     assert d[0] == d[2] and d[0]["median"] != d[1]["median"]
+
+
+
+def _closest(star, group):
+    """Closest approach of star draw i to association draw i by the kernel trace runs (hermite.closest_on_grid)."""
+    p, v = group.components()
+    grid = AssociationGrid(np.moveaxis(p, 0, -1), np.moveaxis(v, 0, -1), group.times)
+    return closest_on_grid(StarChunk(star, 0, star.n, origin=grid.origin), grid, 0, refine_below_pc=np.inf)

@@ -10,7 +10,7 @@ import numpy as np
 import pytest
 from scipy import stats
 
-from kinage.orbits.closest import CoarseTracks, closest_approach, coarse_columns
+from kinage.orbits.hermite import AssociationGrid, StarChunk, closest_on_grid
 from kinage.orbits.integrate import integrate_orbits, time_grid
 from kinage.orbits.statistics import encounter_mask, summarise_association
 from kinage.params import get
@@ -31,8 +31,7 @@ def _isotropic_passes(rng, n):
     pset = get("potential", "none")
     star = integrate_orbits(ps, vs, t, pset)
     group = integrate_orbits(np.tile(assoc, (n, 1)), np.tile(bulk, (n, 1)), t, pset)
-    cols = coarse_columns(len(t))
-    res = closest_approach(star, star.positions(cols), CoarseTracks.from_bundle(group, cols), np.arange(n))
+    res = _closest(star, group)
     return res["dmin_pc"], res["tau_myr"], res["edge"], np.ones(n, bool)
 
 
@@ -102,3 +101,11 @@ def test_fraction_error_describes_the_scatter_between_repeats():
     lo, hi = np.sqrt(stats.chi2.ppf([0.005, 0.995], 11) / 11)
     assert lo * expected < np.std(fracs, ddof=1) < hi * expected
     assert np.mean(fracs) == pytest.approx(P_GEOMETRIC, abs=4 * expected / np.sqrt(12))
+
+
+
+def _closest(star, group):
+    """Closest approach of star draw i to association draw i by the kernel trace runs (hermite.closest_on_grid)."""
+    p, v = group.components()
+    grid = AssociationGrid(np.moveaxis(p, 0, -1), np.moveaxis(v, 0, -1), group.times)
+    return closest_on_grid(StarChunk(star, 0, star.n, origin=grid.origin), grid, 0, refine_below_pc=np.inf)

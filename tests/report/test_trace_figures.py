@@ -45,7 +45,7 @@ def test_sky_map_ranks_the_favoured_association_first_and_names_every_candidate(
     import matplotlib.pyplot as plt
 
     from kinage.orbits.trace_figures import plot_sky
-    from kinage.report.style import FAVOURED_COLOR
+    from kinage.display.style import FAVOURED_COLOR
 
     res = traces["born"]
     assert res.favoured == "Fenwold Test-A"  # the set-up: the star left it ~0.6 Myr ago

@@ -4,7 +4,7 @@ import numpy as np
 import pytest
 from scipy import integrate, stats
 
-from kinage.orbits.closest import CoarseTracks, closest_approach, coarse_columns
+from kinage.orbits.hermite import AssociationGrid, StarChunk, closest_on_grid
 from kinage.orbits.common_origin import compare_common_origin, separation_cdf, separation_pdf
 from kinage.orbits.integrate import integrate_orbits, time_grid
 from kinage.params import get
@@ -42,8 +42,7 @@ def test_monte_carlo_dmin_of_true_common_origin_follows_appendix_a():
     times = time_grid(2.0, 101)
     pset = get("potential", "none")
     s, a = integrate_orbits(ps, vel, times, pset), integrate_orbits(pa, vel, times, pset)
-    cols = coarse_columns(len(times))
-    res = closest_approach(s, s.positions(cols), CoarseTracks.from_bundle(a, cols), np.arange(n))
+    res = _closest(s, a)
     out = compare_common_origin(res["dmin_pc"])
     assert out["ks_pvalue"] > 0.01
     assert out["sigma_pc"] == pytest.approx(sigma_pc, rel=0.03)
@@ -51,3 +50,11 @@ def test_monte_carlo_dmin_of_true_common_origin_follows_appendix_a():
     off = compare_common_origin(np.linalg.norm(rng.normal(0, 6, (3000, 3)) - rng.normal(0, 6, (3000, 3))
                                                - [30, 0, 0], axis=1))
     assert off["ks_pvalue"] < 1e-3 and off["fit_mu_pc"] == pytest.approx(30, rel=0.15)
+
+
+
+def _closest(star, group):
+    """Closest approach of star draw i to association draw i by the kernel trace runs (hermite.closest_on_grid)."""
+    p, v = group.components()
+    grid = AssociationGrid(np.moveaxis(p, 0, -1), np.moveaxis(v, 0, -1), group.times)
+    return closest_on_grid(StarChunk(star, 0, star.n, origin=grid.origin), grid, 0, refine_below_pc=np.inf)

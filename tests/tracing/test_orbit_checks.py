@@ -3,16 +3,19 @@
 import numpy as np
 import pytest
 
-from kinage.orbits.closest import CoarseTracks, closest_approach, coarse_columns, straight_line_closest_approach
+from kinage.orbits.closest import straight_line_closest_approach
+from kinage.orbits.hermite import AssociationGrid, StarChunk, closest_on_grid
 from kinage.orbits.frames import KMS_TO_PCMYR
 from kinage.orbits.integrate import integrate_orbits, time_grid
 from kinage.params import get
 from tracing_helpers import random_states
 
 
-def _closest(bundle_s, bundle_a, cols):
-    tracks = CoarseTracks.from_bundle(bundle_a, cols)
-    return closest_approach(bundle_s, bundle_s.positions(cols), tracks, np.arange(bundle_s.n))
+def _closest(star, group):
+    """Closest approach of star draw i to association draw i by the kernel trace runs (hermite.closest_on_grid)."""
+    p, v = group.components()
+    grid = AssociationGrid(np.moveaxis(p, 0, -1), np.moveaxis(v, 0, -1), group.times)
+    return closest_on_grid(StarChunk(star, 0, star.n, origin=grid.origin), grid, 0, refine_below_pc=np.inf)
 
 
 @pytest.mark.parametrize("which", ["none", "galpy-null"])
@@ -27,7 +30,7 @@ def test_force_free_closest_approach_matches_closed_form(which, null_potential_s
     pset = get("potential", "none") if which == "none" else null_potential_set
     s = integrate_orbits(ps, vs, times, pset)
     a = integrate_orbits(pa, va, times, pset)
-    res = _closest(s, a, coarse_columns(len(times)))
+    res = _closest(s, a)
     # closed form typed here (not kinage's straight-line helper); backwards in time, so t in [-10, 0] Myr:
     # t* = clip(-dr.dv / |dv|^2, -10, 0), tau = -t*; velocity km/s -> pc/Myr from astropy units
     import astropy.units as u
@@ -83,8 +86,7 @@ def test_refined_minimum_agrees_with_fine_grid():
     va = vs + rng.normal(0, 100, (n, 3))
     pset = get("potential", "MWPotential2014")
     coarse_t = time_grid(10.0, 401)
-    res = _closest(integrate_orbits(ps, vs, coarse_t, pset), integrate_orbits(pa, va, coarse_t, pset),
-                   coarse_columns(401))
+    res = _closest(integrate_orbits(ps, vs, coarse_t, pset), integrate_orbits(pa, va, coarse_t, pset))
     fine_t = time_grid(10.0, 20001)
     s, a = integrate_orbits(ps, vs, fine_t, pset), integrate_orbits(pa, va, fine_t, pset)
     cols = np.arange(20001)
@@ -104,17 +106,15 @@ def test_failed_orbit_is_recorded_not_fatal():
 
 
 def test_plane_crossing_age_closed_form():
-    # Force-free motion: z(t) = z0 + vz t crosses z = 0 at tau = z0 / vz (elementary kinematics);
-    # the strided search gives the same ages as the full-grid search.
+    # Force-free motion: z(t) = z0 + vz t crosses z = 0 at tau = z0 / vz (elementary kinematics).
     from kinage.orbits.plane import plane_crossing_age
 
     rng = np.random.default_rng(9)
     pos, vel = random_states(rng, 500)
     times = time_grid(5.0, 1001)
     b = integrate_orbits(pos, vel, times, get("potential", "none"))
-    tau = plane_crossing_age(b, coarse_columns(len(times)))
+    tau = plane_crossing_age(b)
     ref = pos[:, 2] * 1000 / (vel[:, 2] * KMS_TO_PCMYR)
     inside = (ref > 0) & (ref < 5.0)
     np.testing.assert_allclose(tau[inside], ref[inside], atol=1e-9)
     assert np.all(np.isnan(tau[~inside]))
-    np.testing.assert_array_equal(np.isnan(tau), np.isnan(plane_crossing_age(b)))
