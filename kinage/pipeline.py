@@ -225,8 +225,14 @@ def run_stage(name, scenario, done, *, seed, samples=None, progress=False, input
         from .ages import compare_ages
 
         samples_k, label = kinematic_age_input(scenario, done.get("trace"))
+        tr = done.get("trace")
+        # one star for every stage: the trace's own draws (distance posterior and proper motions), or, without
+        # a trace, the same astrometric solution it would have used
+        star_draws = tr.data.get("draws") if tr is not None else None
+        positioned = scenario.star.get("ra") is not None and scenario.star.get("dec") is not None
+        sol = solution_for_trace(scenario, done.get("fit")) if star_draws is None and positioned else None
         return compare_ages(scenario, kinematic_age_samples=samples_k, kinematic_age_source=label,
-                            rng=stage_seed(seed, "ages"))
+                            rng=stage_seed(seed, "ages"), star_draws=star_draws, solution=sol)
     raise ValueError(f"unknown stage {name!r}")
 
 

@@ -17,7 +17,7 @@ from .._units import quantity_edge
 from ..errors import ModelRangeError
 from ..io.results import interval
 from .cooling_age import cooling_age
-from .draws import draw_kinematic_age, draw_spin, read_settings
+from .draws import draw_kinematic_age, draw_spin, read_settings, star_motion
 from .envelope import star_structure
 from .field_decay import (exponential_decay_timescale, ohm_hall_characteristic_age, ohm_hall_timescale,
                           ohm_hall_true_age)
@@ -177,7 +177,8 @@ class AgesResult(ResultDisplay):
 
 
 @quantity_edge(None, kinematic_age_samples="yr")
-def compare_ages(scenario, *, kinematic_age_samples=None, kinematic_age_source=None, rng=None, heating=None):
+def compare_ages(scenario, *, kinematic_age_samples=None, kinematic_age_source=None, rng=None, heating=None,
+                 star_draws=None, solution=None):
     """Spin-down, field-decay, cooling and kinematic ages of one star, compared.
 
     Parameters
@@ -196,6 +197,13 @@ def compare_ages(scenario, *, kinematic_age_samples=None, kinematic_age_source=N
     heating : callable or None
         Heating H(t_yr) in erg/s for the cooling curves (e.g.
         :func:`kinage.ages.cooling.field_decay_heating`).
+    star_draws : StarDraws, optional
+        The trace's draws of the star: the Shklovskii term then uses exactly
+        the trace's distance posterior and proper motions.
+    solution : AstrometricSolution, optional
+        Without ``star_draws``: the astrometry to draw from (e.g. a timing fit
+        combined with ``[star]``); default the ``[star]`` values.  The
+        distance posterior is the trace's (same function, same inputs).
 
     Returns
     -------
@@ -246,7 +254,12 @@ def compare_ages(scenario, *, kinematic_age_samples=None, kinematic_age_source=N
               "moment_of_inertia_g_cm2": s.moment_of_inertia}
     unc, shk, decay = {}, {"applied": False}, {}
     have_spin = star.get("spin_period") is not None and star.get("spin_period_derivative") is not None
-    spin = draw_spin(star, s, n, rng) if have_spin else None
+    motion = None
+    if have_spin and s.shklovskii:
+        motion = star_motion(scenario, n, rng, star_draws=star_draws, solution=solution)
+        if star_draws is None and motion.get("posterior") is not None:
+            warnings.extend(motion["posterior"].warnings)
+    spin = draw_spin(star, s, n, rng, motion) if have_spin else None
     state = pdot_state(spin) if spin is not None else None
     spinning_up = bool(spin is not None and not spin.pdot > 0)
     for k in ("characteristic_age_yr", "dipole_field_gauss", "spin_down_luminosity_erg_s", "spin_down_age_yr",
@@ -447,8 +460,11 @@ def _assumptions(s, shk, kin_method):
         "Gaussian, independent input errors propagated by Monte Carlo",
     ]
     if shk.get("applied"):
-        a.append("Shklovskii term P v_t^2/(c d) subtracted with d = "
-                 f"{shk.get('distance_source')}; Galactic acceleration terms neglected (Shklovskii 1970)")
+        a.append("Shklovskii term P v_t^2/(c d) subtracted draw by draw, with the star's joint distance and "
+                 f"proper-motion draws (distance from the {shk.get('distance_source')}); Galactic acceleration terms "
+                 "neglected (Shklovskii 1970)")
+        if shk.get("distance_assumption"):
+            a.append(shk["distance_assumption"])
     if kin_method:
         a.append(f"Kinematic age: {kin_method}")
     return a

@@ -306,7 +306,13 @@ def _parse_section(table, raw, base_dir, problems, allow_missing=frozenset()):
         if name not in allowed:
             problems.append(InputError(f"[{table}] {_short(name)}", "unknown key" + _suggest(name, sorted(allowed))))
             continue
-        if name.endswith("_error") and name not in schema:
+        if name in _FRACTION_KEYS.get(table, ()) and isinstance(val, str) and val.strip().endswith("%"):
+            try:
+                parsed = _fraction(f"[{table}] {name}", val)
+            except InputError as exc:
+                problems.append(exc)
+                parsed = None
+        elif name.endswith("_error") and name not in schema:
             key = schema[name[: -len("_error")]]
             err_key = Key(name, "quantity" if key.kind in ("quantity", "angle") else "float",
                           "mas" if key.kind == "angle" else key.unit, positive=True)
@@ -327,6 +333,23 @@ def _parse_section(table, raw, base_dir, problems, allow_missing=frozenset()):
         if name.endswith("_error") and name not in schema and name[: -len("_error")] not in given | failed:
             problems.append(InputError(f"[{table}] {name}", f"given without '{name[:-6]}'"))
     return Section(table, values, given)
+
+
+#: error keys that may be written as a percentage of their value ("20%")
+_FRACTION_KEYS = {"star": ("distance_error", "distance_error_low", "distance_error_high")}
+
+
+def _fraction(where, val):
+    """A positive percentage written as ``"20%"`` (kept as a Quantity in percent), else InputError."""
+    text = val.strip()[:-1].strip()
+    try:
+        x = float(text)
+    except ValueError:
+        x = math.nan
+    if not (math.isfinite(x) and x > 0):
+        raise InputError(where, f"expected a positive error in pc or a percentage of the distance such as "
+                                f"'20%' (got {shown(val)})")
+    return x * u.percent
 
 
 def _default(key):
@@ -469,7 +492,8 @@ def _cross_checks(sections, problems):
             if star.get(k) is None:
                 problems.append(InputError(f"[star] {k}", "required when [campaign] or [trace] is present"))
     if "trace" in sections:
-        if star.get("parallax") is None and star.get("distance") is None:
+        timed = "campaign" in sections and sections["campaign"].get("toas") is not None
+        if star.get("parallax") is None and star.get("distance") is None and not timed:
             problems.append(InputError("[star] parallax", "give 'parallax' (with parallax_error) or 'distance' for tracing"))
         timed = "campaign" in sections and sections["campaign"].get("toas") is not None
         for k in ("pm_ra_cosdec", "pm_dec"):
@@ -478,8 +502,13 @@ def _cross_checks(sections, problems):
                                                           "unless [campaign] toas gives a timing fit"))
         if sections["trace"].get("associations") is None:
             problems.append(InputError("[trace] associations", "required: path of the association table"))
-    if star.get("parallax") is not None and star.get("parallax_error") is None and "trace" in sections:
-        problems.append(InputError("[star] parallax_error", "required with 'parallax' for tracing (use distance if it is exact)"))
+    ages = sections.get("ages")
+    shklovskii = (ages is not None and ages.get("shklovskii", True) and star.get("pm_ra_cosdec") is not None
+                  and star.get("spin_period_derivative") is not None)
+    if star.get("parallax") is not None and star.get("parallax_error") is None and ("trace" in sections or shklovskii):
+        why = "tracing" if "trace" in sections else "the Shklovskii correction of the ages"
+        problems.append(InputError("[star] parallax_error", f"required with 'parallax' for {why} (the distance "
+                                   "posterior needs it; use distance if it is exact)"))
     if "campaign" in sections:
         c = sections["campaign"]
         if c.get("dates") is None and c.get("toas") is None:
@@ -503,33 +532,50 @@ def _cross_checks(sections, problems):
 
 
 def _resolve_distance(sections, problems):
-    """Parallax and distance both given: an error unless ``[star] distance_from`` says which to use."""
+    """The distance keys together: errors as fractions or asymmetric, and ``distance_from``.
+
+    A parallax and a distance given together are combined (one posterior,
+    :mod:`kinage.kinematics.distance_posterior`); ``distance_from`` keeps only
+    one of them.  ``distance_error`` (and ``distance_error_low`` /
+    ``distance_error_high``) may be a percentage of the distance; they are
+    converted to pc here.
+    """
     star = sections.get("star")
     if star is None:
         return
-    both = star.given("parallax") and star.given("distance")
-    choice = star.get("distance_from")
-    if both and choice is None:
-        plx, dist = star.parallax.to_value(u.mas), star.distance.to_value(u.pc)
-        alone = f"; the parallax alone means {1000 / plx:.4g} pc" if plx > 0 else ""
-        problems.append(InputError("[star] distance",
-                                   f"given together with 'parallax' ({format_quantity(star.distance)} and "
-                                   f"{format_quantity(star.parallax)}{alone}); give one of them, or say which to "
-                                   f"use with distance_from = 'parallax' or 'distance'"))
+    vals = dict(star._values)
+    given = set(star._given)
+    low, high, sym = (star.given(k) for k in ("distance_error_low", "distance_error_high", "distance_error"))
+    if (low or high) and not star.given("distance"):
+        problems.append(InputError(f"[star] distance_error_{'low' if low else 'high'}", "given without 'distance'"))
         return
-    if choice is not None and not both:
+    if low != high:
+        problems.append(InputError(f"[star] distance_error_{'high' if low else 'low'}",
+                                   f"required with distance_error_{'low' if low else 'high'} (an asymmetric error "
+                                   "needs both sides), or give one symmetric distance_error"))
+        return
+    if low and sym:
+        problems.append(InputError("[star] distance_error", "given together with distance_error_low and "
+                                   "distance_error_high; give either one symmetric error or the two sides"))
+        return
+    for key in ("distance_error", "distance_error_low", "distance_error_high"):
+        v = vals.get(key)
+        if isinstance(v, u.Quantity) and v.unit == u.percent:
+            vals[key] = (v.to_value(u.dimensionless_unscaled) * star.distance).to(u.pc)
+    choice = star.get("distance_from")
+    if choice is not None:
         choice = choice.lower()
-        if not star.given(choice):
+        timed = "campaign" in sections and sections["campaign"].get("toas") is not None
+        if not star.given(choice) and not (choice == "parallax" and timed):
             other = "distance" if choice == "parallax" else "parallax"
             has = f"only '{other}' is given" if star.given(other) else "neither is given"
             problems.append(InputError("[star] distance_from",
                                        f"says to use '{choice}', but {has}; distance_from chooses between a "
                                        "parallax and a distance given together (remove it or give both)"))
-        return
-    if choice is not None and both:
-        drop = "distance" if choice.lower() == "parallax" else "parallax"
-        vals = dict(star._values)
-        vals[drop] = None
-        vals[f"{drop}_error"] = None
-        given = set(star._given) - {drop, f"{drop}_error"}
-        sections["star"] = Section("star", vals, given)
+            return
+        drop = "distance" if choice == "parallax" else "parallax"
+        for key in (drop, f"{drop}_error") + (("distance_error_low", "distance_error_high") if drop == "distance"
+                                               else ()):
+            vals[key] = None
+            given.discard(key)
+    sections["star"] = Section("star", vals, given)

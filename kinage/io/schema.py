@@ -78,9 +78,16 @@ _STAR = [
         doc="declination (ICRS): degrees or '+12:34:56'; dec_error in mas"),
     Key("epoch", "time", doc="reference epoch of position and proper motion (MJD TDB or ISO date); default: campaign middle or J2000"),
     Key("parallax", "quantity", "mas", error=True, doc="parallax (may be negative when measured; error must be positive)"),
-    Key("distance", "quantity", "pc", error=True, positive=True, doc="distance, when no parallax is given"),
+    Key("distance", "quantity", "pc", error=True, positive=True,
+        doc="distance estimate (e.g. from the dispersion measure), combined with any parallax into one distance "
+            "posterior; distance_error is its Gaussian error in pc or a fraction ('20%'); without it the distance "
+            "is taken as exact"),
+    Key("distance_error_low", "quantity", "pc", positive=True,
+        doc="asymmetric distance error below the estimate (pc or '20%'; with distance_error_high: a split normal)"),
+    Key("distance_error_high", "quantity", "pc", positive=True,
+        doc="asymmetric distance error above the estimate (pc or '30%'; with distance_error_low)"),
     Key("distance_from", "str", choices=("parallax", "distance"),
-        doc="which of 'parallax' and 'distance' to use when both are given (giving both without it is an error)"),
+        doc="use only the 'parallax' or only the 'distance' when both are given (default: both are combined)"),
     Key("pm_ra_cosdec", "quantity", "mas/yr", error=True, doc="proper motion in ra*cos(dec)"),
     Key("pm_dec", "quantity", "mas/yr", error=True, doc="proper motion in dec"),
     Key("pm_correlation", "float", default=0.0, lower=-1, upper=1, doc="correlation coefficient of the two proper-motion errors"),

@@ -119,6 +119,11 @@ class TraceResult(ResultDisplay):
         mask = self.data["masks"][name]
         return self.data["main"]["tau"][j][mask].astype(float) * 1e6 * u.yr
 
+    def distance_pc(self):
+        """Median and central 68% / 95% interval (pc) of the star's distance over all its draws."""
+        iv = interval(self.data["draws"].distance_pc) if "draws" in self.data else {}
+        return {k: iv.get(k) for k in ("median", "lo68", "hi68", "lo95", "hi95")}
+
     def plane_crossing_age_samples(self):
         """Plane-crossing ages (yr) of the star draws that crossed within the window."""
         x = np.asarray(self.plane_crossing_myr, float)
@@ -204,6 +209,8 @@ class TraceResult(ResultDisplay):
             "neighbourhood_share": field.get("neighbourhood_share"),
             "neighbourhood_scale_pc": field.get("neighbourhood_scale_pc"),
             "probability_threshold": field.get("probability_threshold"),
+            "distance_pc": self.distance_pc(),
+            "distance_source": self.settings.get("distance_source"),
             "plane_crossing_age_yr": interval(pc),
             "plane_crossing_fraction": float(pc.size / self.n_samples) if self.n_samples else None,
             "plane_crossing_caveats": self.plane_crossing_caveats(),
@@ -290,9 +297,7 @@ def _assumptions(cfg, draws):
     if draws.rv_source == "prior":
         out.append(f"Unknown radial velocity drawn from the {cfg['velocity_prior'].name} velocity distribution "
                    "conditional on the transverse peculiar speed")
-    if draws.distance_source == "parallax":
-        out.append(f"Distance from the parallax with the {cfg['distance_prior'].name} space-density prior "
-                   "(Bailer-Jones 2015, PASP 127, 994)")
-    else:
-        out.append("Distance from [star] distance with a Gaussian error truncated at zero")
+    if draws.posterior is not None:
+        out.append(draws.posterior.assumption())
     return out
+

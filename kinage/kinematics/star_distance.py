@@ -1,0 +1,101 @@
+"""The distance posterior of a scenario's star: which measurements, which prior.
+
+One function builds it for every stage (the trace, the ages stage's Shklovskii
+term, the preflight), so a run uses one distance throughout.
+"""
+
+import numpy as np
+
+from ..errors import InputError
+from .distance import distance_prior as make_distance_prior
+from .distance_posterior import distance_posterior
+
+__all__ = ["star_distance_posterior", "scenario_distance_posterior", "scenario_distance_prior"]
+
+
+def star_distance_posterior(solution, prior, *, distance_pc=None, distance_error_pc=None,
+                            distance_error_low_pc=None, distance_error_high_pc=None, distance_from=None):
+    """The star's :class:`DistancePosterior`: the solution's parallax and/or a distance estimate.
+
+    Parameters
+    ----------
+    solution : AstrometricSolution
+        Its parallax (mas; the [star] parallax, the timing fit's, or both
+        combined) is used when finite.
+    prior : DistancePrior
+    distance_pc, distance_error_pc : float, optional, pc
+        Distance estimate and its symmetric error.
+    distance_error_low_pc, distance_error_high_pc : float, optional, pc
+        Asymmetric error instead (split normal).
+    distance_from : {'parallax', 'distance'} or None
+        Use only one of the two when both are given (default: combine them).
+
+    Returns
+    -------
+    DistancePosterior
+
+    Raises
+    ------
+    InputError
+        Neither is usable, a parallax error that is not positive, or
+        ``distance_from`` naming a measurement that is absent.
+    """
+    w, var = float(solution.values[4]), float(solution.covariance[4, 4])
+    has_w = np.isfinite(w)
+    has_d = distance_pc is not None and np.isfinite(distance_pc)
+    choice = (distance_from or "").lower() or None
+    if choice == "parallax" and not has_w:
+        raise InputError("[star] distance_from", "says to use the parallax, but no parallax is measured "
+                         "([star] parallax or a timing fit)")
+    if choice == "distance" and not has_d:
+        raise InputError("[star] distance_from", "says to use the distance, but [star] distance is not given")
+    if choice == "parallax":
+        has_d = False
+    elif choice == "distance":
+        has_w = False
+    sw = float(np.sqrt(var)) if np.isfinite(var) and var > 0 else var
+    return distance_posterior(prior=prior, parallax_mas=w if has_w else None, parallax_error_mas=sw if has_w else None,
+                              distance_pc=distance_pc if has_d else None, distance_error_pc=distance_error_pc,
+                              distance_error_low_pc=distance_error_low_pc, distance_error_high_pc=distance_error_high_pc)
+
+
+
+def scenario_distance_prior(scenario):
+    """The :class:`DistancePrior` of ``[trace] distance_prior`` (and its scale), or the default without [trace]."""
+    from ..io.schema import SCHEMA
+
+    tr = scenario.trace
+    name = tr.get("distance_prior") if tr is not None else SCHEMA["trace"]["distance_prior"].default
+    scale = tr.value("distance_prior_scale", "pc") if tr is not None else None
+    return make_distance_prior(name, scale)
+
+
+def scenario_distance_posterior(scenario, solution, prior=None):
+    """The star's distance posterior from ``[star]`` (distance, its errors, distance_from) and ``solution``.
+
+    Parameters
+    ----------
+    scenario : Scenario
+    solution : AstrometricSolution
+        The astrometry the run uses (``[star]``, a timing fit, or both combined).
+    prior : DistancePrior, optional
+        Default: :func:`scenario_distance_prior`.
+
+    Returns
+    -------
+    DistancePosterior
+    """
+    star = scenario.star
+    prior = prior if prior is not None else scenario_distance_prior(scenario)
+    return star_distance_posterior(solution, prior, distance_pc=star.value("distance", "pc"),
+                                   distance_error_pc=_pc(star, "distance_error"),
+                                   distance_error_low_pc=_pc(star, "distance_error_low"),
+                                   distance_error_high_pc=_pc(star, "distance_error_high"),
+                                   distance_from=star.get("distance_from"))
+
+
+def _pc(star, key):
+    try:
+        return star.value(key, "pc")
+    except AttributeError:  # a section without the key
+        return None
