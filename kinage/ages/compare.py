@@ -460,7 +460,8 @@ def _assumptions(s, shk, kin_method):
         "Gaussian, independent input errors propagated by Monte Carlo",
     ]
     if shk.get("applied"):
-        a.append("Shklovskii term P v_t^2/(c d) subtracted draw by draw, with the star's joint distance and "
+        whose = "the trace's" if shk.get("distance_from_trace") else "the star's"
+        a.append(f"Shklovskii term P v_t^2/(c d) subtracted draw by draw, with {whose} joint distance and "
                  f"proper-motion draws (distance from the {shk.get('distance_source')}); Galactic acceleration terms "
                  "neglected (Shklovskii 1970)")
         if shk.get("distance_assumption"):

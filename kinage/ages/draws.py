@@ -183,7 +183,7 @@ def star_motion(scenario, n, rng, *, star_draws=None, solution=None):
         return {"distance_pc": np.asarray(star_draws.distance_pc, float),
                 "pm_ra_cosdec": np.asarray(star_draws.pm_ra_cosdec, float),
                 "pm_dec": np.asarray(star_draws.pm_dec, float),
-                "posterior": star_draws.posterior, "source": star_draws.distance_source}
+                "posterior": star_draws.posterior, "source": star_draws.distance_source, "from_trace": True}
     star = scenario.star
     if solution is None:
         if star.get("ra") is None or star.get("dec") is None:
@@ -222,9 +222,11 @@ def _shklovskii(settings, p_d, n, rng, motion):
     out.update(applied=True, pdot_shk_nominal=float(np.median(shk_d)), draws=shk_d, distance_kpc=d_med,
                distance_source=motion["source"], proper_motion_masyr=float(np.median(mu_all)),
                transverse_velocity_kms=float(np.median(transverse_velocity(mu_all, d_all))),
-               distance_interval_pc=interval(motion["distance_pc"]), n_distance_draws=int(m))
+               distance_interval_pc=interval(motion["distance_pc"]), n_distance_draws=int(m),
+               distance_from_trace=bool(motion.get("from_trace")),
+               pdot_shk_interval={k: v for k, v in interval(shk_d).items() if k != "n"})
     posterior = motion.get("posterior")
-    if posterior is not None:
+    if posterior is not None and not motion.get("from_trace"):
         out["distance_words"] = posterior.words()
         out["distance_assumption"] = posterior.assumption()
         out["distance_warnings"] = list(posterior.warnings)

@@ -315,7 +315,7 @@ def _parse_section(table, raw, base_dir, problems, allow_missing=frozenset()):
         elif name.endswith("_error") and name not in schema:
             key = schema[name[: -len("_error")]]
             err_key = Key(name, "quantity" if key.kind in ("quantity", "angle") else "float",
-                          "mas" if key.kind == "angle" else key.unit, positive=True)
+                          "mas" if key.kind == "angle" else key.unit, positive=True, example=key.example)
             parsed = _parse_value(table, err_key, val, base_dir, problems)
         else:
             parsed = _parse_value(table, schema[name], val, base_dir, problems,
@@ -376,6 +376,9 @@ def _parse_value(table, key, val, base_dir, problems, must_exist=True):
 def _convert(key, val, base_dir, where, must_exist=True):
     kind = key.kind
     if kind == "quantity":
+        if key.example and _bare_number(val):
+            raise InputError(where, f"a bare number ({shown(val)}) is ambiguous here: give a unit, e.g. "
+                                    f"'{key.example}'")
         return parse_quantity(val, key.unit, where)
     if kind == "angle":
         if isinstance(val, str) and len(val) > 100:
@@ -470,6 +473,18 @@ def _convert(key, val, base_dir, where, must_exist=True):
             return _path(val, base_dir, where)
         raise InputError(where, f"expected 'sinusoid', a list of harmonic amplitudes or a template file (got {shown(val)})")
     raise AssertionError(f"unknown key kind {kind}")
+
+
+def _bare_number(val):
+    """A number without a unit (plain or as text), other than zero (which needs none)."""
+    if isinstance(val, bool):
+        return False
+    if isinstance(val, str):
+        try:
+            val = float(val.strip())
+        except ValueError:
+            return False
+    return isinstance(val, (int, float)) and val != 0
 
 
 def _path(val, base_dir, where, must_exist=True):

@@ -20,7 +20,8 @@ import math
 from .._rounding import pdg_decimals
 
 __all__ = ["stage_rows", "fmt", "fmt_interval", "value_error", "fmt_age", "fmt_age_interval", "fmt_duration_s",
-           "round_to_error", "fmt_power", "expected_parallax_mas", "astrometry_source_words", "LABELS"]
+           "round_to_error", "fmt_power", "expected_parallax_mas", "astrometry_source_words", "LABELS",
+           "distance_text", "shklovskii_text"]
 
 #: words for JSON keys that may reach a table
 LABELS = {
@@ -338,6 +339,9 @@ def trace_rows(d):
     assocs = d.get("associations") if isinstance(d.get("associations"), list) else []
     rows.append(("favoured birth association", d.get("favoured") or "none"))
     rows.append(("draws of the star", str(d.get("n_samples"))))
+    if isinstance(d.get("distance_pc"), dict) and d["distance_pc"].get("median") is not None:
+        rows.append(("distance (every stage uses it)", distance_text(d["distance_pc"], d.get("distance_source"),
+                                                                    (d.get("settings") or {}).get("astrometry_source"))))
     rows += plane_crossing_rows(d)
     if d.get("field_probability") is not None:
         rows.append(("probability of no listed association (field, including their surroundings)",
@@ -382,9 +386,27 @@ def _trace_settings(s):
         parts.append(f"potential {s['potential']}")
     if s.get("astrometry_source"):
         parts.append(f"astrometry from the {astrometry_source_words(s['astrometry_source'])}")
-    if s.get("distance_source"):
-        parts.append(f"distance from the {s['distance_source']}")
     return ", ".join(parts) or "n/a"
+
+
+def distance_text(iv, source, astrometry_source=None):
+    """'800 pc (68%: 730–890 pc) from the timing parallax combined with the [star] distance estimate'."""
+    plx = "the parallax"
+    if astrometry_source and "timing" in str(astrometry_source):
+        plx = "the timing parallax" if "scenario" not in str(astrometry_source) else "the parallax (timing and [star])"
+    words = {"parallax": plx, "distance": "the [star] distance",
+             "parallax+distance": f"{plx} combined with the [star] distance estimate"}.get(source, source or "n/a")
+    return f"{fmt_interval(iv, 'pc')} from {words}"
+
+
+def shklovskii_text(shk):
+    """The Shklovskii row: the term, and the distance only when it is not the trace's (then it is stated there)."""
+    iv = shk.get("pdot_shk_interval") or {}
+    term = fmt_interval(iv) + " s/s" if iv.get("median") is not None else "n/a"
+    if shk.get("distance_from_trace"):
+        return f"{term}, with the trace's distance and proper-motion draws"
+    dist = shk.get("distance_interval_pc") or {}
+    return f"{term}, at the distance {distance_text(dist, shk.get('distance_source'))}"
 
 
 def _pct(x, err=None):
@@ -448,6 +470,11 @@ def ages_rows(d, raw_star=None):
             err = raw_star.get(f"{key}_error")
             rows.append((f"input: {key.replace('_', ' ')}",
                          f"{raw_star[key]}" + (f" ± {err}" if err is not None else "")))
+    shk = d.get("shklovskii") or {}
+    if shk.get("applied"):
+        rows.append(("Shklovskii term P v_t^2/(c d) subtracted", shklovskii_text(shk)))
+    elif shk.get("note"):
+        rows.append(("Shklovskii term", str(shk["note"])))
     rows.append(("kinematic age", fmt_age_interval(d.get("kinematic_age_yr"))
                  + (f" ({d['kinematic_age_source']})" if d.get("kinematic_age_source") else "")))
     u = d.get("uncertainties") or {}
