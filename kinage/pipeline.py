@@ -56,7 +56,7 @@ def plan_stages(scenario):
 
 
 def preflight(scenario, samples=None):
-    """Read and validate every table the planned stages need, before any stage runs.
+    """Read and validate every table and the star's numbers the planned stages need, before any stage runs.
 
     Also checks the resources the run would need against the limits of
     :mod:`kinage.io.limits` (memory for draws x time steps, work), with
@@ -95,12 +95,18 @@ def preflight(scenario, samples=None):
         resolve_reference(scenario.campaign, loaded["toas"].meta, str(scenario.campaign.toas),
                           base_dir=scenario.path.parent if scenario.path is not None else None,
                           table_dir=Path(scenario.campaign.toas).parent)
-        from .timing.fit import _check_errors_against_period
+        from .timing.fit import check_errors_against_period
         from .timing.inputs import spin_from_star
 
         # the fit's own checks of the star against the table: a spin period, TOA errors well below it
         freq, _, _ = spin_from_star(scenario.star, required=True, where="fitting TOAs")
-        _check_errors_against_period(loaded["toas"], 1.0 / freq, str(scenario.campaign.toas))
+        check_errors_against_period(loaded["toas"], 1.0 / freq, str(scenario.campaign.toas))
+    if "trace" in stages or "ages" in stages:
+        from .kinematics import check_star_distance
+
+        # the star's distance inputs (parallax of any sign, distance estimate, their errors, the prior's range)
+        # through the same posterior the trace and the Shklovskii term use: an input problem, found here
+        check_star_distance(scenario, trace="trace" in stages, fitted="fit" in stages)
     if "trace" in stages:
         from .associations import read_associations
 

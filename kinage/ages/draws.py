@@ -186,8 +186,8 @@ def star_motion(scenario, n, rng, *, star_draws=None, solution=None):
                 "posterior": star_draws.posterior, "source": star_draws.distance_source, "from_trace": True}
     star = scenario.star
     if solution is None:
-        if star.get("ra") is None or star.get("dec") is None:
-            return {"note": "not applied: no position (ra, dec) given"}
+        if star.get("ra") is None or star.get("dec") is None:  # the position does not enter the term
+            star = star.replace(ra=0.0 * u.deg, dec=0.0 * u.deg)
         solution = AstrometricSolution.from_star(star)
     if not (np.isfinite(solution.values[2]) and np.isfinite(solution.values[3])):
         return {"note": "not applied: no proper motion given"}

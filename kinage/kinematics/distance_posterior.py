@@ -266,12 +266,20 @@ def distance_posterior(*, prior, parallax_mas=None, parallax_error_mas=None, dis
         raise InputError(f"{where} parallax", "a distance needs a parallax (with parallax_error) or a distance "
                                                "(with distance_error); neither is given")
     source = "parallax+distance" if (w is not None and d is not None) else ("parallax" if w is not None else "distance")
+    notes = _tension(w, sw, d, lo, hi, where) if source == "parallax+distance" else []
     common = dict(parallax_mas=w, parallax_error_mas=None if w is None else float(sw), distance_pc=d,
                   distance_error_low_pc=lo, distance_error_high_pc=hi, prior=prior)
     if d is not None and lo is None:
         text = (f"{where} distance ({d:.6g} pc) is given without distance_error: the distance is taken as exact"
                 + ("; the parallax does not change it" if w is not None else ""))
-        return DistancePosterior("distance", np.empty(0), np.empty(0), np.empty(0), d, warnings=[text], **common)
+        return DistancePosterior("distance", np.empty(0), np.empty(0), np.empty(0), d, warnings=[text] + notes,
+                                 **common)
+
+    r_max = 1000.0 * prior.r_max_kpc if prior is not None else np.inf
+    if d is not None and d - 3.0 * lo > r_max:
+        raise InputError(f"{where} distance", f"{d:g} pc lies beyond the largest distance of the "
+                                              f"'{prior.name}' prior ({r_max:g} pc); choose another "
+                                              "[trace] distance_prior")
 
     def f(r):
         return _log_density(r, prior, w, None if w is None else float(sw), d, lo, hi)
@@ -279,13 +287,27 @@ def distance_posterior(*, prior, parallax_mas=None, parallax_error_mas=None, dis
     r = _start_grid(prior, w, None if w is None else float(sw), d, lo, hi)
     lp = f(r)
     if not np.isfinite(lp).any():
-        r_max = 1000.0 * prior.r_max_kpc
-        raise InputError(f"{where} distance", f"{d:g} pc lies beyond the largest distance of the "
-                                              f"'{prior.name}' prior ({r_max:g} pc); choose another "
-                                              "[trace] distance_prior")
+        raise InputError(f"{where} parallax", "the measurements leave no distance the prior allows")
     r, lp = _refine(r, f)
     mass, p = _trapezoid_mass(r, lp)
     total = mass.sum()
     pdf = p / total
     cdf = np.concatenate([[0.0], np.cumsum(mass) / total])
-    return DistancePosterior(source, r, pdf, cdf, None, **common)
+    return DistancePosterior(source, r, pdf, cdf, None, warnings=notes, **common)
+
+
+#: a parallax and a distance estimate further apart than this many combined standard deviations get a warning
+TENSION_SIGMA = 3.0
+
+
+def _tension(w, sw, d, lo, hi, where):
+    """A warning when the parallax and the distance estimate disagree (parallax 1000/d against w)."""
+    w_d = 1000.0 / d
+    err_d = (hi if w_d > w else lo) or 0.0  # the side of the distance error that points towards the parallax
+    sig = np.hypot(sw, 1000.0 * err_d / d**2)
+    z = abs(w - w_d) / sig
+    if not z > TENSION_SIGMA:
+        return []
+    return [f"{where} parallax ({w:.3g} +/- {sw:.2g} mas) and distance ({d:.4g} pc, i.e. a parallax of {w_d:.3g} "
+            f"mas) disagree by {z:.1f} sigma; the combined distance lies where both are least improbable: check "
+            "them, or use one with distance_from"]

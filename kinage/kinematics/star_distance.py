@@ -10,7 +10,7 @@ from ..errors import InputError
 from .distance import distance_prior as make_distance_prior
 from .distance_posterior import distance_posterior
 
-__all__ = ["star_distance_posterior", "scenario_distance_posterior", "scenario_distance_prior"]
+__all__ = ["star_distance_posterior", "scenario_distance_posterior", "scenario_distance_prior", "check_star_distance"]
 
 
 def star_distance_posterior(solution, prior, *, distance_pc=None, distance_error_pc=None,
@@ -99,3 +99,48 @@ def _pc(star, key):
         return star.value(key, "pc")
     except AttributeError:  # a section without the key
         return None
+
+
+def check_star_distance(scenario, *, trace=True, fitted=False):
+    """Check the star's distance inputs before any stage runs (InputError naming the key).
+
+    Builds the distance posterior from the ``[star]`` values alone, as the
+    trace and the ages stage will (a timing fit may add a parallax later, so
+    with ``fitted`` a ``[star]`` table without parallax and distance passes).
+    With ``trace``, a proper motion is required unless a fit will measure it.
+
+    Parameters
+    ----------
+    scenario : Scenario
+    trace : bool
+        Whether a trace is planned.
+    fitted : bool
+        Whether a timing fit runs first.
+
+    Returns
+    -------
+    DistancePosterior or None
+        None when the ``[star]`` values alone give no distance.
+    """
+    from ..astrometry import AstrometricSolution
+    from .star_draws import check_proper_motion
+
+    star = scenario.star
+    if star.get("ra") is None or star.get("dec") is None:
+        return None
+    ages = scenario.ages
+    shklovskii = (ages is not None and ages.get("shklovskii", True) and star.get("pm_ra_cosdec") is not None
+                  and star.get("spin_period_derivative") is not None)
+    if not (trace or shklovskii):
+        return None  # no stage uses the distance
+    solution = AstrometricSolution.from_star(star)
+    if trace and not fitted:
+        check_proper_motion(solution)
+    if not np.isfinite(solution.values[4]) and star.get("distance") is None:
+        if trace and not fitted:
+            raise InputError("[star] parallax", "tracing needs a parallax (with parallax_error) or a distance "
+                                                "(not given)")
+        return None
+    if fitted and (star.get("distance_from") or "").lower() == "parallax" and not np.isfinite(solution.values[4]):
+        return None  # the parallax comes from the fit
+    return scenario_distance_posterior(scenario, solution)

@@ -53,7 +53,7 @@ from .priors import prior_solution
 from .reference import TOAReference, resolve_reference, timing_assumptions
 from .toas import check_fit_table, frequency_column, read_toas, site_times, validate_toas
 
-__all__ = ["fit_toas", "FitResult", "STEP_TOLERANCE"]
+__all__ = ["fit_toas", "FitResult", "STEP_TOLERANCE", "check_errors_against_period"]
 
 #: converged when every step is below this fraction of its parameter's error
 STEP_TOLERANCE = 1e-3
@@ -236,7 +236,7 @@ def fit_toas(toas, scenario, *, max_iter=30, method="woodbury"):
     if ra is None or dec is None:
         raise InputError("[star] ra", "position (ra, dec) is required to fit TOAs")
     freq, freq_dot, _ = inputs.spin_from_star(star, required=True, where="fitting TOAs")
-    _check_errors_against_period(tab, 1.0 / freq, where)
+    check_errors_against_period(tab, 1.0 / freq, where)
     f_mhz = frequency_column(tab, where)
     multi = f_mhz is not None and np.unique(f_mhz).size > 1
     dm0 = _dispersion_measure(star)
@@ -306,7 +306,7 @@ def _chi2_noise(n):
     return max(1e-12 * n, 1e-10)
 
 
-def _check_errors_against_period(tab, period, where):
+def check_errors_against_period(tab, period, where):
     """TOA errors of half the spin period or more leave no pulse phase to fit: most often a unit mistake."""
     err = u.Quantity(tab["error"]).to_value(u.s)
     bad = np.flatnonzero(err >= 0.5 * period)
