@@ -203,6 +203,9 @@ def report_sections(run):
             result = run.stages[name]
             data = to_jsonable(result.to_dict())
             blocks = [{"kind": "text", "text": result.summary()}]
+            if name == "trace" and isinstance(data.get("distance_pc"), dict) and data["distance_pc"].get("median"):
+                # the star's one distance, stated once: the ages stage's Shklovskii term uses the same draws
+                blocks.append({"kind": "text", "text": _distance_sentence(data, "ages" in run.stages)})
             used = False
             for f in _files(run, name, (".png",)):
                 header, rows = _figure_rows(name, Path(f).stem, data, raw, plx)
@@ -229,6 +232,14 @@ def report_sections(run):
             parts.append((name, blocks))
         out.append((question, parts))
     return out
+
+
+def _distance_sentence(data, ages):
+    """'Distance: 800 pc (68%: 730–890 pc) from ... .' for the trace section."""
+    text = nb.distance_text(data["distance_pc"], data.get("distance_source"),
+                            (data.get("settings") or {}).get("astrometry_source"))
+    tail = "; the ages stage's Shklovskii correction uses the same draws" if ages else ""
+    return f"Distance of the star, over all draws: {text}{tail}."
 
 
 def _astrometry_rows(run):

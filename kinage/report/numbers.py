@@ -340,7 +340,7 @@ def trace_rows(d):
     rows.append(("favoured birth association", d.get("favoured") or "none"))
     rows.append(("draws of the star", str(d.get("n_samples"))))
     if isinstance(d.get("distance_pc"), dict) and d["distance_pc"].get("median") is not None:
-        rows.append(("distance (every stage uses it)", distance_text(d["distance_pc"], d.get("distance_source"),
+        rows.append(("distance of the star, over all draws", distance_text(d["distance_pc"], d.get("distance_source"),
                                                                     (d.get("settings") or {}).get("astrometry_source"))))
     rows += plane_crossing_rows(d)
     if d.get("field_probability") is not None:
@@ -396,13 +396,20 @@ def distance_text(iv, source, astrometry_source=None):
         plx = "the timing parallax" if "scenario" not in str(astrometry_source) else "the parallax (timing and [star])"
     words = {"parallax": plx, "distance": "the [star] distance",
              "parallax+distance": f"{plx} combined with the [star] distance estimate"}.get(source, source or "n/a")
+    if (iv.get("median") or 0) >= 2000.0:  # kpc, the unit people use for distant stars
+        iv = {k: (v / 1000.0 if isinstance(v, (int, float)) and k != "n" else v) for k, v in iv.items()}
+        return f"{fmt_interval(iv, 'kpc')} from {words}"
     return f"{fmt_interval(iv, 'pc')} from {words}"
 
 
 def shklovskii_text(shk):
     """The Shklovskii row: the term, and the distance only when it is not the trace's (then it is stated there)."""
     iv = shk.get("pdot_shk_interval") or {}
-    term = fmt_interval(iv) + " s/s" if iv.get("median") is not None else "n/a"
+    term = "n/a"
+    if iv.get("median") is not None:
+        term = f"{fmt_power(iv['median'])} s/s"
+        if iv.get("lo68") is not None and iv.get("hi68") is not None:
+            term += f" (68%: {fmt_power(iv['lo68'])} to {fmt_power(iv['hi68'])})"
     if shk.get("distance_from_trace"):
         return f"{term}, with the trace's distance and proper-motion draws"
     dist = shk.get("distance_interval_pc") or {}
