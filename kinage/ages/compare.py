@@ -198,12 +198,9 @@ def compare_ages(scenario, *, kinematic_age_samples=None, kinematic_age_source=N
         Heating H(t_yr) in erg/s for the cooling curves (e.g.
         :func:`kinage.ages.cooling.field_decay_heating`).
     star_draws : StarDraws, optional
-        The trace's draws of the star: the Shklovskii term then uses exactly
-        the trace's distance posterior and proper motions.
+        The trace's draws: the Shklovskii term uses its distances and proper motions.
     solution : AstrometricSolution, optional
-        Without ``star_draws``: the astrometry to draw from (e.g. a timing fit
-        combined with ``[star]``); default the ``[star]`` values.  The
-        distance posterior is the trace's (same function, same inputs).
+        Else the astrometry drawn from (default ``[star]``), through the trace's distance posterior.
 
     Returns
     -------
@@ -254,11 +251,10 @@ def compare_ages(scenario, *, kinematic_age_samples=None, kinematic_age_source=N
               "moment_of_inertia_g_cm2": s.moment_of_inertia}
     unc, shk, decay = {}, {"applied": False}, {}
     have_spin = star.get("spin_period") is not None and star.get("spin_period_derivative") is not None
-    motion = None
-    if have_spin and s.shklovskii:
-        motion = star_motion(scenario, n, rng, star_draws=star_draws, solution=solution)
-        if star_draws is None and motion.get("posterior") is not None:
-            warnings.extend(motion["posterior"].warnings)
+    motion = (star_motion(scenario, n, rng, star_draws=star_draws, solution=solution)
+              if have_spin and s.shklovskii else None)
+    if star_draws is None and (motion or {}).get("posterior") is not None:
+        warnings.extend(motion["posterior"].warnings)
     spin = draw_spin(star, s, n, rng, motion) if have_spin else None
     state = pdot_state(spin) if spin is not None else None
     spinning_up = bool(spin is not None and not spin.pdot > 0)

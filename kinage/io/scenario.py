@@ -30,6 +30,7 @@ from .quantities import format_quantity, parse_quantity, parse_time, shown
 from .checks import MAX_VISITS, check_bounds as _check_bounds, physical_checks as _physical_checks
 from .checks import reference_checks as _reference_checks
 from .checks import short as _short, suggest as _suggest
+from .distance_keys import FRACTION_KEYS as _FRACTION_KEYS, fraction as _fraction, resolve_distance as _resolve_distance
 from .schema import SCHEMA, TOP_LEVEL_KEYS, Key
 
 
@@ -335,23 +336,6 @@ def _parse_section(table, raw, base_dir, problems, allow_missing=frozenset()):
     return Section(table, values, given)
 
 
-#: error keys that may be written as a percentage of their value ("20%")
-_FRACTION_KEYS = {"star": ("distance_error", "distance_error_low", "distance_error_high")}
-
-
-def _fraction(where, val):
-    """A positive percentage written as ``"20%"`` (kept as a Quantity in percent), else InputError."""
-    text = val.strip()[:-1].strip()
-    try:
-        x = float(text)
-    except ValueError:
-        x = math.nan
-    if not (math.isfinite(x) and x > 0):
-        raise InputError(where, f"expected a positive error in pc or a percentage of the distance such as "
-                                f"'20%' (got {shown(val)})")
-    return x * u.percent
-
-
 def _default(key):
     if key.default is None:
         return None
@@ -544,53 +528,3 @@ def _cross_checks(sections, problems):
             if c.baseline.to_value(u.yr) < interval:
                 problems.append(InputError("[campaign] baseline",
                                            f"shorter than one visit interval ({format_quantity(c.baseline)} < {interval:.3g} yr)"))
-
-
-def _resolve_distance(sections, problems):
-    """The distance keys together: errors as fractions or asymmetric, and ``distance_from``.
-
-    A parallax and a distance given together are combined (one posterior,
-    :mod:`kinage.kinematics.distance_posterior`); ``distance_from`` keeps only
-    one of them.  ``distance_error`` (and ``distance_error_low`` /
-    ``distance_error_high``) may be a percentage of the distance; they are
-    converted to pc here.
-    """
-    star = sections.get("star")
-    if star is None:
-        return
-    vals = dict(star._values)
-    given = set(star._given)
-    low, high, sym = (star.given(k) for k in ("distance_error_low", "distance_error_high", "distance_error"))
-    if (low or high) and not star.given("distance"):
-        problems.append(InputError(f"[star] distance_error_{'low' if low else 'high'}", "given without 'distance'"))
-        return
-    if low != high:
-        problems.append(InputError(f"[star] distance_error_{'high' if low else 'low'}",
-                                   f"required with distance_error_{'low' if low else 'high'} (an asymmetric error "
-                                   "needs both sides), or give one symmetric distance_error"))
-        return
-    if low and sym:
-        problems.append(InputError("[star] distance_error", "given together with distance_error_low and "
-                                   "distance_error_high; give either one symmetric error or the two sides"))
-        return
-    for key in ("distance_error", "distance_error_low", "distance_error_high"):
-        v = vals.get(key)
-        if isinstance(v, u.Quantity) and v.unit == u.percent:
-            vals[key] = (v.to_value(u.dimensionless_unscaled) * star.distance).to(u.pc)
-    choice = star.get("distance_from")
-    if choice is not None:
-        choice = choice.lower()
-        timed = "campaign" in sections and sections["campaign"].get("toas") is not None
-        if not star.given(choice) and not (choice == "parallax" and timed):
-            other = "distance" if choice == "parallax" else "parallax"
-            has = f"only '{other}' is given" if star.given(other) else "neither is given"
-            problems.append(InputError("[star] distance_from",
-                                       f"says to use '{choice}', but {has}; distance_from chooses between a "
-                                       "parallax and a distance given together (remove it or give both)"))
-            return
-        drop = "distance" if choice == "parallax" else "parallax"
-        for key in (drop, f"{drop}_error") + (("distance_error_low", "distance_error_high") if drop == "distance"
-                                               else ()):
-            vals[key] = None
-            given.discard(key)
-    sections["star"] = Section("star", vals, given)
