@@ -315,6 +315,8 @@ def range_text(key):
         parts.append("one of " + ", ".join(repr(c) for c in key.choices))
     if key.max_length:
         parts.append(f"at most {key.max_length} {'characters' if key.kind == 'str' else 'items'}")
+    if key.example:
+        parts.append(f"a unit is required, e.g. '{key.example}'")
     return "; ".join(parts)
 
 

@@ -124,6 +124,17 @@ class TraceResult(ResultDisplay):
         iv = interval(self.data["draws"].distance_pc) if "draws" in self.data else {}
         return {k: iv.get(k) for k in ("median", "lo68", "hi68", "lo95", "hi95")}
 
+    def transverse_velocity_kms(self):
+        """Heliocentric transverse speed 4.74047 mu d (km/s; mu in mas/yr, d in kpc) over the same draws."""
+        if "draws" not in self.data:
+            return {k: None for k in ("median", "lo68", "hi68", "lo95", "hi95")}
+        dr = self.data["draws"]
+        from .frames import K_MASYR_KPC
+
+        vt = K_MASYR_KPC * np.hypot(dr.pm_ra_cosdec, dr.pm_dec) * dr.distance_pc / 1000.0
+        iv = interval(vt)
+        return {k: iv.get(k) for k in ("median", "lo68", "hi68", "lo95", "hi95")}
+
     def plane_crossing_age_samples(self):
         """Plane-crossing ages (yr) of the star draws that crossed within the window."""
         x = np.asarray(self.plane_crossing_myr, float)
@@ -211,6 +222,7 @@ class TraceResult(ResultDisplay):
             "probability_threshold": field.get("probability_threshold"),
             "distance_pc": self.distance_pc(),
             "distance_source": self.settings.get("distance_source"),
+            "transverse_velocity_kms": self.transverse_velocity_kms(),
             "plane_crossing_age_yr": interval(pc),
             "plane_crossing_fraction": float(pc.size / self.n_samples) if self.n_samples else None,
             "plane_crossing_caveats": self.plane_crossing_caveats(),

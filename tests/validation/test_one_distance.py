@@ -36,6 +36,8 @@ def test_run_uses_one_distance_in_trace_and_ages(tmp_path, capsys, star):
     assert shk["distance_source"] == tr["distance_source"] == ("parallax+distance" if "distance" in star
                                                                 else "parallax")
     assert shk["distance_from_trace"] is True
+    # the transverse speed mu d over the same draws (4.74047 km/s per mas/yr at 1 kpc; AU / Julian year)
+    assert shk["transverse_velocity_kms"] == pytest.approx(tr["transverse_velocity_kms"]["median"], rel=1e-6)
     # the report names the distance once (in the trace section), with its source
     md = (out / "report.md").read_text()
     assert md.count("Distance of the star, over all draws") == 1
