@@ -112,25 +112,29 @@ class DistancePosterior:
                            0.9772498680518208])
         return dict(zip(("median", "lo68", "hi68", "lo95", "hi95"), (float(x) for x in q)))
 
-    def words(self):
-        """Where the distance comes from, in words ('the parallax combined with the distance estimate')."""
+    def words(self, parallax_origin=None):
+        """Where the distance comes from, in words ('the parallax ... combined with the distance estimate ...').
+
+        ``parallax_origin`` (e.g. 'timing fit') is named after the parallax.
+        """
         parts = []
         if self.uses_parallax:
-            parts.append(f"the parallax {_pm(self.parallax_mas, self.parallax_error_mas, 'mas')}")
+            origin = f" ({parallax_origin})" if parallax_origin else ""
+            parts.append(f"the parallax {_pm(self.parallax_mas, self.parallax_error_mas, 'mas')}{origin}")
         if self.distance_pc is not None and "distance" in self.source:
             if self.exact_pc is not None:
                 parts.append(f"the distance {self.distance_pc:.4g} pc (taken as exact: no distance_error)")
             elif self.distance_error_low_pc == self.distance_error_high_pc:
                 parts.append(f"the distance estimate {_pm(self.distance_pc, self.distance_error_low_pc, 'pc')}")
             else:
-                parts.append(f"the distance estimate {self.distance_pc:.4g} +{self.distance_error_high_pc:.2g} "
-                             f"-{self.distance_error_low_pc:.2g} pc")
+                parts.append(f"the distance estimate {self.distance_pc:.4g} +{_sig2(self.distance_error_high_pc)} "
+                             f"-{_sig2(self.distance_error_low_pc)} pc")
         text = " combined with ".join(parts)
         if self.exact_pc is None and self.prior is not None:
             text += f", with the {self.prior.name} space-density prior"
         return text
 
-    def assumption(self):
+    def assumption(self, parallax_origin=None):
         """One sentence for a result's assumptions: the measurements, the likelihoods and the prior."""
         if self.exact_pc is not None:
             return (f"Distance {self.exact_pc:.4g} pc from [star] distance, taken as exact (no distance_error "
@@ -142,12 +146,17 @@ class DistancePosterior:
             terms.append("distance-estimate likelihood (Gaussian in d"
                          + (", split normal" if self.distance_error_low_pc != self.distance_error_high_pc else "")
                          + ")")
-        return (f"One distance posterior for every stage, from {self.words()}: " + " x ".join(terms)
+        return (f"One distance posterior for every stage, from {self.words(parallax_origin)}: " + " x ".join(terms)
                 + " (Bailer-Jones 2015, PASP 127, 994), drawn by inverting its cumulative distribution")
 
 
+def _sig2(x):
+    """Two significant figures without an exponent for ordinary sizes ('180', '0.14')."""
+    return f"{float(f'{x:.2g}'):g}"
+
+
 def _pm(x, e, unit):
-    return f"{x:.3g} +/- {e:.2g} {unit}"
+    return f"{x:.3g} +/- {_sig2(e)} {unit}"
 
 
 def _log_density(r, prior, w, sw, d, lo, hi):

@@ -58,6 +58,7 @@ class TraceResult(ResultDisplay):
             "velocity_prior": cfg["velocity_prior"].name,
             "distance_prior": cfg["distance_prior"].name,
             "distance_source": draws.distance_source,
+            "distance_words": None if draws.posterior is None else draws.posterior.words(cfg.get("parallax_origin")),
             "radial_velocity_source": draws.rv_source,
             "max_age_yr": cfg["max_age"] * 1e6,
             "time_steps": cfg["time_steps"],
@@ -310,6 +311,6 @@ def _assumptions(cfg, draws):
         out.append(f"Unknown radial velocity drawn from the {cfg['velocity_prior'].name} velocity distribution "
                    "conditional on the transverse peculiar speed")
     if draws.posterior is not None:
-        out.append(draws.posterior.assumption())
+        out.append(draws.posterior.assumption(cfg.get("parallax_origin")))
     return out
 

@@ -128,6 +128,7 @@ def trace(scenario, *, solution=None, rng=None, samples=None, potential=None, pr
         solution = AstrometricSolution.from_star(scenario.star)
     star = scenario.star
     posterior = scenario_distance_posterior(scenario, solution, prior=cfg["distance_prior"])
+    cfg["parallax_origin"] = _parallax_origin(scenario, solution)
     cfg["warnings"] = cfg["warnings"] + [w[0].upper() + w[1:] + "." for w in posterior.warnings]
     draws = draw_star(solution, cfg["n"], star_rng, frame=frame, velocity_prior=cfg["velocity_prior"],
                       posterior=posterior, radial_velocity=star.value("radial_velocity", "km/s"),
@@ -180,6 +181,13 @@ def trace(scenario, *, solution=None, rng=None, samples=None, potential=None, pr
         failed=failed, main=main, assoc=assoc, times=times, cols=cols, n_control=n_control, solution=solution)
     result.data["control"] = None if ctrl is None else {"dmin": ctrl["dmin"], "tau": ctrl["tau"]}  # for figures
     return result
+
+
+def _parallax_origin(scenario, solution):
+    """'timing fit', '[star]' or 'timing fit and [star]': where the solution's parallax comes from."""
+    timing = "timing" in str(solution.source)
+    typed = scenario.star.get("parallax") is not None
+    return "timing fit and [star]" if timing and typed else ("timing fit" if timing else "[star]")
 
 
 def _summaries(cfg, adraws, afailed, draws, main, ctrl, cores=1):

@@ -236,8 +236,8 @@ def report_sections(run):
 
 def _distance_sentence(data, ages):
     """'Distance: 800 pc (68%: 730–890 pc) from ... .' for the trace section."""
-    text = nb.distance_text(data["distance_pc"], data.get("distance_source"),
-                            (data.get("settings") or {}).get("astrometry_source"))
+    words = (data.get("settings") or {}).get("distance_words")
+    text = nb.distance_text(data["distance_pc"], data.get("distance_source"), words=words)
     vt = data.get("transverse_velocity_kms") or {}
     speed = f"; transverse speed {nb.fmt_interval(vt, 'km/s')} (heliocentric)" if vt.get("median") else ""
     tail = "; the ages stage's Shklovskii correction uses the same draws" if ages else ""

@@ -340,8 +340,9 @@ def trace_rows(d):
     rows.append(("favoured birth association", d.get("favoured") or "none"))
     rows.append(("draws of the star", str(d.get("n_samples"))))
     if isinstance(d.get("distance_pc"), dict) and d["distance_pc"].get("median") is not None:
-        rows.append(("distance of the star, over all draws", distance_text(d["distance_pc"], d.get("distance_source"),
-                                                                    (d.get("settings") or {}).get("astrometry_source"))))
+        rows.append(("distance of the star, over all draws",
+                     distance_text(d["distance_pc"], d.get("distance_source"),
+                                   words=(d.get("settings") or {}).get("distance_words"))))
     rows += plane_crossing_rows(d)
     if d.get("field_probability") is not None:
         rows.append(("probability of no listed association (field, including their surroundings)",
@@ -389,13 +390,15 @@ def _trace_settings(s):
     return ", ".join(parts) or "n/a"
 
 
-def distance_text(iv, source, astrometry_source=None):
-    """'800 pc (68%: 730–890 pc) from the timing parallax combined with the [star] distance estimate'."""
-    plx = "the parallax"
-    if astrometry_source and "timing" in str(astrometry_source):
-        plx = "the timing parallax" if "scenario" not in str(astrometry_source) else "the parallax (timing and [star])"
-    words = {"parallax": plx, "distance": "the [star] distance",
-             "parallax+distance": f"{plx} combined with the [star] distance estimate"}.get(source, source or "n/a")
+def distance_text(iv, source, words=None):
+    """'800 (68%: 730–890) pc from the parallax ... combined with the distance estimate ...'.
+
+    ``words`` (the posterior's own description, ``settings.distance_words`` of a trace) replaces the
+    generic words for ``source``.
+    """
+    words = words or {"parallax": "the parallax", "distance": "the [star] distance",
+                      "parallax+distance": "the parallax combined with the [star] distance estimate"}.get(
+        source, source or "n/a")
     if (iv.get("median") or 0) >= 2000.0:  # kpc, the unit people use for distant stars
         iv = {k: (v / 1000.0 if isinstance(v, (int, float)) and k != "n" else v) for k, v in iv.items()}
         return f"{fmt_interval(iv, 'kpc')} from {words}"
@@ -413,7 +416,7 @@ def shklovskii_text(shk):
     if shk.get("distance_from_trace"):
         return f"{term}, with the trace's distance and proper-motion draws"
     dist = shk.get("distance_interval_pc") or {}
-    return f"{term}, at the distance {distance_text(dist, shk.get('distance_source'))}"
+    return f"{term}, at the distance {distance_text(dist, shk.get('distance_source'), shk.get('distance_words'))}"
 
 
 def _pct(x, err=None):
