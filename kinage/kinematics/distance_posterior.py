@@ -27,6 +27,7 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
+from .._units import quantity_edge
 from ..errors import InputError
 
 __all__ = ["DistancePosterior", "distance_posterior", "SOURCES"]
@@ -226,6 +227,8 @@ def _invert(r, pdf, cdf, u):
     return r[k] + np.clip(x, 0.0, h)
 
 
+@quantity_edge(None, parallax_mas="mas", parallax_error_mas="mas", distance_pc="pc", distance_error_pc="pc",
+               distance_error_low_pc="pc", distance_error_high_pc="pc")
 def distance_posterior(*, prior, parallax_mas=None, parallax_error_mas=None, distance_pc=None,
                        distance_error_pc=None, distance_error_low_pc=None, distance_error_high_pc=None,
                        where="[star]"):
@@ -235,11 +238,11 @@ def distance_posterior(*, prior, parallax_mas=None, parallax_error_mas=None, dis
     ----------
     prior : DistancePrior
         Space-density prior (also applied to a distance estimate alone).
-    parallax_mas, parallax_error_mas : float, optional, mas
+    parallax_mas, parallax_error_mas : float or Quantity [angle], optional, mas
         Measured parallax (any sign) and its error (> 0).
-    distance_pc : float, optional, pc
+    distance_pc : float or Quantity [length], optional, pc
         Distance estimate (> 0).
-    distance_error_pc : float, optional, pc
+    distance_error_pc : float or Quantity [length], optional, pc
         Its symmetric Gaussian error; or give ``distance_error_low_pc`` and
         ``distance_error_high_pc`` (split normal).  No error: the distance is
         exact (with a warning).

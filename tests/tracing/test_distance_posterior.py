@@ -179,3 +179,15 @@ def test_proper_motions_follow_the_combined_distance():
     resid = pmra - (21.0 + (1000.0 / dist - 1.0) * cov[2, 4] / cov[4, 4])
     assert np.std(resid) == pytest.approx(np.sqrt(1 - 0.8**2), rel=0.03)
     assert np.std(pmdec) == pytest.approx(1.0, rel=0.03)
+
+
+def test_quantities_at_the_edge():
+    # astropy's unit conversion is the reference: 1 mas = 1000 uas, 1.3 kpc = 1300 pc
+    import astropy.units as u
+
+    prior = distance_prior("exponential")
+    a = distance_posterior(prior=prior, parallax_mas=1.0, parallax_error_mas=0.3, distance_pc=1300.0,
+                           distance_error_pc=300.0)
+    b = distance_posterior(prior=prior, parallax_mas=1000 * u.uas, parallax_error_mas=300 * u.uas,
+                           distance_pc=1.3 * u.kpc, distance_error_pc=0.3 * u.kpc)
+    assert b.summary()["median"] == pytest.approx(a.summary()["median"], rel=1e-9)
