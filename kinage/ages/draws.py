@@ -5,9 +5,10 @@ Measured quantities with an ``_error`` are drawn as independent Gaussians
 distance and proper-motion draws: the trace's own draws when a trace ran, else
 draws from the same distance posterior and astrometric conditioning
 (:func:`kinage.kinematics.scenario_distance_posterior`,
-:func:`kinage.kinematics.draw_astrometry`), so every stage uses one distance.  A kinematic age given in the scenario is drawn
-lognormally (median = value, sigma of ln age = error / value); samples from a
-trace are resampled with replacement.
+:func:`kinage.kinematics.draw_astrometry`), so every stage uses one distance.
+A kinematic age given in the scenario is drawn lognormally (median = value,
+sigma of ln age = error / value); samples from a trace are resampled with
+replacement.
 """
 
 from dataclasses import dataclass, field

@@ -9,5 +9,5 @@ from .velocity_prior import VelocityPrior, velocity_prior
 
 __all__ = ["DistancePrior", "distance_prior", "sample_distance_gaussian", "sample_true_parallax", "StarDraws",
            "choose_distance_source", "draw_star", "draw_astrometry", "DistancePosterior", "distance_posterior",
-           "scenario_distance_posterior", "star_distance_posterior", "check_star_distance", "radial_velocity_from_prior", "rotated_proper_motions",
-           "VelocityPrior", "velocity_prior"]
+           "scenario_distance_posterior", "star_distance_posterior", "check_star_distance",
+           "radial_velocity_from_prior", "rotated_proper_motions", "VelocityPrior", "velocity_prior"]

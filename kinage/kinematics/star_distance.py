@@ -54,10 +54,10 @@ def star_distance_posterior(solution, prior, *, distance_pc=None, distance_error
     elif choice == "distance":
         has_w = False
     sw = float(np.sqrt(var)) if np.isfinite(var) and var > 0 else var
-    return distance_posterior(prior=prior, parallax_mas=w if has_w else None, parallax_error_mas=sw if has_w else None,
-                              distance_pc=distance_pc if has_d else None, distance_error_pc=distance_error_pc,
-                              distance_error_low_pc=distance_error_low_pc, distance_error_high_pc=distance_error_high_pc)
-
+    return distance_posterior(prior=prior, parallax_mas=w if has_w else None,
+                              parallax_error_mas=sw if has_w else None, distance_pc=distance_pc if has_d else None,
+                              distance_error_pc=distance_error_pc, distance_error_low_pc=distance_error_low_pc,
+                              distance_error_high_pc=distance_error_high_pc)
 
 
 def scenario_distance_prior(scenario):

@@ -114,15 +114,13 @@ def choose_distance_source(solution, distance_pc=None, distance_error_pc=None, d
     has_w = np.isfinite(solution.values[4])
     has_d = distance_pc is not None and np.isfinite(distance_pc)
     choice = (distance_from or "").lower() or None
+    if not (has_w or has_d):
+        raise InputError("[star] parallax", "tracing needs a parallax (with parallax_error) or a distance (not given)")
     if choice == "parallax" or not has_d:
-        return "parallax" if has_w else _none()
+        return "parallax"
     if choice == "distance" or not has_w or not (distance_error_pc or 0) > 0:
         return "distance"
     return "parallax+distance"
-
-
-def _none():
-    raise InputError("[star] parallax", "tracing needs a parallax (with parallax_error) or a distance (not given)")
 
 
 def _mvn(mean, cov, n, rng):
