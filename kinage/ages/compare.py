@@ -441,6 +441,10 @@ def _cooling(star, s, rng, heating):
     return cool, cool_m
 
 
+_SOURCE_WORDS = {"parallax": "parallax", "distance": "[star] distance",
+                 "parallax+distance": "parallax combined with the [star] distance"}
+
+
 def _assumptions(s, shk, kin_method):
     a = [
         "Characteristic age P/(2 Pdot) assumes braking index 3 and P0 << P (Lorimer & Kramer 2005, eq. 3.14)",
@@ -458,8 +462,8 @@ def _assumptions(s, shk, kin_method):
     if shk.get("applied"):
         whose = "the trace's" if shk.get("distance_from_trace") else "the star's"
         a.append(f"Shklovskii term P v_t^2/(c d) subtracted draw by draw, with {whose} joint distance and "
-                 f"proper-motion draws (distance from the {shk.get('distance_source')}); Galactic acceleration terms "
-                 "neglected (Shklovskii 1970)")
+                 f"proper-motion draws (distance from the {_SOURCE_WORDS.get(shk.get('distance_source'), 'n/a')}); "
+                 "Galactic acceleration terms neglected (Shklovskii 1970)")
         if shk.get("distance_assumption"):
             a.append(shk["distance_assumption"])
     if kin_method:
