@@ -441,10 +441,6 @@ def _cooling(star, s, rng, heating):
     return cool, cool_m
 
 
-_SOURCE_WORDS = {"parallax": "parallax", "distance": "[star] distance",
-                 "parallax+distance": "parallax combined with the [star] distance"}
-
-
 def _assumptions(s, shk, kin_method):
     a = [
         "Characteristic age P/(2 Pdot) assumes braking index 3 and P0 << P (Lorimer & Kramer 2005, eq. 3.14)",
@@ -460,10 +456,7 @@ def _assumptions(s, shk, kin_method):
         "Gaussian, independent input errors propagated by Monte Carlo",
     ]
     if shk.get("applied"):
-        whose = "the trace's" if shk.get("distance_from_trace") else "the star's"
-        a.append(f"Shklovskii term P v_t^2/(c d) subtracted draw by draw, with {whose} joint distance and "
-                 f"proper-motion draws (distance from the {_SOURCE_WORDS.get(shk.get('distance_source'), 'n/a')}); "
-                 "Galactic acceleration terms neglected (Shklovskii 1970)")
+        a.append(shk["assumption"])
         if shk.get("distance_assumption"):
             a.append(shk["distance_assumption"])
     if kin_method:

@@ -200,6 +200,10 @@ def star_motion(scenario, n, rng, *, star_draws=None, solution=None):
             "source": posterior.source}
 
 
+_SOURCE_WORDS = {"parallax": "parallax", "distance": "[star] distance",
+                 "parallax+distance": "parallax combined with the [star] distance"}
+
+
 def _shklovskii(settings, p_d, n, rng, motion):
     zeros = np.zeros(n)
     out = {"applied": False, "pdot_shk_nominal": 0.0, "draws": zeros}
@@ -226,6 +230,10 @@ def _shklovskii(settings, p_d, n, rng, motion):
                distance_interval_pc=interval(motion["distance_pc"]), n_distance_draws=int(m),
                distance_from_trace=bool(motion.get("from_trace")),
                pdot_shk_interval={k: v for k, v in interval(shk_d).items() if k != "n"})
+    whose = "the trace's" if motion.get("from_trace") else "the star's"
+    out["assumption"] = (f"Shklovskii term P v_t^2/(c d) subtracted draw by draw, with {whose} joint distance and "
+                         f"proper-motion draws (distance from the {_SOURCE_WORDS.get(motion['source'], 'n/a')}); "
+                         "Galactic acceleration terms neglected (Shklovskii 1970)")
     posterior = motion.get("posterior")
     if posterior is not None and not motion.get("from_trace"):
         out["distance_words"] = posterior.words()
