@@ -99,3 +99,21 @@ def test_preflight_stops_a_distance_beyond_the_prior_before_the_forecast(tmp_pat
     status, err, out = _run(tmp_path, capsys, raw)
     assert_one_line_error(status, err, "[star] distance", "distance_prior")
     assert not out.exists() or not files_under(out)
+
+
+def test_forecast_expects_the_motion_at_the_posterior_distance():
+    # v_t / (4.74047 d) with d the distance posterior's median (Bailer-Jones 2015 posterior, as in the trace);
+    # a negative parallax used to leave the expected motion unknown
+    from kinage.astrometry import AstrometricSolution
+    from kinage.io.scenario import scenario_from_dict
+    from kinage.kinematics import scenario_distance_posterior
+    from kinage.timing.inputs import expected_proper_motion
+
+    raw = scenario_dict(tables=("campaign",), star={"parallax": "-0.3 mas", "parallax_error": "0.4 mas",
+                                                    "pm_ra_cosdec": None, "pm_ra_cosdec_error": None,
+                                                    "pm_dec": None, "pm_dec_error": None})
+    scn = scenario_from_dict(raw)
+    exp = expected_proper_motion(scn)
+    median = scenario_distance_posterior(scn, AstrometricSolution.from_star(scn.star)).summary()["median"]
+    assert exp.distance_pc == pytest.approx(median, rel=1e-12)
+    assert exp.pm_masyr == pytest.approx(exp.transverse_velocity_kms / (4.740470463533348 * median / 1000), rel=1e-6)
