@@ -28,7 +28,7 @@ def keys_rst():
             name = f"``{k.name}``" + (" (+ ``_error``)" if k.error else "")
             default = "" if k.default is None else f"``{k.default}``"
             lines += [f"   * - {name}", f"     - {_cell(k.unit) or '--'}", f"     - {_cell(default) or '--'}",
-                      f"     - {_cell(k.doc)}"]
+                      f"     - {_cell(k.doc + (f' (a unit is required, e.g. {k.example!r})' if k.example else ''))}"]
         lines.append("")
     return "\n".join(lines) + "\n"
 

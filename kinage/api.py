@@ -254,7 +254,8 @@ def compare_ages(scenario, trace_result=None, *, trace=None, kinematic_age=None,
         ``[star]`` spin and temperature; ``[ages]`` settings (defaults when absent).
     trace_result, trace : TraceResult, optional
         Its favoured association's encounter times give the kinematic age
-        (else its plane-crossing times); either name.
+        (else its plane-crossing times), and its distance and proper-motion draws the Shklovskii term;
+        either name.
     kinematic_age, kinematic_age_samples : Quantity or ndarray (yr), optional
         Kinematic-age samples (a scalar is one exact value) instead (either name).
     rng : numpy.random.Generator | int | None
@@ -295,6 +296,8 @@ def compare_ages(scenario, trace_result=None, *, trace=None, kinematic_age=None,
     else:
         samples, label = kinematic_age_input(scn, trace_result)
         label = kwargs.pop("kinematic_age_source", label)
+    if trace_result is not None and kwargs.get("star_draws") is None:
+        kwargs["star_draws"] = trace_result.data.get("draws")  # the trace's distance and proper motions
     return _stage(_compare, AgesWarning, scn, kinematic_age_samples=samples, kinematic_age_source=label, rng=rng,
                   **kwargs)
 

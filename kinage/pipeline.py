@@ -56,7 +56,7 @@ def plan_stages(scenario):
 
 
 def preflight(scenario, samples=None):
-    """Read and validate every table the planned stages need, before any stage runs.
+    """Read and validate every table and the star's numbers the planned stages need, before any stage runs.
 
     Also checks the resources the run would need against the limits of
     :mod:`kinage.io.limits` (memory for draws x time steps, work), with
@@ -101,6 +101,12 @@ def preflight(scenario, samples=None):
         # the fit's own checks of the star against the table: a spin period, TOA errors well below it
         freq, _, _ = spin_from_star(scenario.star, required=True, where="fitting TOAs")
         check_errors_against_period(loaded["toas"], 1.0 / freq, str(scenario.campaign.toas))
+    if "trace" in stages or "ages" in stages:
+        from .kinematics import check_star_distance
+
+        # the star's distance inputs (parallax of any sign, distance estimate, their errors, the prior's range)
+        # through the same posterior the trace and the Shklovskii term use: an input problem, found here
+        check_star_distance(scenario, trace="trace" in stages, fitted="fit" in stages)
     if "trace" in stages:
         from .associations import read_associations
 
@@ -216,8 +222,14 @@ def run_stage(name, scenario, done, *, seed, samples=None, progress=False, input
         from .ages import compare_ages
 
         samples_k, label = kinematic_age_input(scenario, done.get("trace"))
+        tr = done.get("trace")
+        # one star for every stage: the trace's own draws (distance posterior and proper motions), or, without
+        # a trace, the same astrometric solution it would have used
+        star_draws = tr.data.get("draws") if tr is not None else None
+        positioned = scenario.star.get("ra") is not None and scenario.star.get("dec") is not None
+        sol = solution_for_trace(scenario, done.get("fit")) if star_draws is None and positioned else None
         return compare_ages(scenario, kinematic_age_samples=samples_k, kinematic_age_source=label,
-                            rng=stage_seed(seed, "ages"))
+                            rng=stage_seed(seed, "ages"), star_draws=star_draws, solution=sol)
     raise ValueError(f"unknown stage {name!r}")
 
 

@@ -23,7 +23,7 @@ from kinage.timing.model import TimeGrid, TimingModel
 def main(n_toas=10_000, n_modes=30):
     scn = scenario_from_dict({
         "star": {"ra": 140.0, "dec": 30.0, "spin_period": 0.3},
-        "campaign": {"toa_error": 1e-4, "dates": [61000.0], "sun_avoidance": 0,
+        "campaign": {"toa_error": "0.1 ms", "dates": [61000.0], "sun_avoidance": 0,
                      "red_noise_amplitude": 1e-12, "red_noise_index": 4.0, "red_noise_modes": n_modes},
     })
     c = scn.campaign

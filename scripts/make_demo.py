@@ -321,7 +321,8 @@ RADIO_SCENARIO = """\
 # kinage demo case 'radio': an INVENTED radio pulsar timed from an invented site.
 # Everything below is fictitious; made by scripts/make_demo.py (see data_demo/README.md).
 # The parallax is NOT given and the imaging proper motion is coarse: the timing fit measures both, and the trace
-# uses the fit combined with the imaging values (timing dominates).
+# uses the fit combined with the imaging values (timing dominates).  The dispersion-measure distance below is
+# combined with the timing parallax into one distance posterior, used by the trace and the ages stage alike.
 title = "{name}: a radio pulsar traced with timing astrometry (invented demo)"
 
 [star]

@@ -18,7 +18,7 @@ from ..errors import ModelRangeError
 from ..io.results import interval
 from .cooling_age import cooling_age, cooling_assumptions
 from .display import _adapt_ages_cooling, _adapt_ages_ladder, _ages_numbers, _ages_table
-from .draws import draw_kinematic_age, draw_spin, read_settings
+from .draws import draw_kinematic_age, draw_spin, read_settings, star_motion
 from .envelope import star_structure
 from .pdot import pdot_note, pdot_state
 from .spin_values import _implied, _spin_down
@@ -180,7 +180,8 @@ class AgesResult(ResultDisplay):
 
 
 @quantity_edge(None, kinematic_age_samples="yr")
-def compare_ages(scenario, *, kinematic_age_samples=None, kinematic_age_source=None, rng=None, heating=None):
+def compare_ages(scenario, *, kinematic_age_samples=None, kinematic_age_source=None, rng=None, heating=None,
+                 star_draws=None, solution=None):
     """Spin-down, field-decay, cooling and kinematic ages of one star, compared.
 
     Parameters
@@ -199,6 +200,10 @@ def compare_ages(scenario, *, kinematic_age_samples=None, kinematic_age_source=N
     heating : callable or None
         Heating H(t_yr) in erg/s for the cooling curves (e.g.
         :func:`kinage.ages.cooling.field_decay_heating`).
+    star_draws : StarDraws, optional
+        The trace's draws: the Shklovskii term uses its distances and proper motions.
+    solution : AstrometricSolution, optional
+        Else the astrometry drawn from (default ``[star]``), through the trace's distance posterior.
 
     Returns
     -------
@@ -249,7 +254,11 @@ def compare_ages(scenario, *, kinematic_age_samples=None, kinematic_age_source=N
               "moment_of_inertia_g_cm2": s.moment_of_inertia}
     unc, shk, decay = {}, {"applied": False}, {}
     have_spin = star.get("spin_period") is not None and star.get("spin_period_derivative") is not None
-    spin = draw_spin(star, s, n, rng) if have_spin else None
+    motion = (star_motion(scenario, n, rng, star_draws=star_draws, solution=solution)
+              if have_spin and s.shklovskii else None)
+    if star_draws is None and (motion or {}).get("posterior") is not None:
+        warnings.extend(motion["posterior"].warnings)
+    spin = draw_spin(star, s, n, rng, motion) if have_spin else None
     state = pdot_state(spin) if spin is not None else None
     spinning_up = bool(spin is not None and not spin.pdot > 0)
     for k in ("characteristic_age_yr", "dipole_field_gauss", "spin_down_luminosity_erg_s", "spin_down_age_yr",
@@ -372,8 +381,9 @@ def _assumptions(s, shk, kin_method):
         "Gaussian, independent input errors propagated by Monte Carlo",
     ]
     if shk.get("applied"):
-        a.append("Shklovskii term P v_t^2/(c d) subtracted with d = "
-                 f"{shk.get('distance_source')}; Galactic acceleration terms neglected (Shklovskii 1970)")
+        a.append(shk["assumption"])
+        if shk.get("distance_assumption"):
+            a.append(shk["distance_assumption"])
     if kin_method:
         a.append(f"Kinematic age: {kin_method}")
     return a

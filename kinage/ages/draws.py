@@ -1,11 +1,14 @@
 """Read the ages inputs from a scenario and draw them for the Monte Carlo.
 
 Measured quantities with an ``_error`` are drawn as independent Gaussians
-(spin period truncated at zero); the distance comes from the parallax as 1 /
-parallax (draws with parallax <= 0 are dropped from the Shklovskii term), or
-from ``[star] distance``.  A kinematic age given in the scenario is drawn
-lognormally (median = value, sigma of ln age = error / value); samples from a
-trace are resampled with replacement.
+(spin period truncated at zero).  The Shklovskii term uses the star's joint
+distance and proper-motion draws: the trace's own draws when a trace ran, else
+draws from the same distance posterior and astrometric conditioning
+(:func:`kinage.kinematics.scenario_distance_posterior`,
+:func:`kinage.kinematics.draw_astrometry`), so every stage uses one distance.
+A kinematic age given in the scenario is drawn lognormally (median = value,
+sigma of ln age = error / value); samples from a trace are resampled with
+replacement.
 """
 
 from dataclasses import dataclass, field
@@ -15,9 +18,10 @@ import numpy as np
 
 from ..errors import InputError
 from ..io.schema import SCHEMA
+from ..io.results import interval
 from .spindown import shklovskii_pdot, transverse_velocity
 
-__all__ = ["AgesSettings", "SpinDraws", "read_settings", "draw_spin", "draw_kinematic_age"]
+__all__ = ["AgesSettings", "SpinDraws", "read_settings", "draw_spin", "draw_kinematic_age", "star_motion"]
 
 
 @dataclass(frozen=True)
@@ -119,7 +123,7 @@ def _gauss(rng, value, error, n):
     return rng.normal(float(value), float(error), n)
 
 
-def draw_spin(star, settings, n, rng):
+def draw_spin(star, settings, n, rng, motion=None):
     """Draw P, Pdot (Shklovskii-corrected), n and P0.
 
     Parameters
@@ -130,6 +134,8 @@ def draw_spin(star, settings, n, rng):
     n : int
         Number of draws.
     rng : numpy.random.Generator
+    motion : dict, optional
+        Distance and proper-motion draws for the Shklovskii term (:func:`star_motion`).
 
     Returns
     -------
@@ -154,7 +160,7 @@ def draw_spin(star, settings, n, rng):
             raise InputError("[ages] initial_period", f"must be shorter than the spin period P = {p:.6g} s "
                              f"(got P0 = {p0:.6g} s)")
         p0_d = np.abs(_gauss(rng, p0, settings.initial_period_error_s, n))
-    shk = _shklovskii(star, settings, p, p_d, n, rng)
+    shk = _shklovskii(settings, p_d, n, rng, motion)
     shk_d = shk.pop("draws")
     return SpinDraws(
         period=p, pdot_observed=pdot, pdot_shk=shk["pdot_shk_nominal"], pdot=pdot - shk["pdot_shk_nominal"],
@@ -165,38 +171,91 @@ def draw_spin(star, settings, n, rng):
     )
 
 
-def _shklovskii(star, settings, p, p_d, n, rng):
+def star_motion(scenario, n, rng, *, star_draws=None, solution=None):
+    """Distance and proper-motion draws of the star for the Shklovskii term.
+
+    Parameters
+    ----------
+    scenario : Scenario
+    n : int
+        Draws to make when there is no trace.
+    rng : numpy.random.Generator
+    star_draws : StarDraws, optional
+        The trace's draws: used as they are (the same distance posterior and
+        proper motions as the trace).
+    solution : AstrometricSolution, optional
+        The astrometry the run uses (e.g. a timing fit combined with
+        ``[star]``); default the ``[star]`` values.
+
+    Returns
+    -------
+    dict or None
+        ``distance_pc``, ``pm_ra_cosdec``, ``pm_dec`` (arrays), ``posterior``
+        (DistancePosterior), ``source``; or ``{"note": ...}`` when the term
+        cannot be computed.
+    """
+    from ..astrometry import AstrometricSolution
+    from ..kinematics import draw_astrometry, scenario_distance_posterior
+
+    if star_draws is not None:
+        return {"distance_pc": np.asarray(star_draws.distance_pc, float),
+                "pm_ra_cosdec": np.asarray(star_draws.pm_ra_cosdec, float),
+                "pm_dec": np.asarray(star_draws.pm_dec, float),
+                "posterior": star_draws.posterior, "source": star_draws.distance_source, "from_trace": True}
+    star = scenario.star
+    if solution is None:
+        if star.get("ra") is None or star.get("dec") is None:  # the position does not enter the term
+            star = star.replace(ra=0.0 * u.deg, dec=0.0 * u.deg)
+        solution = AstrometricSolution.from_star(star)
+    if not (np.isfinite(solution.values[2]) and np.isfinite(solution.values[3])):
+        return {"note": "not applied: no proper motion given"}
+    if not np.isfinite(solution.values[4]) and star.get("distance") is None:
+        return {"note": "not applied: no parallax or distance given"}
+    posterior = scenario_distance_posterior(scenario, solution)
+    _, _, dist, pmra, pmdec = draw_astrometry(solution, posterior, n, rng)
+    return {"distance_pc": dist, "pm_ra_cosdec": pmra, "pm_dec": pmdec, "posterior": posterior,
+            "source": posterior.source}
+
+
+_SOURCE_WORDS = {"parallax": "parallax", "distance": "[star] distance",
+                 "parallax+distance": "parallax combined with the [star] distance"}
+
+
+def _shklovskii(settings, p_d, n, rng, motion):
     zeros = np.zeros(n)
     out = {"applied": False, "pdot_shk_nominal": 0.0, "draws": zeros}
-    pmra, pmdec = star.value("pm_ra_cosdec", "mas/yr"), star.value("pm_dec", "mas/yr")
     if not settings.shklovskii:
         out["note"] = "switched off ([ages] shklovskii = false)"
         return out
-    if pmra is None or pmdec is None:
+    if motion is None:
         out["note"] = "not applied: no proper motion given"
         return out
-    plx, dist = star.value("parallax", "mas"), star.value("distance", "kpc")
-    if plx is not None and plx > 0:
-        d_nom = 1.0 / plx
-        plx_d = _gauss(rng, plx, star.value("parallax_error", "mas"), n)
-        d_d = np.where(plx_d > 0, 1.0 / np.where(plx_d > 0, plx_d, 1.0), np.nan)
-        dsrc = "1 / parallax"
-    elif dist is not None:
-        d_nom = dist
-        d_d = np.abs(_gauss(rng, dist, star.value("distance_error", "kpc"), n))
-        dsrc = "[star] distance"
-    else:
-        out["note"] = "not applied: no positive parallax or distance given"
+    if "note" in motion:
+        out["note"] = motion["note"]
         return out
-    ra_d = _gauss(rng, pmra, star.value("pm_ra_cosdec_error", "mas/yr"), n)
-    de_d = _gauss(rng, pmdec, star.value("pm_dec_error", "mas/yr"), n)
-    mu_nom = float(np.hypot(pmra, pmdec))
-    mu_d = np.hypot(ra_d, de_d)
-    shk_nom = float(shklovskii_pdot(p, mu_nom, d_nom))
-    shk_d = np.nan_to_num(shklovskii_pdot(p_d, mu_d, d_d), nan=shk_nom)
-    out.update(applied=True, pdot_shk_nominal=shk_nom, draws=shk_d,
-               distance_kpc=float(d_nom), distance_source=dsrc, proper_motion_masyr=mu_nom,
-               transverse_velocity_kms=float(transverse_velocity(mu_nom, d_nom)))
+    d_all = motion["distance_pc"] / 1000.0
+    mu_all = np.hypot(motion["pm_ra_cosdec"], motion["pm_dec"])
+    m = d_all.size
+    # the same joint (distance, proper motion) draws, each used equally often, in random order
+    rows = rng.permutation(np.arange(n) % m) if m != n else rng.permutation(m)
+    d_d, mu_d = d_all[rows], mu_all[rows]
+    shk_d = shklovskii_pdot(p_d, mu_d, d_d)
+    d_med = float(np.median(d_all))
+    out.update(applied=True, pdot_shk_nominal=float(np.median(shk_d)), draws=shk_d, distance_kpc=d_med,
+               distance_source=motion["source"], proper_motion_masyr=float(np.median(mu_all)),
+               transverse_velocity_kms=float(np.median(transverse_velocity(mu_all, d_all))),
+               distance_interval_pc=interval(motion["distance_pc"]), n_distance_draws=int(m),
+               distance_from_trace=bool(motion.get("from_trace")),
+               pdot_shk_interval={k: v for k, v in interval(shk_d).items() if k != "n"})
+    whose = "the trace's" if motion.get("from_trace") else "the star's"
+    out["assumption"] = (f"Shklovskii term P v_t^2/(c d) subtracted draw by draw, with {whose} joint distance and "
+                         f"proper-motion draws (distance from the {_SOURCE_WORDS.get(motion['source'], 'n/a')}); "
+                         "Galactic acceleration terms neglected (Shklovskii 1970)")
+    posterior = motion.get("posterior")
+    if posterior is not None and not motion.get("from_trace"):
+        out["distance_words"] = posterior.words()
+        out["distance_assumption"] = posterior.assumption()
+        out["distance_warnings"] = list(posterior.warnings)
     return out
 
 

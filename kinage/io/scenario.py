@@ -28,6 +28,7 @@ from .quantities import format_quantity, shown
 from .checks import physical_checks as _physical_checks
 from .checks import reference_checks as _reference_checks
 from .checks import short as _short, suggest as _suggest
+from .distance_keys import FRACTION_KEYS as _FRACTION_KEYS, fraction as _fraction, resolve_distance as _resolve_distance
 from .schema import SCHEMA, TOP_LEVEL_KEYS, Key
 from .values import _default, _parse_value
 
@@ -305,10 +306,16 @@ def _parse_section(table, raw, base_dir, problems, allow_missing=frozenset()):
         if name not in allowed:
             problems.append(InputError(f"[{table}] {_short(name)}", "unknown key" + _suggest(name, sorted(allowed))))
             continue
-        if name.endswith("_error") and name not in schema:
+        if name in _FRACTION_KEYS.get(table, ()) and isinstance(val, str) and val.strip().endswith("%"):
+            try:
+                parsed = _fraction(f"[{table}] {name}", val)
+            except InputError as exc:
+                problems.append(exc)
+                parsed = None
+        elif name.endswith("_error") and name not in schema:
             key = schema[name[: -len("_error")]]
             err_key = Key(name, "quantity" if key.kind in ("quantity", "angle") else "float",
-                          "mas" if key.kind == "angle" else key.unit, positive=True)
+                          "mas" if key.kind == "angle" else key.unit, positive=True, example=key.example)
             parsed = _parse_value(table, err_key, val, base_dir, problems)
         else:
             parsed = _parse_value(table, schema[name], val, base_dir, problems,
@@ -360,7 +367,8 @@ def _cross_checks(sections, problems):
             if star.get(k) is None:
                 problems.append(InputError(f"[star] {k}", "required when [campaign] or [trace] is present"))
     if "trace" in sections:
-        if star.get("parallax") is None and star.get("distance") is None:
+        timed = "campaign" in sections and sections["campaign"].get("toas") is not None
+        if star.get("parallax") is None and star.get("distance") is None and not timed:
             problems.append(InputError("[star] parallax", "give 'parallax' (with parallax_error) or 'distance' for tracing"))
         timed = "campaign" in sections and sections["campaign"].get("toas") is not None
         for k in ("pm_ra_cosdec", "pm_dec"):
@@ -369,8 +377,13 @@ def _cross_checks(sections, problems):
                                                           "unless [campaign] toas gives a timing fit"))
         if sections["trace"].get("associations") is None:
             problems.append(InputError("[trace] associations", "required: path of the association table"))
-    if star.get("parallax") is not None and star.get("parallax_error") is None and "trace" in sections:
-        problems.append(InputError("[star] parallax_error", "required with 'parallax' for tracing (use distance if it is exact)"))
+    ages = sections.get("ages")
+    shklovskii = (ages is not None and ages.get("shklovskii", True) and star.get("pm_ra_cosdec") is not None
+                  and star.get("spin_period_derivative") is not None)
+    if star.get("parallax") is not None and star.get("parallax_error") is None and ("trace" in sections or shklovskii):
+        why = "tracing" if "trace" in sections else "the Shklovskii correction of the ages"
+        problems.append(InputError("[star] parallax_error", f"required with 'parallax' for {why} (the distance "
+                                   "posterior needs it; use distance if it is exact)"))
     if "campaign" in sections:
         c = sections["campaign"]
         if c.get("dates") is None and c.get("toas") is None:
@@ -391,36 +404,3 @@ def _cross_checks(sections, problems):
             if c.baseline.to_value(u.yr) < interval:
                 problems.append(InputError("[campaign] baseline",
                                            f"shorter than one visit interval ({format_quantity(c.baseline)} < {interval:.3g} yr)"))
-
-
-def _resolve_distance(sections, problems):
-    """Parallax and distance both given: an error unless ``[star] distance_from`` says which to use."""
-    star = sections.get("star")
-    if star is None:
-        return
-    both = star.given("parallax") and star.given("distance")
-    choice = star.get("distance_from")
-    if both and choice is None:
-        plx, dist = star.parallax.to_value(u.mas), star.distance.to_value(u.pc)
-        alone = f"; the parallax alone means {1000 / plx:.4g} pc" if plx > 0 else ""
-        problems.append(InputError("[star] distance",
-                                   f"given together with 'parallax' ({format_quantity(star.distance)} and "
-                                   f"{format_quantity(star.parallax)}{alone}); give one of them, or say which to "
-                                   f"use with distance_from = 'parallax' or 'distance'"))
-        return
-    if choice is not None and not both:
-        choice = choice.lower()
-        if not star.given(choice):
-            other = "distance" if choice == "parallax" else "parallax"
-            has = f"only '{other}' is given" if star.given(other) else "neither is given"
-            problems.append(InputError("[star] distance_from",
-                                       f"says to use '{choice}', but {has}; distance_from chooses between a "
-                                       "parallax and a distance given together (remove it or give both)"))
-        return
-    if choice is not None and both:
-        drop = "distance" if choice.lower() == "parallax" else "parallax"
-        vals = dict(star._values)
-        vals[drop] = None
-        vals[f"{drop}_error"] = None
-        given = set(star._given) - {drop, f"{drop}_error"}
-        sections["star"] = Section("star", vals, given)

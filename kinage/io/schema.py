@@ -53,6 +53,11 @@ class Key:
         registered parameter sets of that kind, or ``"envelope"`` for the cooling envelopes.
     max_length : int
         Longest string (names, paths) or list accepted.
+    example : str
+        A value with its unit (``'1.2 Myr'``) for a quantity whose bare number would be ambiguous (ages and
+        timescales: yr, kyr or Myr; exposures: s or ks; TOA errors: s or us): such a key refuses a bare
+        number other than 0 and asks for a unit, quoting this example.  Empty: a bare number is taken in
+        ``unit``.
     doc : str
         One line for the key listing.
 
@@ -76,6 +81,7 @@ class Key:
     reason: str = ""
     choices: tuple | str | None = None
     max_length: int | None = None
+    example: str = ""
 
 
 _STAR = [
@@ -86,9 +92,16 @@ _STAR = [
         doc="declination (ICRS): degrees or '+12:34:56'; dec_error in mas"),
     Key("epoch", "time", doc="reference epoch of position and proper motion (MJD TDB or ISO date); default: campaign middle or J2000"),
     Key("parallax", "quantity", "mas", error=True, doc="parallax (may be negative when measured; error must be positive)"),
-    Key("distance", "quantity", "pc", error=True, positive=True, doc="distance, when no parallax is given"),
+    Key("distance", "quantity", "pc", error=True, positive=True,
+        doc="distance estimate (e.g. from the dispersion measure), combined with any parallax into one distance "
+            "posterior; distance_error is its Gaussian error in pc or a fraction ('20%'); without it the distance "
+            "is taken as exact"),
+    Key("distance_error_low", "quantity", "pc", positive=True,
+        doc="asymmetric distance error below the estimate (pc or '20%'; with distance_error_high: a split normal)"),
+    Key("distance_error_high", "quantity", "pc", positive=True,
+        doc="asymmetric distance error above the estimate (pc or '30%'; with distance_error_low)"),
     Key("distance_from", "str", choices=("parallax", "distance"),
-        doc="which of 'parallax' and 'distance' to use when both are given (giving both without it is an error)"),
+        doc="use only the 'parallax' or only the 'distance' when both are given (default: both are combined)"),
     Key("pm_ra_cosdec", "quantity", "mas/yr", error=True, doc="proper motion in ra*cos(dec)"),
     Key("pm_dec", "quantity", "mas/yr", error=True, doc="proper motion in dec"),
     Key("pm_correlation", "float", default=0.0, lower=-1, upper=1, doc="correlation coefficient of the two proper-motion errors"),
@@ -238,14 +251,9 @@ _RANGES = {
     "campaign": {
         "baseline": dict(upper=200, reason="a timing campaign lasting more than two centuries"),
         "visits_per_year": dict(upper=8766, reason="more than one visit an hour"),
-        "exposure": dict(upper=3.15576e7, reason="an exposure per visit longer than a year"),
-        "source_rate": dict(upper=1e7, reason="no detector counts 1e7 photons a second from one source"),
+                "source_rate": dict(upper=1e7, reason="no detector counts 1e7 photons a second from one source"),
         "background_rate": dict(upper=1e7, reason="no detector counts 1e7 photons a second"),
         "pulsed_fraction": dict(reason="a pulsed fraction lies in (0, 1]"),
-        "toa_error": dict(lower=1e-9, upper=86400,
-                          reason="no pulse arrival time is measured to better than ~10 ns (times are kept to "
-                                 "~1 ns), and a TOA error longer than a day cannot time a pulse"),
-        "added_error": dict(upper=86400, reason="white noise longer than a day"),
         "error_scale": dict(upper=1e3, reason="a white-noise scale factor above 1000"),
         "red_noise_amplitude": dict(upper=1.0, reason="a red-noise amplitude above 1"),
         "red_noise_index": dict(upper=20, reason="a red-noise spectral index above 20"),
@@ -254,6 +262,12 @@ _RANGES = {
         "target_significance": dict(upper=1000, reason="a significance above 1000 sigma"),
         "max_baseline": dict(upper=200, reason="a baseline search beyond two centuries"),
         "barycentred_ra": dict(upper_open=True, reason="right ascension is an angle in [0, 360) deg"),
+        # bare numbers ambiguous between s and ks (exposures) or s and us (TOA errors): a unit is required
+        "exposure": dict(upper=3.15576e7, reason="an exposure per visit longer than a year", example="40 ks"),
+        "toa_error": dict(lower=1e-9, upper=86400,
+                          reason="no pulse arrival time is measured to better than ~10 ns (times are kept to "
+                                 "~1 ns), and a TOA error longer than a day cannot time a pulse", example="0.4 us"),
+        "added_error": dict(upper=86400, reason="white noise longer than a day", example="0.2 us"),
     },
     "trace": {
         "samples": dict(upper=1_000_000, reason="memory and run time grow with the draws (1e6 draws peak at "
@@ -283,7 +297,10 @@ _RANGES = {
                                      "gives n > 100"),
         "initial_period": dict(lower=5e-4, reason="a neutron star spins slower than break-up (~0.5 ms)"),
         "moment_of_inertia": dict(lower=1e43, upper=1e47, reason="a neutron star has I ~ 1e45 g cm2"),
-        "kinematic_age": dict(upper=1.38e10, reason=_GALAXY_AGE),
+        # ages and timescales: a bare number is ambiguous between yr, kyr and Myr, so a unit is required
+        "kinematic_age": dict(upper=1.38e10, reason=_GALAXY_AGE, example="1.2 Myr"),
+        "hall_timescale": dict(example="10 kyr"),
+        "ohmic_timescale": dict(example="1 Myr"),
         "mass": dict(lower=0.1, upper=3.0,
                      reason="a neutron star weighs ~0.1-3 Msun (none is stable above ~2.3-3 Msun)"),
         "masses": dict(lower=0.1, upper=3.0, max_length=50,
@@ -316,6 +333,8 @@ def range_text(key):
         parts.append("one of " + ", ".join(repr(c) for c in key.choices))
     if key.max_length:
         parts.append(f"at most {key.max_length} {'characters' if key.kind == 'str' else 'items'}")
+    if key.example:
+        parts.append(f"a unit is required, e.g. '{key.example}'")
     return "; ".join(parts)
 
 

@@ -40,6 +40,9 @@ def _parse_value(table, key, val, base_dir, problems, must_exist=True):
 def _convert(key, val, base_dir, where, must_exist=True):
     kind = key.kind
     if kind == "quantity":
+        if key.example and _bare_number(val):
+            raise InputError(where, f"a bare number ({shown(val)}) is ambiguous here: give a unit, e.g. "
+                                    f"'{key.example}'")
         return parse_quantity(val, key.unit, where)
     if kind == "angle":
         if isinstance(val, str) and len(val) > 100:
@@ -155,3 +158,15 @@ def _path(val, base_dir, where, must_exist=True):
     p = check_output_file(Path(base_dir) / Path(val.strip()) if not val.strip().startswith("~") else val.strip(),
                           where)
     return Path(os.path.abspath(p))
+
+
+def _bare_number(val):
+    """A number without a unit (plain or as text), other than zero (which needs none)."""
+    if isinstance(val, bool):
+        return False
+    if isinstance(val, str):
+        try:
+            val = float(val.strip())
+        except ValueError:
+            return False
+    return isinstance(val, (int, float)) and val != 0

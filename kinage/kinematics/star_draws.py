@@ -1,12 +1,12 @@
 """Monte Carlo draws of a star's present position and velocity.
 
 * Position and proper motion are drawn with their full covariance (correlated
-  draws).  With a parallax, the true parallax is drawn first from the distance
-  posterior (:mod:`.distance`), then the other four parameters from their
-  Gaussian conditional on it: mean m_o + C_op / C_pp (w_t - w), covariance
-  C_oo - C_op C_po / C_pp (standard multivariate-normal conditioning).
-* Without a usable parallax the distance comes from ``distance`` and its error
-  (Gaussian truncated at zero).
+  draws).  The distance is drawn first from the one distance posterior of
+  :mod:`.distance_posterior` (parallax and/or distance estimate with a
+  space-density prior); when it uses the parallax, the other four parameters
+  follow from their Gaussian conditional on the true parallax 1000 / r: mean
+  m_o + C_op / C_pp (w_t - w), covariance C_oo - C_op C_po / C_pp (standard
+  multivariate-normal conditioning).
 * The radial velocity is measured (Gaussian) or drawn from the velocity prior.
   The prior describes the star's peculiar velocity u relative to the local
   standard of rest at its position (flat rotation curve with the circular speed
@@ -22,9 +22,10 @@ from dataclasses import dataclass
 import numpy as np
 
 from ..errors import InputError
-from .distance import sample_distance_gaussian, sample_true_parallax
+from .star_distance import check_proper_motion, star_distance_posterior
 
-__all__ = ["StarDraws", "draw_star", "radial_velocity_from_prior", "choose_distance_source"]
+__all__ = ["StarDraws", "draw_star", "draw_astrometry", "radial_velocity_from_prior", "choose_distance_source",
+           "star_distance_posterior", "check_proper_motion"]
 
 
 @dataclass
@@ -38,9 +39,11 @@ class StarDraws:
     pm_ra_cosdec, pm_dec : ndarray, mas/yr
     radial_velocity : ndarray, km/s (heliocentric)
     distance_source : str
-        'parallax' or 'distance'.
+        'parallax', 'distance' or 'parallax+distance'.
     rv_source : str
         'measured' or 'prior'.
+    posterior : DistancePosterior or None
+        The distance posterior the distances were drawn from.
     """
 
     ra_deg: np.ndarray
@@ -51,6 +54,7 @@ class StarDraws:
     radial_velocity: np.ndarray
     distance_source: str = "parallax"
     rv_source: str = "prior"
+    posterior: object = None
 
     @property
     def n(self):
@@ -60,13 +64,13 @@ class StarDraws:
         """Draws ``start`` to ``stop - 1`` (a view)."""
         sl = slice(start, stop)
         return StarDraws(self.ra_deg[sl], self.dec_deg[sl], self.distance_pc[sl], self.pm_ra_cosdec[sl],
-                         self.pm_dec[sl], self.radial_velocity[sl], self.distance_source, self.rv_source)
+                         self.pm_dec[sl], self.radial_velocity[sl], self.distance_source, self.rv_source, self.posterior)
 
     def take(self, index):
         """The draws at the integer positions ``index`` (a copy)."""
         i = np.asarray(index, int)
         return StarDraws(self.ra_deg[i], self.dec_deg[i], self.distance_pc[i], self.pm_ra_cosdec[i],
-                         self.pm_dec[i], self.radial_velocity[i], self.distance_source, self.rv_source)
+                         self.pm_dec[i], self.radial_velocity[i], self.distance_source, self.rv_source, self.posterior)
 
     def galactocentric(self, frame):
         """Positions (kpc) and velocities (km/s) in the Galactocentric frame of ``frame``."""
@@ -101,38 +105,22 @@ def radial_velocity_from_prior(frame, ra_deg, dec_deg, distance_pc, pm_ra_cosdec
     return u_r - u0_los
 
 
-def choose_distance_source(solution, distance_pc=None, distance_error_pc=None):
-    """'parallax' or 'distance': the better of the two given, with input checks.
+def choose_distance_source(solution, distance_pc=None, distance_error_pc=None, distance_from=None):
+    """'parallax', 'distance' or 'parallax+distance': the measurements the distance posterior combines.
 
-    The parallax is used when it is finite with a positive error and either
-    no distance is given or its relative error is smaller than the distance's.
-
-    Raises
-    ------
-    InputError
-        When neither is usable, or the parallax alone does not constrain the
-        distance (parallax <= 0 or parallax / error < 1).
+    Every measured parallax counts, zero and negative included; a distance
+    without an error is exact and then alone ('distance').
     """
-    w, sw = solution.values[4], solution.sigma[4]
-    has_w = np.isfinite(w) and np.isfinite(sw) and sw > 0
+    has_w = np.isfinite(solution.values[4])
     has_d = distance_pc is not None and np.isfinite(distance_pc)
-    if has_d and distance_pc <= 0:
-        raise InputError("[star] distance", f"must be positive (got {distance_pc} pc)")
-    if has_w and has_d:
-        frac_w = sw / w if w > 0 else np.inf
-        frac_d = (distance_error_pc or 0.0) / distance_pc
-        return "parallax" if frac_w < frac_d else "distance"
-    if has_d:
-        return "distance"
-    if has_w:
-        if w <= 0 or w / sw < 1.0:
-            raise InputError("[star] parallax", f"parallax {w:.4g} +/- {sw:.4g} mas does not constrain the distance "
-                             "(need parallax > 0 and parallax / parallax_error >= 1); give [star] distance and "
-                             "distance_error instead")
+    choice = (distance_from or "").lower() or None
+    if not (has_w or has_d):
+        raise InputError("[star] parallax", "tracing needs a parallax (with parallax_error) or a distance (not given)")
+    if choice == "parallax" or not has_d:
         return "parallax"
-    if np.isfinite(w) and not (sw > 0):
-        raise InputError("[star] parallax_error", f"must be positive (got {sw} mas)")
-    raise InputError("[star] parallax", "tracing needs a parallax (with parallax_error) or a distance (not given)")
+    if choice == "distance" or not has_w or not (distance_error_pc or 0) > 0:
+        return "distance"
+    return "parallax+distance"
 
 
 def _mvn(mean, cov, n, rng):
@@ -144,8 +132,50 @@ def _mvn(mean, cov, n, rng):
     return mean + (rng.standard_normal((n, mean.size)) * np.sqrt(w)) @ v.T
 
 
+def draw_astrometry(solution, posterior, n, rng):
+    """Draw positions, distances and proper motions consistent with the covariance and the distance posterior.
+
+    The distance is drawn from ``posterior``; when it uses the parallax, the
+    other four parameters are drawn from their Gaussian conditional on the
+    true parallax w_t = 1000 / r: mean m_o + C_op / C_pp (w_t - w), covariance
+    C_oo - C_op C_po / C_pp (multivariate-normal conditioning; a distance
+    estimate is independent of them, so the conditional is the same).
+    Otherwise from their marginal Gaussian.
+
+    Parameters
+    ----------
+    solution : AstrometricSolution
+    posterior : DistancePosterior
+    n : int
+    rng : numpy.random.Generator | int | None
+
+    Returns
+    -------
+    ra_deg, dec_deg, distance_pc, pm_ra_cosdec, pm_dec : ndarray
+        deg, deg, pc, mas/yr, mas/yr.
+    """
+    rng = np.random.default_rng(rng)
+    vals, cov = solution.values, solution.covariance
+    idx = np.array([0, 1, 2, 3])
+    mean = np.where(np.isfinite(vals[idx]), vals[idx], 0.0)
+    c4 = np.nan_to_num(cov[np.ix_(idx, idx)], nan=0.0)
+    dist = posterior.sample(n, rng)
+    w, sw2 = vals[4], cov[4, 4]
+    if np.isfinite(w) and np.isfinite(sw2) and sw2 > 0 and posterior.uses_parallax:
+        c_op = np.nan_to_num(cov[idx, 4], nan=0.0)
+        cond_cov = c4 - np.outer(c_op, c_op) / sw2
+        base = _mvn(np.zeros(4), cond_cov, n, rng)
+        draws4 = mean + base + (1000.0 / dist - w)[:, None] * (c_op / sw2)
+    else:
+        draws4 = _mvn(mean, c4, n, rng)
+    dec = solution.dec_deg + draws4[:, 1] / 3.6e6
+    ra = (solution.ra_deg + draws4[:, 0] / 3.6e6 / np.cos(np.radians(dec))) % 360.0
+    return ra, dec, dist, draws4[:, 2], draws4[:, 3]
+
+
 def draw_star(solution, n, rng, *, frame, velocity_prior, distance_prior=None, distance_pc=None,
-              distance_error_pc=None, radial_velocity=None, radial_velocity_error=None):
+              distance_error_pc=None, radial_velocity=None, radial_velocity_error=None, posterior=None,
+              distance_from=None):
     """Draw ``n`` present states of the star.
 
     Parameters
@@ -157,47 +187,33 @@ def draw_star(solution, n, rng, *, frame, velocity_prior, distance_prior=None, d
     frame : SolarFrame
     velocity_prior : VelocityPrior
     distance_prior : DistancePrior, optional
-        Needed when the distance comes from the parallax.
+        Space-density prior of the distance posterior (needed unless ``posterior`` is given).
     distance_pc, distance_error_pc : float, optional, pc
+        A distance estimate, combined with the parallax by default.
     radial_velocity, radial_velocity_error : float, optional, km/s
         A measured radial velocity replaces the prior.
+    posterior : DistancePosterior, optional
+        The star's distance posterior, when already built (:func:`star_distance_posterior`).
+    distance_from : {'parallax', 'distance'}, optional
+        Use only one of a parallax and a distance given together.
 
     Returns
     -------
     StarDraws
     """
     rng = np.random.default_rng(rng)
-    vals, cov = solution.values, solution.covariance
-    for i, key in ((2, "pm_ra_cosdec"), (3, "pm_dec")):
-        if not np.isfinite(vals[i]):
-            raise InputError(f"[star] {key}", "a proper motion (pm_ra_cosdec and pm_dec) is required for tracing (not given)")
-        if not (np.isfinite(cov[i, i]) and cov[i, i] >= 0):
-            raise InputError(f"[star] {key}_error", f"must be a finite non-negative error (got {np.sqrt(cov[i, i])})")
-    source = choose_distance_source(solution, distance_pc, distance_error_pc)
-    idx = np.array([0, 1, 2, 3])
-    mean = np.where(np.isfinite(vals[idx]), vals[idx], 0.0)
-    c4 = np.nan_to_num(cov[np.ix_(idx, idx)], nan=0.0)
-    if source == "parallax":
-        w, sw2 = vals[4], cov[4, 4]
-        w_true = sample_true_parallax(w, np.sqrt(sw2), distance_prior, n, rng)
-        c_op = np.nan_to_num(cov[idx, 4], nan=0.0)
-        cond_cov = c4 - np.outer(c_op, c_op) / sw2
-        base = _mvn(np.zeros(4), cond_cov, n, rng)
-        draws4 = mean + base + (w_true - w)[:, None] * (c_op / sw2)
-        dist = 1000.0 / w_true
-    else:
-        draws4 = _mvn(mean, c4, n, rng)
-        dist = sample_distance_gaussian(float(distance_pc), float(distance_error_pc or 0.0), n, rng)
-    dec = solution.dec_deg + draws4[:, 1] / 3.6e6
-    ra = (solution.ra_deg + draws4[:, 0] / 3.6e6 / np.cos(np.radians(dec))) % 360.0
-    pmra, pmdec = draws4[:, 2], draws4[:, 3]
+    check_proper_motion(solution)
+    if posterior is None:
+        posterior = star_distance_posterior(solution, distance_prior, distance_pc=distance_pc,
+                                            distance_error_pc=distance_error_pc, distance_from=distance_from)
+    ra, dec, dist, pmra, pmdec = draw_astrometry(solution, posterior, n, rng)
     if radial_velocity is not None:
         rv = radial_velocity + (radial_velocity_error or 0.0) * rng.standard_normal(n)
         rv_source = "measured"
     else:
         rv = radial_velocity_from_prior(frame, ra, dec, dist, pmra, pmdec, velocity_prior, rng)
         rv_source = "prior"
-    return StarDraws(ra, dec, dist, pmra, pmdec, rv, source, rv_source)
+    return StarDraws(ra, dec, dist, pmra, pmdec, rv, posterior.source, rv_source, posterior)
 
 
 def rotated_proper_motions(draws, rng, *, frame, velocity_prior):
@@ -222,4 +238,4 @@ def rotated_proper_motions(draws, rng, *, frame, velocity_prior):
     else:
         rv = draws.radial_velocity.copy()
     return StarDraws(draws.ra_deg, draws.dec_deg, draws.distance_pc, pmra, pmdec, rv,
-                     draws.distance_source, draws.rv_source)
+                     draws.distance_source, draws.rv_source, draws.posterior)

@@ -93,6 +93,7 @@ class TraceResult(ResultDisplay):
             "velocity_prior": cfg["velocity_prior"].name,
             "distance_prior": cfg["distance_prior"].name,
             "distance_source": draws.distance_source,
+            "distance_words": None if draws.posterior is None else draws.posterior.words(cfg.get("parallax_origin")),
             "radial_velocity_source": draws.rv_source,
             "max_age_yr": cfg["max_age"] * 1e6,
             "time_steps": cfg["time_steps"],
@@ -153,6 +154,22 @@ class TraceResult(ResultDisplay):
         j = self.data["index"][name]
         mask = self.data["masks"][name]
         return self.data["main"]["tau"][j][mask].astype(float) * 1e6 * u.yr
+
+    def distance_pc(self):
+        """Median and central 68% / 95% interval (pc) of the star's distance over all its draws."""
+        iv = interval(self.data["draws"].distance_pc) if "draws" in self.data else {}
+        return {k: iv.get(k) for k in ("median", "lo68", "hi68", "lo95", "hi95")}
+
+    def transverse_velocity_kms(self):
+        """Heliocentric transverse speed 4.74047 mu d (km/s; mu in mas/yr, d in kpc) over the same draws."""
+        if "draws" not in self.data:
+            return {k: None for k in ("median", "lo68", "hi68", "lo95", "hi95")}
+        dr = self.data["draws"]
+        from .frames import K_MASYR_KPC
+
+        vt = K_MASYR_KPC * np.hypot(dr.pm_ra_cosdec, dr.pm_dec) * dr.distance_pc / 1000.0
+        iv = interval(vt)
+        return {k: iv.get(k) for k in ("median", "lo68", "hi68", "lo95", "hi95")}
 
     def plane_crossing_age_samples(self):
         """Plane-crossing ages (yr) of the star draws that crossed within the window."""
@@ -239,6 +256,9 @@ class TraceResult(ResultDisplay):
             "neighbourhood_share": field.get("neighbourhood_share"),
             "neighbourhood_scale_pc": field.get("neighbourhood_scale_pc"),
             "probability_threshold": field.get("probability_threshold"),
+            "distance_pc": self.distance_pc(),
+            "distance_source": self.settings.get("distance_source"),
+            "transverse_velocity_kms": self.transverse_velocity_kms(),
             "plane_crossing_age_yr": interval(pc),
             "plane_crossing_fraction": float(pc.size / self.n_samples) if self.n_samples else None,
             "plane_crossing_caveats": self.plane_crossing_caveats(),
@@ -325,9 +345,7 @@ def _assumptions(cfg, draws):
     if draws.rv_source == "prior":
         out.append(f"Unknown radial velocity drawn from the {cfg['velocity_prior'].name} velocity distribution "
                    "conditional on the transverse peculiar speed")
-    if draws.distance_source == "parallax":
-        out.append(f"Distance from the parallax with the {cfg['distance_prior'].name} space-density prior "
-                   "(Bailer-Jones 2015, PASP 127, 994)")
-    else:
-        out.append("Distance from [star] distance with a Gaussian error truncated at zero")
+    if draws.posterior is not None:
+        out.append(draws.posterior.assumption(cfg.get("parallax_origin")))
     return out
+

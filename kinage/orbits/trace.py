@@ -24,7 +24,8 @@ from ..associations import draw_associations, read_associations
 from ..astrometry import AstrometricSolution
 from ..errors import InputError
 from ..kinematics import distance_prior as make_distance_prior
-from ..kinematics import draw_star, rotated_proper_motions, velocity_prior as make_velocity_prior
+from ..kinematics import draw_star, rotated_proper_motions, scenario_distance_posterior
+from ..kinematics import velocity_prior as make_velocity_prior
 from ..params.registry import galaxy_pair
 from ..progress import progress_bar
 from .chunks import chunk_rows, integrate_associations, run_draws
@@ -128,10 +129,11 @@ def trace(scenario, *, solution=None, rng=None, samples=None, potential=None, pr
     if solution is None:
         solution = AstrometricSolution.from_star(scenario.star)
     star = scenario.star
+    posterior = scenario_distance_posterior(scenario, solution, prior=cfg["distance_prior"])
+    cfg["parallax_origin"] = _parallax_origin(scenario, solution)
+    cfg["warnings"] = cfg["warnings"] + [w[0].upper() + w[1:] + "." for w in posterior.warnings]
     draws = draw_star(solution, cfg["n"], star_rng, frame=frame, velocity_prior=cfg["velocity_prior"],
-                      distance_prior=cfg["distance_prior"], distance_pc=star.value("distance", "pc"),
-                      distance_error_pc=star.value("distance_error", "pc"),
-                      radial_velocity=star.value("radial_velocity", "km/s"),
+                      posterior=posterior, radial_velocity=star.value("radial_velocity", "km/s"),
                       radial_velocity_error=star.value("radial_velocity_error", "km/s"))
     adraws = draw_associations(table, cfg["m"], assoc_rng)
     times = time_grid(cfg["max_age"], cfg["time_steps"])
@@ -181,6 +183,13 @@ def trace(scenario, *, solution=None, rng=None, samples=None, potential=None, pr
         failed=failed, main=main, assoc=assoc, times=times, cols=cols, n_control=n_control, solution=solution)
     result.data["control"] = None if ctrl is None else {"dmin": ctrl["dmin"], "tau": ctrl["tau"]}  # for figures
     return result
+
+
+def _parallax_origin(scenario, solution):
+    """'timing fit', '[star]' or 'timing fit and [star]': where the solution's parallax comes from."""
+    timing = "timing" in str(solution.source)
+    typed = scenario.star.get("parallax") is not None
+    return "timing fit and [star]" if timing and typed else ("timing fit" if timing else "[star]")
 
 
 def _summaries(cfg, adraws, afailed, draws, main, ctrl, cores=1):

@@ -203,6 +203,9 @@ def report_sections(run):
             result = run.stages[name]
             data = to_jsonable(result.to_dict())
             blocks = [{"kind": "text", "text": result.summary()}]
+            if name == "trace" and isinstance(data.get("distance_pc"), dict) and data["distance_pc"].get("median"):
+                # the star's one distance, stated once: the ages stage's Shklovskii term uses the same draws
+                blocks.append({"kind": "text", "text": _distance_sentence(data, "ages" in run.stages)})
             used = False
             for f in _files(run, name, (".png",)):
                 header, rows = _figure_rows(name, Path(f).stem, data, raw, plx)
@@ -229,6 +232,16 @@ def report_sections(run):
             parts.append((name, blocks))
         out.append((question, parts))
     return out
+
+
+def _distance_sentence(data, ages):
+    """'Distance: 800 pc (68%: 730–890 pc) from ... .' for the trace section."""
+    words = (data.get("settings") or {}).get("distance_words")
+    text = nb.distance_text(data["distance_pc"], data.get("distance_source"), words=words)
+    vt = data.get("transverse_velocity_kms") or {}
+    speed = f"; transverse speed {nb.fmt_interval(vt, 'km/s')} (heliocentric)" if vt.get("median") else ""
+    tail = "; the ages stage's Shklovskii correction uses the same draws" if ages else ""
+    return f"Distance of the star, over all draws: {text}{speed}{tail}."
 
 
 def _astrometry_rows(run):

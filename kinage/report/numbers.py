@@ -21,7 +21,8 @@ from ..display.numbers import (_age_unit, _g2, fit_constrained, fmt, fmt_age, fm
                                fmt_interval, fmt_power, round_to_error, value_error)
 
 __all__ = ["stage_rows", "fmt", "fmt_interval", "value_error", "fmt_age", "fmt_age_interval", "fmt_duration_s",
-           "round_to_error", "fmt_power", "expected_parallax_mas", "astrometry_source_words", "LABELS"]
+           "round_to_error", "fmt_power", "expected_parallax_mas", "astrometry_source_words", "LABELS",
+           "distance_text", "shklovskii_text"]
 
 #: words for JSON keys that may reach a table
 LABELS = {
@@ -143,6 +144,10 @@ def trace_rows(d):
     assocs = d.get("associations") if isinstance(d.get("associations"), list) else []
     rows.append(("favoured birth association", d.get("favoured") or "none"))
     rows.append(("draws of the star", str(d.get("n_samples"))))
+    if isinstance(d.get("distance_pc"), dict) and d["distance_pc"].get("median") is not None:
+        rows.append(("distance of the star, over all draws",
+                     distance_text(d["distance_pc"], d.get("distance_source"),
+                                   words=(d.get("settings") or {}).get("distance_words"))))
     rows += plane_crossing_rows(d)
     if d.get("field_probability") is not None:
         rows.append(("probability of no listed association (field, including their surroundings)",
@@ -187,9 +192,36 @@ def _trace_settings(s):
         parts.append(f"potential {s['potential']}")
     if s.get("astrometry_source"):
         parts.append(f"astrometry from the {astrometry_source_words(s['astrometry_source'])}")
-    if s.get("distance_source"):
-        parts.append(f"distance from the {s['distance_source']}")
     return ", ".join(parts) or "n/a"
+
+
+def distance_text(iv, source, words=None):
+    """'800 (68%: 730–890) pc from the parallax ... combined with the distance estimate ...'.
+
+    ``words`` (the posterior's own description, ``settings.distance_words`` of a trace) replaces the
+    generic words for ``source``.
+    """
+    words = words or {"parallax": "the parallax", "distance": "the [star] distance",
+                      "parallax+distance": "the parallax combined with the [star] distance estimate"}.get(
+        source, source or "n/a")
+    if (iv.get("median") or 0) >= 2000.0:  # kpc, the unit people use for distant stars
+        iv = {k: (v / 1000.0 if isinstance(v, (int, float)) and k != "n" else v) for k, v in iv.items()}
+        return f"{fmt_interval(iv, 'kpc')} from {words}"
+    return f"{fmt_interval(iv, 'pc')} from {words}"
+
+
+def shklovskii_text(shk):
+    """The Shklovskii row: the term, and the distance only when it is not the trace's (then it is stated there)."""
+    iv = shk.get("pdot_shk_interval") or {}
+    term = "n/a"
+    if iv.get("median") is not None:
+        term = f"{fmt_power(iv['median'])} s/s"
+        if iv.get("lo68") is not None and iv.get("hi68") is not None:
+            term += f" (68%: {fmt_power(iv['lo68'])} to {fmt_power(iv['hi68'])})"
+    if shk.get("distance_from_trace"):
+        return f"{term}, with the trace's distance and proper-motion draws"
+    dist = shk.get("distance_interval_pc") or {}
+    return f"{term}, at the distance {distance_text(dist, shk.get('distance_source'), shk.get('distance_words'))}"
 
 
 def _pct(x, err=None):
@@ -253,6 +285,11 @@ def ages_rows(d, raw_star=None):
             err = raw_star.get(f"{key}_error")
             rows.append((f"input: {key.replace('_', ' ')}",
                          f"{raw_star[key]}" + (f" ± {err}" if err is not None else "")))
+    shk = d.get("shklovskii") or {}
+    if shk.get("applied"):
+        rows.append(("Shklovskii term P v_t^2/(c d) subtracted", shklovskii_text(shk)))
+    elif shk.get("note"):
+        rows.append(("Shklovskii term", str(shk["note"])))
     rows.append(("kinematic age", fmt_age_interval(d.get("kinematic_age_yr"))
                  + (f" ({d['kinematic_age_source']})" if d.get("kinematic_age_source") else "")))
     u = d.get("uncertainties") or {}

@@ -51,7 +51,7 @@ from .reference import resolve_reference, timing_assumptions
 from .toas import (_period_text, check_errors_against_period, check_fit_table, frequency_column, read_toas, site_times,
                    validate_toas)
 
-__all__ = ["fit_toas", "FitResult", "STEP_TOLERANCE"]
+__all__ = ["fit_toas", "FitResult", "STEP_TOLERANCE", "check_errors_against_period"]
 
 #: converged when every step is below this fraction of its parameter's error
 STEP_TOLERANCE = 1e-3

@@ -4,7 +4,7 @@ Spin: freq = 1/P, freq_dot = -Pdot/P^2 (from ``[star] spin_period`` and
 ``spin_period_derivative``).  Expected proper motion: the scenario's, else a
 transverse speed (``[star] transverse_velocity``, else the median projected
 speed of the velocity prior named in ``[trace] velocity_prior``, else
-'hobbs2005') over the distance (``distance``, else 1/parallax):
+'hobbs2005') over the distance (the median of the star's distance posterior, as in the trace):
 mu [mas/yr] = v_t [km/s] / (4.74047 d [kpc]).  Per-visit TOA errors: the
 scenario's ``toa_error`` when given (it takes precedence), else the photon
 Cramér–Rao bound of :mod:`kinage.timing.photons` times the spin period.
@@ -48,8 +48,22 @@ def dispersion_measure(star):
         return 0.0
 
 
-def distance_pc(star):
-    """Distance in pc from ``distance`` or 1/``parallax`` (None if neither is usable)."""
+def distance_pc(star, scenario=None):
+    """Distance in pc: the median of the star's distance posterior (the one the trace and the ages use).
+
+    Without a ``scenario`` or without a posterior (no position, a parallax without error): ``distance``, else
+    1/``parallax``; None if neither is usable.
+    """
+    if scenario is not None and star.get("ra") is not None and star.get("dec") is not None \
+            and (star.get("distance") is not None or star.get("parallax_error") is not None):
+        from ..astrometry import AstrometricSolution
+        from ..errors import InputError
+        from ..kinematics.star_distance import scenario_distance_posterior
+
+        try:
+            return scenario_distance_posterior(scenario, AstrometricSolution.from_star(star)).summary()["median"]
+        except InputError:
+            pass
     d = star.value("distance", "pc")
     if d is not None:
         return d
@@ -91,7 +105,7 @@ def expected_proper_motion(scenario):
     """The expected proper motion (see module docstring)."""
     star = scenario.star
     pra, pdec = star.value("pm_ra_cosdec", "mas/yr"), star.value("pm_dec", "mas/yr")
-    d = distance_pc(star)
+    d = distance_pc(star, scenario)
     if pra is not None and pdec is not None:
         mu = float(np.hypot(pra, pdec))
         direc = np.array([pra, pdec]) / mu if mu > 0 else None
@@ -112,7 +126,7 @@ def expected_proper_motion(scenario):
         source = f"median projected speed of velocity prior '{name}'"
     if d is None:
         return ExpectedMotion(None, None, source, vt, None, sets,
-                              "no distance or positive parallax: expected proper motion unknown")
+                              "no distance or parallax: expected proper motion unknown")
     mu = vt / (K_KMS_PER_MASYR_KPC * d / 1000.0)
     return ExpectedMotion(float(mu), None, source, float(vt), d, sets)
 

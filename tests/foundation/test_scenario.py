@@ -98,7 +98,7 @@ def test_sexagesimal_position():
 def test_bad_value_message_names_field(table, key, value, fragment):
     raw = {"star": dict(STAR)}
     if table == "campaign":
-        raw["campaign"] = {"start": "2027-01-01", "baseline": 3, "visits_per_year": 4, "toa_error": 0.01}
+        raw["campaign"] = {"start": "2027-01-01", "baseline": 3, "visits_per_year": 4, "toa_error": "10 ms"}
     elif table != "star":
         raw[table] = {}
     raw[table][key] = value

@@ -54,7 +54,7 @@ def test_closed_form_white_noise_precision():
     pa = src.position_angle(SkyCoord(lon=0 * u.deg, lat=90 * u.deg, **frame).icrs).rad
     u_lat = np.array([np.sin(pa), np.cos(pa)])  # (ra*cos dec, dec) components of ecliptic north
     u_lon = np.array([np.cos(pa), -np.sin(pa)])
-    s = _scenario(star={"ra": src.ra.deg, "dec": src.dec.deg}, toa_error=sigma, visits_per_year=vpy,
+    s = _scenario(star={"ra": src.ra.deg, "dec": src.dec.deg}, toa_error=sigma * u.s, visits_per_year=vpy,
                   baseline=base, sun_avoidance=0, max_baseline=base)
     res = forecast(s)
     cov = res.solution.covariance[2:4, 2:4]
@@ -104,7 +104,7 @@ def test_reverse_question_is_consistent():
     s = _scenario(target_pm_error=0.5)
     res = forecast(s)
     need = res.reverse["toa_error_needed_s"]
-    again = forecast(_scenario(target_pm_error=0.5, toa_error=need))
+    again = forecast(_scenario(target_pm_error=0.5, toa_error=need * u.s))
     assert again.pm_error_along_motion == pytest.approx(0.5, rel=1e-3)
 
 

@@ -17,14 +17,14 @@ pytestmark = pytest.mark.filterwarnings("ignore:ERFA function")
 
 
 def _campaign(**kw):
-    c = {"start": "2028-01-01", "baseline": 3, "visits_per_year": 12, "toa_error": 1e-3, "sun_avoidance": 45}
+    c = {"start": "2028-01-01", "baseline": 3, "visits_per_year": 12, "toa_error": "1 ms", "sun_avoidance": 45}
     c.update(kw)
     return scenario_from_dict({"star": {"ra": RA, "dec": DEC}, "campaign": c}).campaign
 
 
 def _dated_campaign(dates):
     # explicit dates replace start/baseline/visits_per_year (giving both is an input conflict)
-    c = {"dates": dates, "toa_error": 1e-3, "sun_avoidance": 45}
+    c = {"dates": dates, "toa_error": "1 ms", "sun_avoidance": 45}
     return scenario_from_dict({"star": {"ra": RA, "dec": DEC}, "campaign": c}).campaign
 
 

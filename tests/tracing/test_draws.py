@@ -98,14 +98,24 @@ def test_parallax_and_pm_correlation_is_kept():
 
 @pytest.mark.parametrize("values, sig, field", [
     ([0, 0, np.nan, np.nan, 2.0], [1, 1, np.nan, np.nan, 0.2], "pm_ra_cosdec"),
-    ([0, 0, 5.0, 5.0, 0.0], [1, 1, 1, 1, 2.0], "parallax"),
-    ([0, 0, 5.0, 5.0, -0.5], [1, 1, 1, 1, 0.3], "parallax"),
+    ([0, 0, 5.0, 5.0, 0.5], [1, 1, 1, 1, 0.0], "parallax_error"),
+    ([0, 0, 5.0, 5.0, np.nan], [1, 1, 1, 1, np.nan], "parallax"),
 ])
 def test_bad_star_input_names_the_field(values, sig, field):
     sol = _solution(values, sig)
     with pytest.raises(InputError, match=field):
         draw_star(sol, 10, 0, frame=solar_frame("astropy-v4.0"), velocity_prior=velocity_prior("hobbs2005"),
                   distance_prior=distance_prior("exponential"))
+
+
+@pytest.mark.parametrize("w, s", [(0.0, 2.0), (-0.5, 0.3), (0.3, 0.4)])
+def test_weak_zero_and_negative_parallaxes_are_traced(w, s):
+    # Bailer-Jones 2015 (PASP 127, 994): with a space-density prior the posterior is proper for any measured
+    # parallax, so such stars get positive distances instead of a refusal.
+    sol = _solution([0, 0, 5.0, 5.0, w], [1, 1, 1, 1, s])
+    dr = draw_star(sol, 200, 0, frame=solar_frame("astropy-v4.0"), velocity_prior=velocity_prior("hobbs2005"),
+                   distance_prior=distance_prior("exponential"))
+    assert np.all(dr.distance_pc > 0) and dr.distance_source == "parallax"
 
 
 @pytest.mark.parametrize("kind, name", [("velocity_prior", "nope"), ("distance_prior", "nope")])

@@ -50,10 +50,34 @@ def test_value_out_of_range_or_not_finite(tmp_path, capsys, table, key, value, v
     _bad(tmp_path, capsys, verb, raw, f"[{table}] {key}")
 
 
-def test_parallax_and_distance_both_given(tmp_path, capsys):
-    raw = scenario_dict(star={"distance": "4800 pc"})  # 13x the parallax distance
-    line = _bad(tmp_path, capsys, "trace", raw, "distance", "parallax")
-    assert "distance_from" in line  # says which key resolves the conflict
+def test_parallax_and_distance_both_given_are_combined(tmp_path, capsys):
+    # independent measurements multiply (Bailer-Jones 2015, PASP 127, 994, eq. 3 with a second likelihood);
+    # a distance 2.5x the parallax distance is a tension the run states, not a refusal
+    import json
+
+    raw = scenario_dict(star={"distance": "1300 pc", "distance_error": "150 pc"})
+    path = write_case(tmp_path / "in", raw)
+    status, _, err = run_cli(["trace", path, "--out", tmp_path / "out", "--json", tmp_path / "res.json"], capsys)
+    assert status == 0, err
+    d = json.loads((tmp_path / "res.json").read_text())
+    d = d.get("trace", d)
+    assert d["distance_source"] == "parallax+distance"
+    assert any("disagree" in w and "distance_from" in w for w in d["warnings"])
+
+
+def test_distance_without_error_runs_as_exact_with_a_warning(tmp_path, capsys):
+    import json
+
+    raw = scenario_dict(star={"distance": "520 pc", "parallax": None, "parallax_error": None})
+    path = write_case(tmp_path / "in", raw)
+    status, _, err = run_cli(["trace", path, "--out", tmp_path / "out", "--json", tmp_path / "res.json"], capsys)
+    assert status == 0, err
+    d = json.loads((tmp_path / "res.json").read_text())
+    d = d.get("trace", d)
+    assert d["distance_pc"]["lo95"] == d["distance_pc"]["hi95"] == 520.0
+    assert any("distance_error" in w and "exact" in w for w in d["warnings"])
+    assert any("taken as exact" in a for a in d["assumptions"])
+    assert not any("truncated at zero" in a for a in d["assumptions"])
 
 
 @pytest.mark.parametrize("use", ["parallax", "distance"])
