@@ -18,7 +18,7 @@ KEYS = (("ra_mas", "ra"), ("dec_mas", "dec"), ("pm_ra_cosdec_masyr", "pm_ra_cosd
         ("parallax_mas", "parallax"))
 REFERENCES = {
     "geocentre": {},
-    "site": {"toa_reference": "site", "site_longitude": 116.45, "site_latitude": 40.1, "site_height": "1200 m"},
+    "site": {"toa_reference": "site", "site_longitude": 90.0, "site_latitude": -30.0, "site_height": "10 m"},  # invented: central Indian Ocean, > 1500 km from any observatory
     "barycentre": {"toa_reference": "barycentre", "barycentred_ra": 233.6002, "barycentred_dec": -11.4001},
 }
 

@@ -2,8 +2,8 @@
 
 Every star, name and number here is invented.  Formulas: Lorimer & Kramer 2005, Handbook of Pulsar Astronomy,
 ch. 3 (tau_c = P/(2 Pdot), t = P/((n-1) Pdot) [1 - (P0/P)^(n-1)], B = 3.2e19 sqrt(P Pdot) G,
-Edot = 4 pi^2 I Pdot / P^3); exponential field decay tau_c = (tau_d/2)(exp(2t/tau_d) - 1) (field-decay
-relation of the design notes, solved here with scipy's brentq, not kinage's closed form).
+Edot = 4 pi^2 I Pdot / P^3); exponential field decay tau_c = (tau_d/2)(exp(2t/tau_d) - 1) (follows
+from B = B0 exp(-t/tau_d) under dipole spin-down, cf. Aguilera, Pons & Miralles 2008; solved here with scipy's brentq, not kinage's closed form).
 """
 
 import json

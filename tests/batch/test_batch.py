@@ -133,7 +133,7 @@ def test_interrupted_batch_resumes_without_loss_or_duplicates(inputs, reference,
     os.killpg(p.pid, sig)
     p.communicate(timeout=120)
     n_done = len(list((out / "stars").glob("*/star.json")))
-    # 130 after SIGINT, 143 after SIGTERM (128 + signal number), each with a message (issue 15)
+    # 130 after SIGINT, 143 after SIGTERM (128 + signal number), each with a message (POSIX shell convention)
     assert p.returncode == 128 + sig and n_done < N_STARS or p.returncode == 0 and n_done == N_STARS
     r = _batch(inputs, out, "--workers", "2", "--quiet")
     assert r.returncode == 0, r.stderr

@@ -1,6 +1,6 @@
 """Extended-precision times and phases against exact rational arithmetic (Python ``fractions``/``decimal``).
 
-Requirement (issue 10): the phase round-off stays below 1 ns equivalent for a 1.5 ms pulsar over 30 years
+Requirement (project rule, no source): the phase round-off stays below 1 ns equivalent for a 1.5 ms pulsar over 30 years
 (~6e11 cycles, where a float64 phase is rounded to ~1e-4 cycles = 100 ns).
 """
 

@@ -39,7 +39,7 @@ def test_simulated_table_format(tmp_path):
 
 
 def test_closure_recovers_injected_motion():
-    # Closure (issue requirement): simulate with an injected proper motion, fit, and recover it within 3 sigma in
+    # Closure test (kinage simulates, kinage fits; not an outside check): simulate with an injected proper motion, fit, and recover it within 3 sigma in
     # >= 95% of seeded trials, with fitted errors within 20% of the Fisher forecast.
     scn = _scenario()
     fc = forecast(scn).to_dict()["sigma"]

@@ -1,4 +1,4 @@
-"""Valid but unusual inputs run correctly; user text is escaped in the Markdown report (issue 15, item 6)."""
+"""Valid but unusual inputs run correctly; user text is escaped in the Markdown report."""
 
 import json
 
