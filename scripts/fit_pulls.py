@@ -31,7 +31,7 @@ def main(argv=None):
     from kinage.io.scenario import scenario_from_dict
     from kinage.timing import fit_toas, forecast, simulate_toas
 
-    star = {"ra": 233.6, "dec": -11.4, "distance": "700 pc", "spin_period": 0.00287,
+    star = {"ra": 233.6, "dec": -11.4, "distance": "700 pc", "spin_period": 0.00273,
             "spin_period_derivative": 3e-20, "pm_ra_cosdec": -8.0, "pm_dec": 5.5}
     print(f"{args.trials} trials per reference; pull spread (sd) and mean; fitted / forecast error")
     print(f"{'reference':>11} {'param':>19} {'pull sd':>8} {'mean':>6} {'err/fcst':>9}")

@@ -15,7 +15,7 @@ INJECT = {"pm_ra_cosdec": 12.0, "pm_dec": -7.0, "parallax": 4.0}
 
 def _scenario(**camp):
     # the scenario's own motion (the fit's starting point) differs from the injected one
-    star = {"ra": 120.4, "dec": 35.2, "distance": "400 pc", "spin_period": 0.35, "spin_period_derivative": 2e-15,
+    star = {"ra": 120.4, "dec": 35.2, "distance": "400 pc", "spin_period": 0.48, "spin_period_derivative": 2e-15,
             "pm_ra_cosdec": 0.0, "pm_dec": 0.0}
     c = {"start": "2028-02-01", "baseline": 5, "visits_per_year": 6, "toa_error": "40 us", "sun_avoidance": 0}
     c.update(camp)

@@ -20,7 +20,7 @@ MAS_RAD = (1 * u.mas).to_value(u.rad)
 pytestmark = pytest.mark.filterwarnings("ignore:ERFA function")
 
 def _scenario(star=None, trace=None, **camp):
-    s = {"ra": 53.2, "dec": -12.5, "distance": "300 pc", "spin_period": 0.25, "spin_period_derivative": 1e-15,
+    s = {"ra": 53.2, "dec": -12.5, "distance": "300 pc", "spin_period": 0.27, "spin_period_derivative": 1e-15,
          "pm_ra_cosdec": 30.0, "pm_dec": -20.0}
     s.update(star or {})
     s = {k: v for k, v in s.items() if v is not None}
@@ -214,8 +214,8 @@ def test_phase_connection_risk(sigma_p, at_risk):
     # phase error over the longest gap dt from the a-priori spin errors (Lorimer & Kramer 2005, sec. 8.4:
     # f = 1/P so sigma_f = sigma_P / P^2, sigma_fdot ~ sigma_Pdot / P^2):
     # sqrt((sigma_f dt)^2 + (sigma_fdot dt^2 / 2)^2 + 2 (sigma_TOA / P)^2) cycles, at risk above 0.1 cycle
-    # (common practice, no source).  Half-yearly visits, P = 0.25 s, 30 us TOAs.
-    p, sigma_pdot, toa = 0.25, 1e-17, 30e-6
+    # (common practice, no source).  Half-yearly visits, P = 0.27 s, 30 us TOAs.
+    p, sigma_pdot, toa = 0.27, 1e-17, 30e-6
     res = forecast(_scenario(star={"spin_period_error": sigma_p, "spin_period_derivative_error": sigma_pdot},
                              visits_per_year=2))
     pc = res.phase_connection
@@ -223,7 +223,7 @@ def test_phase_connection_risk(sigma_p, at_risk):
     assert pc["max_gap_days"] == pytest.approx(365.25 / 2, rel=0.05)
     expected = np.sqrt((sigma_p / p**2 * dt) ** 2 + (sigma_pdot / p**2 * dt**2 / 2) ** 2 + 2 * (toa / p) ** 2)
     assert pc["phase_error_cycles"] == pytest.approx(expected, rel=1e-9)
-    assert bool(expected > 0.1) is at_risk  # the two cases (0.76 and 0.025 cycles) straddle the limit
+    assert bool(expected > 0.1) is at_risk  # the two cases (0.65 and 0.022 cycles) straddle the limit
     assert pc["at_risk"] is at_risk
     assert any("phase connection at risk" in w for w in res.warnings) is at_risk
 
@@ -268,7 +268,7 @@ def test_forecast_from_existing_toa_table(tmp_path):
 
     planned = _scenario(sun_avoidance=0)
     path = simulate_toas(planned, rng=2).write(tmp_path / "t.ecsv")
-    star = {"ra": 53.2, "dec": -12.5, "distance": "300 pc", "spin_period": 0.25, "pm_ra_cosdec": 30.0,
+    star = {"ra": 53.2, "dec": -12.5, "distance": "300 pc", "spin_period": 0.27, "pm_ra_cosdec": 30.0,
             "pm_dec": -20.0}
     from_table = forecast(scenario_from_dict({"star": star, "campaign": {"toas": str(path), "max_baseline": 8}}))
     direct = forecast(planned)
