@@ -1,9 +1,10 @@
 """Fits of simulated TOAs: convergence at every TOA error and reference, calibrated pulls, forecast agreement.
 
-Outside references: the pull distribution of a correctly modelled linear Gaussian fit is the standard normal
-(any least-squares text, e.g. Press et al., Numerical Recipes, sec. 15.6); the Fisher forecast is the
-independent check of the errors (the project asks for agreement within 10%; common practice, no source).  The TOAs here come from kinage's
-own simulator (test_fit_independent.py uses an independent generator).
+Closure tests (kinage simulates, kinage fits; not counted as outside checks): the TOAs come from kinage's own
+simulator and the errors are compared with kinage's own Fisher forecast (agreement within 10%, a project rule).
+The pull distribution of a correctly modelled linear Gaussian fit is the standard normal (any least-squares
+text, e.g. Press et al., Numerical Recipes, sec. 15.6).  Outside checks of the same fit:
+test_fit_independent.py (TOAs from an independent generator) and tests/reference/test_timing_vs_astropy.py.
 """
 
 import json

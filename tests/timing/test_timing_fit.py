@@ -1,4 +1,10 @@
-"""Simulate and fit: closure, prior combination, convergence failures, products."""
+"""Simulate and fit: closure, prior combination, convergence failures, products.
+
+Closure tests: kinage's simulator makes the TOAs and kinage's fit reads them, so a sign or constant shared by
+both passes; they check consistency and bookkeeping, not physics, and are not counted as outside checks.  The
+outside checks of the same fit are tests/timing/test_fit_independent.py (TOAs from an independent generator) and
+tests/reference/test_timing_vs_astropy.py (delays and the parallax sign against astropy).
+"""
 
 import astropy.units as u
 import numpy as np
