@@ -13,10 +13,10 @@ Examples
 --------
 >>> import astropy.units as u
 >>> from kinage.ages import characteristic_age
->>> round(float(characteristic_age(4.271, 3.1e-14)) / 1e6, 3)   # plain numbers: s in, yr out
-2.183
->>> characteristic_age(4271 * u.ms, 3.1e-14).to(u.Myr).round(3)
-<Quantity 2.183 Myr>
+>>> round(float(characteristic_age(4.08, 3.1e-14)) / 1e6, 3)   # plain numbers: s in, yr out
+2.085
+>>> characteristic_age(4080 * u.ms, 3.1e-14).to(u.Myr).round(3)
+<Quantity 2.085 Myr>
 """
 
 import functools

@@ -23,10 +23,10 @@ def _scenario(n_toas, red, reference):
     if red:
         camp.update(red_noise_amplitude=3e-14, red_noise_index=4.0, red_noise_modes=30)
     if reference == "site":
-        camp.update(toa_reference="site", site_longitude=-64.6, site_latitude=18.3, site_height="500 m")
+        camp.update(toa_reference="site", site_longitude=-40.0, site_latitude=25.0, site_height="10 m")  # invented: mid-Atlantic, no observatory
     if reference == "barycentre":
         camp.update(toa_reference="barycentre", barycentred_ra=301.2, barycentred_dec=15.7)
-    star = {"ra": 301.2, "dec": 15.7, "distance": "1.1 kpc", "spin_period": 0.00347,
+    star = {"ra": 301.2, "dec": 15.7, "distance": "1.1 kpc", "spin_period": 0.00329,
             "spin_period_derivative": 5e-20, "pm_ra_cosdec": -6.0, "pm_dec": 2.5}
     return scenario_from_dict({"star": star, "campaign": camp})
 

@@ -17,7 +17,7 @@ probabilities:
 
 Usage::
 
-    python scripts/calibrate_probabilities.py --stars 240 --out /tmp/calib --figure docs/calibration.png
+    python scripts/calibrate_probabilities.py --stars 240 --out /tmp/calib --figure docs/calibration_reliability.png
 
 The population, truth labels and the batch output stay in ``--out``.  The
 fractions of births follow the prior the stars are run with: a fraction

@@ -18,7 +18,7 @@ KEYS = (("ra_mas", "ra"), ("dec_mas", "dec"), ("pm_ra_cosdec_masyr", "pm_ra_cosd
         ("parallax_mas", "parallax"))
 REFERENCES = {
     "geocentre": {},
-    "site": {"toa_reference": "site", "site_longitude": 116.45, "site_latitude": 40.1, "site_height": "1200 m"},
+    "site": {"toa_reference": "site", "site_longitude": 90.0, "site_latitude": -30.0, "site_height": "10 m"},  # invented: central Indian Ocean, > 1500 km from any observatory
     "barycentre": {"toa_reference": "barycentre", "barycentred_ra": 233.6002, "barycentred_dec": -11.4001},
 }
 
@@ -31,7 +31,7 @@ def main(argv=None):
     from kinage.io.scenario import scenario_from_dict
     from kinage.timing import fit_toas, forecast, simulate_toas
 
-    star = {"ra": 233.6, "dec": -11.4, "distance": "700 pc", "spin_period": 0.00287,
+    star = {"ra": 233.6, "dec": -11.4, "distance": "700 pc", "spin_period": 0.00273,
             "spin_period_derivative": 3e-20, "pm_ra_cosdec": -8.0, "pm_dec": 5.5}
     print(f"{args.trials} trials per reference; pull spread (sd) and mean; fitted / forecast error")
     print(f"{'reference':>11} {'param':>19} {'pull sd':>8} {'mean':>6} {'err/fcst':>9}")

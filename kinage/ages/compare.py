@@ -60,7 +60,7 @@ class AgesResult(ResultDisplay):
 
     # -- protocol -----------------------------------------------------------
     def to_dict(self):
-        """JSON-ready dict with the keys named by the ages issue plus extras."""
+        """JSON-ready dict: the documented ages keys (cooling, spin-down, comparison) plus extras."""
         cool = self.cooling.to_dict() if self.cooling is not None else None
         out = dict(self.values)
         out["cooling_age_yr"] = _short(self.cooling.pooled) if self.cooling is not None else dict(_EMPTY)

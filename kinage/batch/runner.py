@@ -28,6 +28,12 @@ __all__ = ["run_batch", "run_one_star", "plan_batch", "BatchPlan"]
 
 RESULT_FILE = "star.json"
 
+# Test hook: "N SIGNAME" (e.g. "1 SIGTERM") makes the batch send that signal once N stars have finished, so the
+# interruption path is exercised at a known point instead of after a timed wait.  When the batch leads its own
+# process group (started in a new session) the signal goes to the whole group, workers included, as a Ctrl-C
+# in a terminal or a job scheduler's kill would; otherwise only to the batch process.
+SIGNAL_AFTER_ENV = "KINAGE_BATCH_SIGNAL_AFTER"
+
 
 class BatchPlan:
     """Which stars to run and which to skip.
@@ -250,6 +256,21 @@ def _connect(Client, address):
                                         f"({kind}); check the address and that it is a dask scheduler") from None
 
 
+def _signal_after_hook():
+    """``(n_finished, signal)`` from the ``KINAGE_BATCH_SIGNAL_AFTER`` test hook, or None when unset."""
+    value = os.environ.get(SIGNAL_AFTER_ENV, "").split()
+    if len(value) != 2 or not value[0].isdigit() or value[1] not in ("SIGINT", "SIGTERM"):
+        return None
+    return int(value[0]), getattr(signal, value[1])
+
+
+def _send_hook_signal(sig):
+    if os.getpgid(0) == os.getpid():
+        os.killpg(os.getpid(), sig)
+    else:
+        signal.raise_signal(sig)
+
+
 def _sigterm_as_interrupt(*_):
     from ..interrupts import Terminated
 
@@ -280,6 +301,7 @@ def _run_batch_locked(args, plan, as_completed, write_summary):
     records = list(plan.done)
     timing = {"n_run": len(plan.todo), "workers": None if args.scheduler else args.workers}
     t_start = time.perf_counter()
+    hook = _signal_after_hook()
     try:
         if not plan.todo:
             prepare_folders(plan.out_dir)
@@ -296,6 +318,8 @@ def _run_batch_locked(args, plan, as_completed, write_summary):
                     records.append(rec)
                     say(f"[{n}/{len(futures)}] {rec['name']}: {rec['status']}"
                         + (f" ({rec['reason']})" if rec.get("reason") else ""))
+                    if hook is not None and n == hook[0]:
+                        _send_hook_signal(hook[1])
                 # from submission to the last result: includes the workers' first imports
                 timing["tasks_s"] = time.perf_counter() - t_submit
     finally:

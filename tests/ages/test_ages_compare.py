@@ -18,7 +18,7 @@ REQUIRED = ("characteristic_age_yr", "dipole_field_gauss", "spin_down_luminosity
 
 
 def _scn(star=None, ages=None, trace=None):
-    base = {"name": "Lumen-4", "spin_period": 7.2, "spin_period_error": 1e-6, "spin_period_derivative": 3.0e-14,
+    base = {"name": "Lumen-4", "spin_period": 6.2, "spin_period_error": 1e-6, "spin_period_derivative": 2.6e-14,
             "spin_period_derivative_error": 1e-15, "temperature": "90 eV", "temperature_error": "4 eV"}
     base.update(star or {})
     raw = {"star": {k: v for k, v in base.items() if v is not None}}
@@ -78,7 +78,7 @@ def test_decay_timescale_recovered_from_consistent_inputs():
 
 
 def test_kinematic_samples_consistent_with_characteristic_age():
-    tc = characteristic_age(7.2, 3.0e-14)
+    tc = characteristic_age(6.2, 2.6e-14)
     rng = np.random.default_rng(11)
     samples = tc * np.exp(rng.normal(0, 0.2, 3000))
     r = compare_ages(_scn(), kinematic_age_samples=samples, kinematic_age_source="trace: association Corvi-9", rng=3)
@@ -99,7 +99,7 @@ def test_lognormal_kinematic_age_draws():
 
 
 def test_kinematic_older_than_max_age_has_no_initial_period():
-    tc = characteristic_age(7.2, 3.0e-14)
+    tc = characteristic_age(6.2, 2.6e-14)
     d = compare_ages(_scn(ages={"kinematic_age": f"{3 * tc} yr"}), rng=5).to_dict()
     assert d["implied_initial_period_s"] is None
     assert "no solution" in d["implied_initial_period_note"]
@@ -116,11 +116,11 @@ def test_spinning_up_star_is_reported_not_fatal():
 
 
 def test_shklovskii_can_turn_a_star_into_a_spinning_up_one():
-    # Pdot_shk = P mu^2 d / c ~ 2.43e-21 P mu^2 d (Shklovskii 1970): 7.2 s, 300 mas/yr, 2 kpc -> 3.1e-15
+    # Pdot_shk = P mu^2 d / c ~ 2.43e-21 P mu^2 d (Shklovskii 1970): 6.2 s, 300 mas/yr, 2 kpc -> 2.7e-15
     scn = _scn(star={"spin_period_derivative": 2e-15, "spin_period_derivative_error": None, "pm_ra_cosdec": 300.0,
                      "pm_dec": 0.0, "distance": "2 kpc"})
     d = compare_ages(scn, rng=1).to_dict()
-    assert d["shklovskii"]["pdot_shk_nominal"] == pytest.approx(2.43e-21 * 7.2 * 300**2 * 2, rel=0.01, abs=0)
+    assert d["shklovskii"]["pdot_shk_nominal"] == pytest.approx(2.43e-21 * 6.2 * 300**2 * 2, rel=0.01, abs=0)
     assert d["spinning_up"] is True
 
 

@@ -69,7 +69,7 @@ def test_demo_stars_are_not_known_neutron_stars(star):
         if near_p:
             # a period may be shared by chance: then temperature and distance must differ clearly
             assert (kkt is None or kt is None or abs(kt / kkt - 1) > 0.15) or abs(dist / kd - 1) > 0.3, kname
-    # the periods the project rules keep away from (RULES.md)
+    # the periods the house rule keeps away from (the full list: tests/foundation/test_invented_stars.py)
     for avoid in (3.45, 7.06, 8.39, 9.43, 10.31, 11.37, 0.0334, 0.0893, 0.237):
         assert abs(period / avoid - 1) >= 0.03
 

@@ -16,19 +16,27 @@ from scipy import stats
 from kinage import scenario_from_dict
 from kinage._galpy import import_galpy
 from kinage.orbits import trace
-from kinage.orbits.frames import solar_frame
 
 pytestmark = pytest.mark.filterwarnings("ignore::UserWarning", "ignore::RuntimeWarning")
 
 HEADER = ("name,ra,dec,distance,distance_error,pm_ra_cosdec,pm_ra_cosdec_error,pm_dec,pm_dec_error,"
           "radial_velocity,radial_velocity_error,radius,age")
-# invented association (position, distance pc, proper motion mas/yr, radial velocity km/s)
-ASSOC = dict(name="Lyra Nova-1", ra=100.0, dec=5.0, distance=450.0, pm_ra_cosdec=-1.5, pm_dec=-0.5, rv=18.0)
+# invented association (position, distance pc, proper motion mas/yr, radial velocity km/s), placed at
+# l = 52 deg, b = -4.5 deg where no young association is known within ~1 kpc
+ASSOC = dict(name="Lyra Nova-1", ra=295.91, dec=14.72, distance=450.0, pm_ra_cosdec=-1.5, pm_dec=-0.5, rv=18.0)
 
 
-def _galcen_kwargs(frame):
-    return dict(galcen_distance=frame.r0_kpc * u.kpc, z_sun=frame.z0_kpc * u.kpc,
-                galcen_v_sun=coord.CartesianDifferential(frame.v_sun_kms * u.km / u.s))
+# The Sun of galpy's MWPotential2014 set-up, typed in from the papers rather than taken from kinage's parameter
+# sets (so a wrong solar value in kinage cannot cancel): R0 = 8 kpc and vc = 220 km/s (Bovy 2015, ApJS 216, 29),
+# solar motion (U, V, W) = (11.1, 12.24, 7.25) km/s (Schoenrich, Binney & Dehnen 2010, MNRAS 403, 1829),
+# z_sun = 20.8 pc (Bennett & Bovy 2019, MNRAS 482, 1417); astropy's Galactocentric v_sun = (U, vc + V, W).
+R0_KPC, Z_SUN_KPC = 8.0, 0.0208
+V_SUN_KMS = (11.1, 220.0 + 12.24, 7.25)
+
+
+def _galcen_kwargs():
+    return dict(galcen_distance=R0_KPC * u.kpc, z_sun=Z_SUN_KPC * u.kpc,
+                galcen_v_sun=coord.CartesianDifferential(V_SUN_KMS * u.km / u.s))
 
 
 def fly_star(rng, age_myr, kick_kms=350.0):
@@ -37,11 +45,10 @@ def fly_star(rng, age_myr, kick_kms=350.0):
     from galpy.orbit import Orbit
     from galpy.potential import MWPotential2014
 
-    frame = solar_frame("galpy-default")
     a = ASSOC
     c = coord.SkyCoord(ra=a["ra"] * u.deg, dec=a["dec"] * u.deg, distance=a["distance"] * u.pc,
                        pm_ra_cosdec=a["pm_ra_cosdec"] * u.mas / u.yr, pm_dec=a["pm_dec"] * u.mas / u.yr,
-                       radial_velocity=a["rv"] * u.km / u.s, **_galcen_kwargs(frame))
+                       radial_velocity=a["rv"] * u.km / u.s, **_galcen_kwargs())
     assoc = Orbit(c, ro=8.0, vo=220.0)
     assoc.integrate(np.linspace(0.0, -age_myr, 201) * u.Myr, MWPotential2014, method="dop853_c")
     t_birth = -age_myr * u.Myr
@@ -55,7 +62,7 @@ def fly_star(rng, age_myr, kick_kms=350.0):
     vR = vx * np.cos(phi) + vy * np.sin(phi)
     vT = -vx * np.sin(phi) + vy * np.cos(phi)
     star = Orbit([R / 8.0, vR / 220.0, vT / 220.0, z / 8.0, vz / 220.0, phi], ro=8.0, vo=220.0,
-                 zo=frame.z0_kpc, solarmotion=assoc._solarmotion)
+                 zo=Z_SUN_KPC, solarmotion=assoc._solarmotion)
     star.integrate(np.linspace(0.0, age_myr, 201) * u.Myr, MWPotential2014, method="dop853_c")
     return star.SkyCoord(age_myr * u.Myr).icrs
 
@@ -73,7 +80,7 @@ def synthetic_scenario(tmp_path, seed, age_myr, samples=800):
     a = ASSOC
     rows = [f"{a['name']},{a['ra']},{a['dec']},{a['distance']},10,{a['pm_ra_cosdec']},0.2,{a['pm_dec']},0.2,"
             f"{a['rv']},2,15,5",
-            "Cetra Decoy-2,280.0,-5.0,400,10,1.0,0.2,-2.0,0.2,-10,2,15,5"]  # decoy on the other side of the sky
+            "Cetra Decoy-2,114.1,-15.7,400,10,1.0,0.2,-2.0,0.2,-10,2,15,5"]  # invented decoy, other side of the sky
     path = tmp_path / f"assoc_{seed}.csv"
     path.write_text("\n".join([HEADER] + rows) + "\n")
     tr = {"associations": str(path), "samples": samples, "association_samples": 40, "max_age": 4.0,

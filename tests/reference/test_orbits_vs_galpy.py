@@ -26,7 +26,15 @@ STARS = np.array([[75.0, 30.0, 400.0, 60.0, -35.0, 40.0],
                   [359.95, -4.0, 800.0, -45.0, 10.0, 220.0]])
 
 
-def _galpy_heliocentric(frame, stars, t_myr):
+# The Sun of galpy's MWPotential2014 set-up, typed in from the papers rather than taken from kinage's parameter
+# sets (so a wrong solar value in kinage cannot cancel): R0 = 8 kpc and vc = 220 km/s (Bovy 2015, ApJS 216, 29),
+# solar motion (U, V, W) = (11.1, 12.24, 7.25) km/s (Schoenrich, Binney & Dehnen 2010, MNRAS 403, 1829),
+# z_sun = 20.8 pc (Bennett & Bovy 2019, MNRAS 482, 1417); astropy's Galactocentric v_sun = (U, vc + V, W).
+R0_KPC, Z_SUN_KPC = 8.0, 0.0208
+V_SUN_KMS = (11.1, 220.0 + 12.24, 7.25)
+
+
+def _galpy_heliocentric(stars, t_myr):
     """ICRS Cartesian positions (kpc) from the Sun at times t, from galpy's Orbit(SkyCoord) alone."""
     import_galpy()
     from galpy.orbit import Orbit
@@ -34,8 +42,8 @@ def _galpy_heliocentric(frame, stars, t_myr):
 
     c = coord.SkyCoord(ra=stars[:, 0] * u.deg, dec=stars[:, 1] * u.deg, distance=stars[:, 2] * u.pc,
                        pm_ra_cosdec=stars[:, 3] * u.mas / u.yr, pm_dec=stars[:, 4] * u.mas / u.yr,
-                       radial_velocity=stars[:, 5] * u.km / u.s, galcen_distance=frame.r0_kpc * u.kpc,
-                       z_sun=frame.z0_kpc * u.kpc, galcen_v_sun=coord.CartesianDifferential(frame.v_sun_kms * u.km / u.s))
+                       radial_velocity=stars[:, 5] * u.km / u.s, galcen_distance=R0_KPC * u.kpc,
+                       z_sun=Z_SUN_KPC * u.kpc, galcen_v_sun=coord.CartesianDifferential(V_SUN_KMS * u.km / u.s))
     o = Orbit(c, ro=8.0, vo=220.0)  # MWPotential2014's natural units (Bovy 2015)
     o.integrate(t_myr * u.Myr, MWPotential2014, method="dop853_c")
     sc = o.SkyCoord(t_myr * u.Myr).icrs.cartesian
@@ -48,7 +56,7 @@ def test_back_traced_positions_match_galpy_orbit_from_skycoord():
     pos, vel = frame.to_galactocentric(*STARS.T)
     ours = frame.to_heliocentric_icrs(integrate_orbits(pos, vel, t, get("potential", "MWPotential2014"))
                                       .positions(np.arange(t.size)))
-    ref = _galpy_heliocentric(frame, STARS, t)
+    ref = _galpy_heliocentric(STARS, t)
     moved = np.linalg.norm(ref - ref[:, :1], axis=-1).max() * 1000
     assert moved > 500  # pc: the stars really move
     # 0.01 pc after 5 Myr (the integrators agree to ~1e-3 pc; a unit or sign slip gives parsecs)

@@ -150,3 +150,32 @@ def test_full_solar_shapiro_delay_at_many_epochs_against_astropy_positions(site)
     # the distance term matters at this level: the angle-only form is off by up to 2 T_sun e ~ 0.16 us
     angle_only = -2 * t_sun * np.log1p(s @ big_r / np.linalg.norm(big_r, axis=0))
     assert 0.12e-6 < np.max(np.abs(angle_only - expected)) < 0.2e-6
+
+
+@pytest.mark.parametrize("ra, dec, distance_pc", [(120.0, 30.0, 150.0), (301.5, -62.0, 480.0)])
+def test_parallax_delay_sign_and_partial_against_astropy_geometry(ra, dec, distance_pc):
+    # The delay of a star at distance d minus that of the same direction at infinity, from astropy alone: the
+    # star's barycentric position from a SkyCoord with a Distance, the Earth's from get_body_barycentric, so
+    # (|D| - |D - r|)/c - r.s/c (exact geometry; Lorimer & Kramer 2005, Handbook of Pulsar Astronomy, sec. 8.2).
+    # A wavefront from a finite distance is curved: it reaches the Earth later than a plane wave would, by
+    # |r x s|^2 / (2 c d) to first order, at most (1 AU)^2 / (2 c d) = 1.21 us / d[kpc].
+    grid = TimeGrid.from_times(TIMES, REF)
+    star = SkyCoord(ra * u.deg, dec * u.deg, distance=distance_pc * u.pc)
+    big_d = star.cartesian.xyz.to_value(u.m)
+    s = big_d / np.linalg.norm(big_d)
+    r = get_body_barycentric("earth", TIMES).xyz.to_value(u.m)
+    c = 299792458.0
+    rs = s @ r
+    # |D| - |D - r| without cancellation: (2 D.r - r^2) / (|D| + |D - r|)
+    d_norm = np.linalg.norm(big_d)
+    far = np.linalg.norm(big_d[:, None] - r, axis=0)
+    astropy_diff = ((2 * (big_d @ r) - np.sum(r**2, axis=0)) / (d_norm + far) - rs) / c
+    assert np.all(astropy_diff < 0)  # later than the plane wave at every epoch (the sign under test)
+    plx_mas = (1 * u.au / (distance_pc * u.pc)).decompose().value * 180 / np.pi * 3.6e6  # p = 1 AU / d
+    model = TimingModel(ra, dec)
+    ours = model.delay(grid, np.array([0, 0, 0, 0, plx_mas])) - model.delay(grid, np.zeros(5))
+    np.testing.assert_allclose(ours, astropy_diff, rtol=1e-4, atol=1e-12)
+    assert np.max(np.abs(ours)) == pytest.approx(1.21e-6 / (distance_pc / 1000.0), rel=0.05)  # < 1 AU^2/(2cd)
+    # the parallax column of the design matrix carries the same sign: delay per mas of parallax
+    d_plx = model.astro_partials(grid)[:, 4]
+    np.testing.assert_allclose(d_plx * plx_mas, astropy_diff, rtol=2e-3, atol=1e-12)

@@ -105,7 +105,7 @@ def test_barycentric_frequency_uses_the_observer_velocity_toward_the_star():
     # (the velocity of the observer toward the star, the correction added to a measured radial velocity)
     star = SkyCoord(150 * u.deg, 10 * u.deg)
     t = Time(61000, format="mjd", scale="tdb") + np.linspace(0, 365, 7) * u.d
-    site = TOAReference("site", -70.4, -24.6, 2600.0)
+    site = TOAReference("site", -140.0, -45.0, 10.0)  # invented: open South Pacific, > 1000 km from any observatory
     loc = site.location()
     for ref, location in ((site, loc),):  # (astropy's correction diverges at the geocentre: Earth's potential)
         geo = observer_geometry(t.jd1, t.jd2, ref)
@@ -136,7 +136,7 @@ def test_earth_positions_interpolated_for_many_toas_match_astropy():
 def test_site_positions_match_astropy_earthlocation(n):
     # astropy site positions: EarthLocation.from_geodetic (WGS84) -> get_gcrs_posvel; ours interpolates the
     # celestial-to-intermediate matrix for many TOAs and evaluates the Earth rotation angle exactly
-    loc = EarthLocation.from_geodetic(21.44 * u.deg, -30.71 * u.deg, 1038 * u.m)  # invented site
+    loc = EarthLocation.from_geodetic(-35.0 * u.deg, 25.0 * u.deg, 10 * u.m)  # invented: mid-Atlantic, no observatory
     rng = np.random.default_rng(n)
     t = Time(np.sort(59000 + rng.uniform(0, 1500, n)), format="mjd", scale="tdb")
     pos, vel, _ = site_gcrs(loc, t.jd1, t.jd2)
@@ -177,7 +177,7 @@ def test_jpl_ephemeris_route_through_astropy_matches_the_builtin_route():
 def test_site_beyond_the_bundled_earth_orientation_tables_warns_and_uses_predictions():
     # astropy's bundled IERS tables end about a year after the astropy-iers-data release; later site TOAs use
     # astropy's predictions (nothing downloads) and the geometry says so
-    site = TOAReference("site", 10.0, 40.0, 100.0)
+    site = TOAReference("site", -40.0, 40.0, 10.0)  # invented: mid-Atlantic, no observatory
     inside = Time(59500, format="mjd", scale="tdb") + np.linspace(0, 30, 5) * u.d
     beyond = Time(66000, format="mjd", scale="tdb") + np.linspace(0, 30, 5) * u.d
     assert observer_geometry(inside.jd1, inside.jd2, site).warnings == []

@@ -1,6 +1,6 @@
 """Bad TOA tables and TOA-reference keys: one line naming the key, row or column; exit 2; nothing written.
 
-Common practice, no source: these are checks of kinage's own input contract (issue 10, "Bad input").
+Common practice, no source: these are checks of kinage's own input contract.
 """
 
 import numpy as np
@@ -61,7 +61,7 @@ def test_unknown_toa_reference_in_table_metadata(tmp_path, good_table, capsys):
 @pytest.mark.parametrize("key, value", [("site_latitude", 95.0), ("site_longitude", -200.0),
                                         ("site_height", "-5 km")])
 def test_site_coordinates_out_of_range(tmp_path, good_table, capsys, key, value):
-    keys = {"site_longitude": 10.0, "site_latitude": 45.0, "site_height": '"300 m"'}
+    keys = {"site_longitude": -40.0, "site_latitude": 45.0, "site_height": '"300 m"'}
     keys[key] = f'"{value}"' if isinstance(value, str) else value
     camp = 'toa_reference = "site"\n' + "".join(f"{k} = {v}\n" for k, v in keys.items())
     line = _run(tmp_path, good_table, camp, capsys)
@@ -69,7 +69,7 @@ def test_site_coordinates_out_of_range(tmp_path, good_table, capsys, key, value)
 
 
 def test_site_reference_without_coordinates(tmp_path, good_table, capsys):
-    line = _run(tmp_path, _with_meta(good_table), 'toa_reference = "site"\nsite_longitude = 10.0\n', capsys)
+    line = _run(tmp_path, _with_meta(good_table), 'toa_reference = "site"\nsite_longitude = -40.0\n', capsys)
     assert "site_latitude" in line
 
 
@@ -79,7 +79,7 @@ def test_barycentred_table_without_reference_position(tmp_path, good_table, caps
 
 
 def test_metadata_conflicting_with_the_scenario_names_both(tmp_path, good_table, capsys):
-    table = _with_meta(good_table, toa_reference="site", site_longitude="10.0 deg", site_latitude="45.0 deg",
+    table = _with_meta(good_table, toa_reference="site", site_longitude="-40.0 deg", site_latitude="45.0 deg",
                        site_height="300 m")
     line = _run(tmp_path, table, "site_latitude = 46.0\n", capsys)
     assert "site_latitude" in line and "46" in line and "45" in line and "toas.ecsv" in line

@@ -144,7 +144,7 @@ def test_visits_during_the_day_keep_the_sun_angle(schedule):
 # -- the forecast through the command line -------------------------------------------------------------
 # an invented star whose quarterly visits from 2029-01-13 fall near the zero crossings of the half-yearly
 # parallax signature (found by scanning the start date with independent_errors above)
-ALIAS_STAR = {"name": "Test-Q", "ra": 247.3, "dec": -12.8, "spin_period": "0.71 s", "distance": "250 pc",
+ALIAS_STAR = {"name": "Test-Q", "ra": 247.3, "dec": -12.8, "spin_period": "0.68 s", "distance": "250 pc",
               "pm_ra_cosdec": "15 mas/yr", "pm_dec": "-22 mas/yr"}
 ALIAS_CAMPAIGN = {"start": "2029-01-13", "baseline": "4 yr", "visits_per_year": 4, "toa_error": "50 us",
                   "sun_avoidance": "45 deg", "max_baseline": "6 yr"}

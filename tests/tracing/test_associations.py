@@ -8,7 +8,7 @@ from kinage.errors import InputError
 
 HEADER = ("name,ra,dec,distance,distance_error,pm_ra_cosdec,pm_ra_cosdec_error,pm_dec,pm_dec_error,"
           "radial_velocity,radial_velocity_error,radius,age")
-ROW_A = "Lyra Nova-1,120.0,-40.0,400,20,-5,0.5,6,0.5,20,3,25,15"
+ROW_A = "Lyra Nova-1,35.0,-40.0,400,20,-5,0.5,6,0.5,20,3,25,15"  # invented, high southern latitude (l 254, b -68): no known association there
 ROW_B = "Cetra-2,150.0,-55.0,600,30,-7,0.5,3,0.5,10,3,30,10"
 
 
@@ -40,12 +40,12 @@ def test_ecsv_units_are_converted(tmp_path):
 
 
 @pytest.mark.parametrize("row, col", [
-    ("Lyra Nova-1,120.0,-40.0,-400,20,-5,0.5,6,0.5,20,3,25,15", "distance"),
-    ("Lyra Nova-1,120.0,-40.0,400,20,-5,0.5,6,0.5,20,3,-25,15", "radius"),
-    ("Lyra Nova-1,120.0,-40.0,400,20,-5,0.5,nan,0.5,20,3,25,15", "pm_dec"),
-    ("Lyra Nova-1,120.0,-40.0,400,20,-5,0.5,6,0.5,,3,25,15", "radial_velocity"),
-    ("Lyra Nova-1,120.0,-40.0,400,20,-5,0.5,6,0.5,20,3,25,0", "age"),
-    ("Lyra Nova-1,120.0,-40.0,400,-20,-5,0.5,6,0.5,20,3,25,15", "distance_error"),
+    ("Lyra Nova-1,35.0,-40.0,-400,20,-5,0.5,6,0.5,20,3,25,15", "distance"),
+    ("Lyra Nova-1,35.0,-40.0,400,20,-5,0.5,6,0.5,20,3,-25,15", "radius"),
+    ("Lyra Nova-1,35.0,-40.0,400,20,-5,0.5,nan,0.5,20,3,25,15", "pm_dec"),
+    ("Lyra Nova-1,35.0,-40.0,400,20,-5,0.5,6,0.5,,3,25,15", "radial_velocity"),
+    ("Lyra Nova-1,35.0,-40.0,400,20,-5,0.5,6,0.5,20,3,25,0", "age"),
+    ("Lyra Nova-1,35.0,-40.0,400,-20,-5,0.5,6,0.5,20,3,25,15", "distance_error"),
 ])
 def test_bad_values_name_row_and_column(tmp_path, row, col):
     with pytest.raises(InputError) as exc:

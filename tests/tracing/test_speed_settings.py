@@ -150,7 +150,7 @@ def test_cores_and_chunks_do_not_change_the_numbers(tmp_path):
                                   "with contextlib.redirect_stdout(io.StringIO()):\n"
                                   "    try:\n        main(['--help'])\n    except SystemExit:\n        pass"])
 def test_start_up_loads_no_heavy_modules(code):
-    # the list of modules that `import kinage` and `kinage --help` must not load (no source needed)
+    # heavy modules that `import kinage` and `kinage --help` must not load (start-up time; common practice, no source)
     heavy = ["astropy.coordinates", "galpy", "scipy.stats", "matplotlib"]
     out = subprocess.run([sys.executable, "-c", code + f"\nimport sys\nprint([m for m in {heavy!r} if m in sys.modules])"],
                          capture_output=True, text=True, check=True)

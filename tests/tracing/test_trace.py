@@ -11,7 +11,6 @@ from kinage.errors import InputError
 from kinage.io.results import to_jsonable
 from kinage.kinematics import StarDraws
 from kinage.orbits import trace
-from kinage.orbits.frames import solar_frame
 from tracing_helpers import galpy_flown_star
 
 HEADER = ("name,ra,dec,distance,distance_error,pm_ra_cosdec,pm_ra_cosdec_error,pm_dec,pm_dec_error,"
@@ -24,9 +23,10 @@ def _synthetic(tmp_path, seed, age_myr=1.5):
     Returns the scenario dict (observed astrometry with errors) and the true age.
     """
     rng = np.random.default_rng(seed)
-    a = dict(ra=100.0, dec=5.0, distance=450.0, pm_ra_cosdec=-1.5, pm_dec=-0.5, rv=18.0)
+    # invented association at l = 52 deg, b = -4.5 deg (no young association known there within ~1 kpc)
+    a = dict(ra=295.91, dec=14.72, distance=450.0, pm_ra_cosdec=-1.5, pm_dec=-0.5, rv=18.0)
     # flown with galpy alone (tracing_helpers.galpy_flown_star), so kinage's integrator errors cannot cancel
-    c = galpy_flown_star(a, age_myr, 350.0, rng, solar_frame("galpy-default"))
+    c = galpy_flown_star(a, age_myr, 350.0, rng)
     plx, plx_err, pm_err = 1000 / c.distance.to_value(u.pc), 0.05, 0.2  # VLBI-like errors
     star = {"name": "Testar J0001", "ra": float(c.ra.deg), "dec": float(c.dec.deg),
             "parallax": plx + plx_err * rng.normal(), "parallax_error": plx_err,
@@ -35,7 +35,7 @@ def _synthetic(tmp_path, seed, age_myr=1.5):
             "pm_dec": float(c.pm_dec.to_value(u.mas / u.yr)) + pm_err * rng.normal(), "pm_dec_error": pm_err}
     rows = [f"Lyra Nova-1,{a['ra']},{a['dec']},{a['distance']},10,{a['pm_ra_cosdec']},0.2,{a['pm_dec']},0.2,{a['rv']},2,15,5",
             # decoy: 250 pc away on the other side of the sky
-            "Cetra Decoy-2,280.0,-5.0,400,10,1.0,0.2,-2.0,0.2,-10,2,15,5"]
+            "Cetra Decoy-2,114.1,-15.7,400,10,1.0,0.2,-2.0,0.2,-10,2,15,5"]
     path = tmp_path / "assoc.csv"
     path.write_text("\n".join([HEADER] + rows) + "\n")
     trace_tab = {"associations": str(path), "samples": 2000, "association_samples": 100, "max_age": 4.0,

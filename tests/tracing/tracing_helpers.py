@@ -11,7 +11,14 @@ def random_states(rng, n, spread_kpc=0.5, speed=300.0):
     return pos, vel
 
 
-def galpy_flown_star(assoc, age_myr, kick_kms, rng, frame):
+# The Sun of galpy's MWPotential2014 set-up, typed in from the papers rather than taken from kinage's parameter
+# sets: R0 = 8 kpc, vc = 220 km/s (Bovy 2015, ApJS 216, 29), (U, V, W) = (11.1, 12.24, 7.25) km/s (Schoenrich,
+# Binney & Dehnen 2010, MNRAS 403, 1829), z_sun = 20.8 pc (Bennett & Bovy 2019, MNRAS 482, 1417).
+R0_KPC, Z_SUN_KPC = 8.0, 0.0208
+V_SUN_KMS = (11.1, 220.0 + 12.24, 7.25)
+
+
+def galpy_flown_star(assoc, age_myr, kick_kms, rng):
     """Present ICRS SkyCoord of a star born at an association's centre ``age_myr`` ago, flown with galpy alone.
 
     The association (dict with ra, dec [deg], distance [pc], pm_ra_cosdec, pm_dec [mas/yr], rv [km/s]) is
@@ -30,9 +37,8 @@ def galpy_flown_star(assoc, age_myr, kick_kms, rng, frame):
 
     c = coord.SkyCoord(ra=assoc["ra"] * u.deg, dec=assoc["dec"] * u.deg, distance=assoc["distance"] * u.pc,
                        pm_ra_cosdec=assoc["pm_ra_cosdec"] * u.mas / u.yr, pm_dec=assoc["pm_dec"] * u.mas / u.yr,
-                       radial_velocity=assoc["rv"] * u.km / u.s, galcen_distance=frame.r0_kpc * u.kpc,
-                       z_sun=frame.z0_kpc * u.kpc,
-                       galcen_v_sun=coord.CartesianDifferential(frame.v_sun_kms * u.km / u.s))
+                       radial_velocity=assoc["rv"] * u.km / u.s, galcen_distance=R0_KPC * u.kpc,
+                       z_sun=Z_SUN_KPC * u.kpc, galcen_v_sun=coord.CartesianDifferential(V_SUN_KMS * u.km / u.s))
     a = Orbit(c, ro=8.0, vo=220.0)
     a.integrate(np.linspace(0.0, -age_myr, 201) * u.Myr, MWPotential2014, method="dop853_c")
     tb = -age_myr * u.Myr
@@ -43,6 +49,6 @@ def galpy_flown_star(assoc, age_myr, kick_kms, rng, frame):
     vz = a.vz(tb, quantity=False) + kick[2]
     vr, vt = vx * np.cos(phi) + vy * np.sin(phi), -vx * np.sin(phi) + vy * np.cos(phi)
     s = Orbit([a.R(tb, quantity=False) / 8.0, vr / 220.0, vt / 220.0, a.z(tb, quantity=False) / 8.0, vz / 220.0, phi],
-              ro=8.0, vo=220.0, zo=frame.z0_kpc, solarmotion=a._solarmotion)
+              ro=8.0, vo=220.0, zo=Z_SUN_KPC, solarmotion=a._solarmotion)
     s.integrate(np.linspace(0.0, age_myr, 201) * u.Myr, MWPotential2014, method="dop853_c")
     return s.SkyCoord(age_myr * u.Myr).icrs

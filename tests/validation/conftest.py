@@ -16,7 +16,7 @@ BASE = {
         "name": "Test-1", "ra": 182.098674, "dec": -46.446622, "ra_error": 40.0, "dec_error": 40.0,
         "epoch": "2027-01-01", "parallax": "1.937 mas", "parallax_error": "0.25 mas",
         "pm_ra_cosdec": "13.03 mas/yr", "pm_ra_cosdec_error": "1.5 mas/yr", "pm_dec": "31.70 mas/yr",
-        "pm_dec_error": "1.5 mas/yr", "spin_period": "4.271 s", "spin_period_error": "1e-6 s",
+        "pm_dec_error": "1.5 mas/yr", "spin_period": "4.08 s", "spin_period_error": "1e-6 s",
         "spin_period_derivative": 3.1e-14, "spin_period_derivative_error": 0.2e-14,
         "temperature": "52 eV", "temperature_error": "4 eV",
     },

@@ -93,10 +93,10 @@ def test_newer_key_with_a_bad_value(tmp_path, capsys, table, key, value, verb):
 @pytest.mark.parametrize("changes,key,words", [
     # before: the forecast ignored the site and ran to exit 0
     ({"toa_reference": "site"}, "[campaign] site_longitude", "site_latitude, site_height"),
-    ({"toa_reference": "site", "site_longitude": 10.0, "site_latitude": 40.0}, "[campaign] site_height", "site"),
+    ({"toa_reference": "site", "site_longitude": -40.0, "site_latitude": 40.0}, "[campaign] site_height", "site"),
     ({"toa_reference": "barycentre"}, "[campaign] barycentred_ra", "barycentred_dec"),
     # a site without toa_reference = 'site' would be ignored silently
-    ({"site_longitude": 10.0, "site_latitude": 40.0, "site_height": "300 m"}, "[campaign] site_longitude",
+    ({"site_longitude": -40.0, "site_latitude": 40.0, "site_height": "300 m"}, "[campaign] site_longitude",
      "toa_reference"),
     ({"toa_reference": "geocentre", "barycentred_ra": 10.0, "barycentred_dec": 3.0}, "[campaign] barycentred_ra",
      "geocentre"),
@@ -140,18 +140,18 @@ def test_site_keys_with_a_toa_table_may_wait_for_its_metadata(tmp_path):
 def test_complete_site_is_accepted(tmp_path):
     from kinage.io.scenario import scenario_from_dict
 
-    raw = scenario_dict(tables=("campaign",), campaign={"toa_reference": "site", "site_longitude": "-70.4 deg",
-                                                        "site_latitude": "-24.6 deg", "site_height": "2600 m"})
+    raw = scenario_dict(tables=("campaign",), campaign={"toa_reference": "site", "site_longitude": "-150.0 deg",
+                                                        "site_latitude": "10.0 deg", "site_height": "5 m"})  # invented: open Pacific
     s = scenario_from_dict(raw, base_dir=write_case(tmp_path, raw).parent)
     assert s.campaign.toa_reference == "site"
 
 
 @pytest.mark.parametrize("key", ["toa_error", "added_error"])
 def test_toa_error_of_half_a_period_is_refused(tmp_path, capsys, key):
-    # a TOA measures the pulse phase only when its error is well below the spin period (here 4.271 s)
+    # a TOA measures the pulse phase only when its error is well below the spin period (here 4.08 s)
     raw = scenario_dict(campaign={key: "3 s"})
     line = _bad(tmp_path, capsys, "forecast", raw, f"[campaign] {key}", "spin period")
-    assert "4.271 s" in line
+    assert "4.08 s" in line
 
 
 @pytest.mark.parametrize("star,verb", [

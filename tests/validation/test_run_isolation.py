@@ -1,4 +1,4 @@
-"""Runs never mix: staging folder, lock, interruption by SIGINT / SIGTERM (issue 15, item 4).
+"""Runs never mix: staging folder, lock, interruption by SIGINT / SIGTERM.
 
 Expected behaviour is the project's rule (results replaced only by a complete run; common practice, no
 source).  The fast cases run in process; the signal cases run ``python -m kinage`` as a subprocess.

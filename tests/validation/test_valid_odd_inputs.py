@@ -1,4 +1,4 @@
-"""Valid but unusual inputs run correctly; user text is escaped in the Markdown report (issue 15, item 6)."""
+"""Valid but unusual inputs run correctly; user text is escaped in the Markdown report."""
 
 import json
 
@@ -91,8 +91,8 @@ def test_nan_cell_in_star_table_means_not_given(tmp_path):
     tab.write(path, format="ascii.ecsv")
     rows = read_star_rows(path)
     assert "spin_period" not in rows[0] and "temperature" not in rows[1]
-    template = {"star": {"name": "t", "spin_period": "2.5 s"}, "ages": {"braking_index": 3}}
+    template = {"star": {"name": "t", "spin_period": "2.3 s"}, "ages": {"braking_index": 3}}
     s = star_scenario(rows[0], template, tmp_path)
-    assert s.star.value("spin_period", "s") == 2.5  # the template's value fills the NaN
+    assert s.star.value("spin_period", "s") == 2.3  # the template's value fills the NaN
     s = star_scenario(rows[1], template, tmp_path)
     assert s.star.get("temperature") is None

@@ -1,4 +1,4 @@
-"""The bad inputs listed in issue 15, each reproduced through the command line (in process).
+"""Bad inputs a user can give (out-of-range, wrong type, missing files), each reproduced through the command line (in process).
 
 Every case must end with exit status 2, one line on stderr naming the key, row or option, and no output
 files.  The ranges come from physics noted beside each case; the expected behaviour (one line, exit 2,
