@@ -91,6 +91,12 @@ class AgesResult(ResultDisplay):
         out["samples"] = self.samples
         return out
 
+    def verdict_line(self):
+        """One quotable sentence: do the ages agree (see :func:`kinage.ages.verdicts.ages_verdict`)."""
+        from .verdicts import ages_verdict
+
+        return ages_verdict(self.to_dict())
+
     def summary(self):
         """1-4 plain-language sentences: do the clocks agree?  Ages rounded to their 68 % intervals."""
         parts = []

@@ -16,9 +16,9 @@ import math
 
 import numpy as np
 
-from .._rounding import pdg_decimals
+from .._rounding import format_interval, pdg_decimals  # noqa: F401 (format_interval re-exported)
 
-__all__ = ["format_age", "format_interval", "format_age_interval", "format_factor", "log_sigma",
+__all__ = ["ages_verdict", "format_age", "format_interval", "format_age_interval", "format_factor", "log_sigma",
            "compare_intervals", "pair_verdict", "age_verdicts", "cooling_explanations", "cooling_caveat"]
 
 
@@ -36,63 +36,6 @@ def _age_unit(yr):
         if yr >= scale:
             return scale, unit
     return 1.0, "yr"
-
-
-def _digits(x, d):
-    if d <= 0:
-        q = 10.0 ** (-d)
-        return f"{round(x / q) * q:,.0f}"
-    return f"{x:.{d}f}"
-
-
-def format_interval(value, lo=None, hi=None, unit="", *, unbounded_above=False, max_sig=3, inner=False, bare=False):
-    """A value with its 68 % interval, rounded to the interval's precision.
-
-    Parameters
-    ----------
-    value : float or None
-        Central value (in the unit of ``unit``).
-    lo, hi : float or None
-        68 % interval ends (same unit); ``None`` for an exact value.
-    unit : str
-    unbounded_above : bool
-        The interval has no upper end (then ``hi`` is ignored).
-    max_sig : int
-        At most this many significant figures of the value.
-    inner : bool
-        ``'0.195 s, 68%: 0.167-0.216 s'`` (inside parentheses) instead of
-        ``'0.195 s (68%: 0.167-0.216 s)'``.
-    bare : bool
-        The rounded value alone (``'0.195 s'``).
-
-    Returns
-    -------
-    str
-        E.g. ``'8,900 yr (68%: 7,200-11,200 yr)'``, ``'103 Myr (68%: above 41 Myr)'``, ``'12.0 kyr'``.
-    """
-    if value is None or not np.isfinite(value):
-        return "n/a"
-    u = f" {unit}" if unit else ""
-    hi = None if unbounded_above else hi
-    exp = int(math.floor(math.log10(abs(value)))) if value else 0
-    d = max_sig - 1 - exp
-    widths = [w for w in ((value - lo) if lo is not None else None, (hi - value) if hi is not None else None)
-              if w is not None and np.isfinite(w) and w > 0]
-    if widths:
-        d = min(d, pdg_decimals(min(widths)))
-    v = _digits(value, d)
-    if bare:
-        return v + u
-    lo_t = _digits(lo, d) if lo is not None and np.isfinite(lo) else None
-    hi_t = _digits(hi, d) if hi is not None and np.isfinite(hi) else None
-    if unbounded_above and lo_t is not None:
-        rng = f"above {lo_t}{u}"
-    elif lo_t is not None and hi_t is not None and not lo_t == v == hi_t:
-        # a range through or below zero reads 'from -250 to 290', never '-250-290'
-        rng = f"{lo_t} to {hi_t}{u}" if lo_t.startswith("-") or hi_t.startswith("-") else f"{lo_t}-{hi_t}{u}"
-    else:
-        return v + u
-    return f"{v}{u}, 68%: {rng}" if inner else f"{v}{u} (68%: {rng})"
 
 
 def format_age_interval(iv, value=None, *, inner=False, bare=False):
@@ -420,3 +363,66 @@ def age_verdicts(values, unc, kin, cool, s):
     if out[-1]["consistent"] is not None and caveat:
         out[-1]["text"] += caveat
     return out
+
+
+def _relation(v, name, age_text):
+    """'is 2.5× below the characteristic age (1.90 Myr)' from a pair verdict, or None without a comparison."""
+    if not v or v.get("consistent") is None or not v.get("ratio"):
+        return None
+    if v["consistent"]:
+        return f"agrees within errors with the {name} ({age_text})"
+    r = v["ratio"]
+    return (f"is {format_factor(1 / r)}× below the {name} ({age_text})" if r < 1 else
+            f"is {format_factor(r)}× above the {name} ({age_text})")
+
+
+def ages_verdict(d):
+    """One quotable sentence (at most ~25 words): do the ages agree, by what factor, on which model.
+
+    Parameters
+    ----------
+    d : dict
+        The ages stage's ``to_dict()`` (or the ``ages`` section of ``results.json``).
+
+    Returns
+    -------
+    str
+        E.g. "The kinematic age (760 kyr) is 2.5× below the characteristic age (1.90 Myr) and 8.7× above the
+        cooling age (87 kyr, modified-urca model)."
+    """
+    pairs = {v.get("pair"): v for v in d.get("verdicts") or [] if isinstance(v, dict)}
+    kin = d.get("kinematic_age_yr") or {}
+    unc = d.get("uncertainties") or {}
+    tc, lower = d.get("characteristic_age_yr"), d.get("characteristic_age_lower_limit_yr")
+    cool = d.get("cooling_age_yr") or {}
+    if lower is not None:
+        tc_name, tc_text = "lower bound on the characteristic age", f"above {format_age(lower)}"
+    else:
+        tc_name, tc_text = "characteristic age", format_age_interval(dict(unc.get("characteristic_age_yr") or {},
+                                                                         median=tc), bare=True) if tc else "n/a"
+    model = (d.get("cooling") or {}).get("model")
+    cool_text = format_age_interval(cool, bare=True) + (f", {model} model" if model else "")
+    if kin.get("median") is not None:
+        subject = f"The kinematic age ({format_age_interval(kin, bare=True)})"
+        clauses = [_relation(pairs.get("kinematic-characteristic"), tc_name, tc_text),
+                   _relation(pairs.get("kinematic-cooling"), "cooling age", cool_text)]
+    elif tc is not None or lower is not None:
+        subject = f"The {tc_name} ({tc_text})" if lower is None else "The characteristic age"
+        clauses = [_relation(pairs.get("characteristic-cooling"), "cooling age", cool_text)]
+    else:
+        subject, clauses = None, []
+    clauses = [c for c in clauses if c]
+    if len(clauses) == 2 and clauses[0].startswith("is ") and clauses[1].startswith("is "):
+        clauses[1] = clauses[1][3:]
+    if subject and clauses:
+        return f"{subject} {' and '.join(clauses)}."
+    if kin.get("median") is not None:
+        return (f"Only the kinematic age is known, {format_age_interval(kin)}; there is no spin-down or cooling "
+                "age to compare it with.")
+    if tc is not None:
+        n = d.get("braking_index") or 3
+        return (f"Only the characteristic age is known, {format_age_interval(dict(unc.get('characteristic_age_yr') or {}, median=tc))}, "
+                f"assuming braking index {n:g} and a short initial period.")
+    if cool.get("median") is not None:
+        return f"Only the cooling age is known, {format_age_interval(cool)} ({model or 'cooling'} model)."
+    return "No ages could be computed from the inputs given."

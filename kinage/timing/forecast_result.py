@@ -132,6 +132,12 @@ class ForecastResult(ResultDisplay):
 
         return constrained(self.solution.sigma_dict(), self.pm_error_along_motion)
 
+    def verdict_line(self):
+        """One quotable sentence on the motion (see :mod:`kinage.timing.motion_verdict`)."""
+        from .motion_verdict import motion_verdict
+
+        return motion_verdict(forecast=self.to_dict())
+
     def summary(self):
         from .forecast_words import forecast_summary
 

@@ -74,7 +74,8 @@ def test_markdown_escaping_is_literal_under_commonmark():
     # CommonMark 0.31, section 2.4: a backslash before ASCII punctuation makes it literal
     from kinage.report.escape import md_code, md_text
 
-    assert md_text("a*b_c") == "a\\*b\\_c"
+    assert md_text("a*b_c") == "a*b_c"  # a lone intraword * or _ opens no emphasis (CommonMark 6.2)
+    assert md_text("a*b*c_d_") == "a\\*b\\*c_d\\_"
     assert "\n" not in md_text("one\ntwo\r\nthree")
     assert md_code("x ` y") == "``x ` y``"
 
