@@ -22,13 +22,13 @@ def _age(iv):
 
 
 def _rests_on(d):
+    """What the answer rests on: the candidates and the radial-velocity prior (or the field prior)."""
     n = len(d.get("associations") or [])
-    rv_prior = (d.get("settings") or {}).get("radial_velocity_source") == "prior"
-    what = f"the {n} listed candidate{'s' if n != 1 else ''}"
-    if rv_prior:
-        return f"{what} and the assumed radial-velocity distribution"
+    what = f"{n} candidate{'s' if n != 1 else ''}"
+    if (d.get("settings") or {}).get("radial_velocity_source") == "prior":
+        return [what, "the radial-velocity prior"]
     prior = d.get("field_prior")
-    return what + (f" and a field prior of {prior:.2g}" if prior is not None else "")
+    return [what] + ([f"a field prior of {prior:.2g}"] if prior is not None else [])
 
 
 def birthplace_verdict(d):
@@ -59,9 +59,9 @@ def birthplace_verdict(d):
     p0 = _prob_text(d.get("field_probability"), d.get("field_probability_error"))
     if d.get("favoured"):
         return (f"Probably born in {best['name']} (probability {p}) {_age(best.get('age_yr'))} ago, given "
-                f"{_rests_on(d)}.")
+                f"{' and '.join(_rests_on(d))}.")
     if best.get("probability", 0.0) < 0.05:
-        return (f"No listed association is favoured: a birth outside every candidate has probability {p0}, given "
-                f"{_rests_on(d)}.")
-    return (f"No listed association is favoured: the most probable, {best['name']}, has probability {p}, a birth "
-            f"elsewhere {p0}, given {_rests_on(d)}.")
+        return (f"No association is favoured: a birth outside every candidate has probability {p0}, given "
+                f"{' and '.join(_rests_on(d))}.")
+    return (f"No association is favoured: the most probable, {best['name']}, has {p}; a birth elsewhere {p0} "
+            f"({', '.join(_rests_on(d))}).")

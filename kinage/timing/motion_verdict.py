@@ -49,7 +49,7 @@ def _fit_verdict(fit):
     plx, splx = values.get("parallax_mas"), sigma.get("parallax_mas")
     if plx is not None and splx is not None and math.isfinite(splx) and splx > 0 and abs(plx) >= 2.0 * splx:
         text += f" and a parallax of {value_error(plx, splx, 'mas')}"
-    return text + f" from {n} TOAs, assuming phase connection (every pulse between them counted)."
+    return text + f" from {n} TOAs, assuming phase connection."
 
 
 def _forecast_verdict(fc):
