@@ -39,6 +39,8 @@ def _finish(args, result, scenario, verb, seed=None, extra_files=()):
                           input_files=extra_files, command=verb)
         write_json(args.json, result.to_dict(), prov)
         _say(args, f"wrote {args.json}")
+    if not getattr(args, "out", None) and not getattr(args, "json", None):
+        _say(args, "(no --out or --json given: nothing was written; the summary below is the whole output)")
     _say(args, result.summary())
     return 0
 
