@@ -77,7 +77,7 @@ class FitResult(ResultDisplay):
     converged : bool
     iterations : int
     final_step_sigma : float
-        Largest |step| / sigma of the last iteration.
+        Largest absolute step, in units of its error, of the last iteration.
     reference : TOAReference
         Where the TOAs are referred to.
     mjd, residuals_s, errors_s, signature_s : ndarray
