@@ -10,7 +10,7 @@ An interval keeps its sign: a bound that is not zero never prints as "0".
 
 import math
 
-__all__ = ["pdg_decimals", "round_to_error", "value_error", "format_interval", "digits_text"]
+__all__ = ["pdg_decimals", "round_to_error", "value_error", "format_interval", "digits_text", "percent_text"]
 
 
 def pdg_decimals(err, sig=None):
@@ -158,3 +158,23 @@ def format_interval(value, lo=None, hi=None, unit="", *, unbounded_above=False, 
     else:
         return v + u
     return f"{v}{u}, 68%: {rng}" if inner else f"{v}{u} (68%: {rng})"
+
+
+def percent_text(x, err=None):
+    """A fraction as a percentage rounded to its error: '67.2 ± 2.7%', '< 0.1%', '> 99.9%', '6.2%'.
+
+    The same text in tables, figure labels and sentences.  Without an error two significant figures (below
+    10%) or whole percent; an error below what a percentage shows gives the value alone to 0.1%.
+    """
+    if x is None:
+        return "n/a"
+    p = 100.0 * x
+    if p < 0.1:
+        return "< 0.1%" if p > 0 else "0%"
+    if p > 99.9:
+        return "> 99.9%" if p < 100 or err else "100%"
+    if err and 100.0 * err < 0.05:
+        return f"{p:.1f}%"
+    if err:
+        return value_error(p, 100.0 * err, "%").replace(" %", "%")
+    return f"{p:.2g}%" if p < 10 else f"{p:.0f}%"

@@ -17,7 +17,7 @@ results table):
 
 import math
 
-from .._rounding import format_interval, pdg_decimals, round_to_error, value_error
+from .._rounding import format_interval, pdg_decimals, percent_text, round_to_error, value_error
 
 __all__ = ["stage_rows", "fmt", "fmt_interval", "value_error", "fmt_age", "fmt_age_interval", "fmt_duration_s",
            "round_to_error", "fmt_power", "expected_parallax_mas", "astrometry_source_words", "LABELS"]
@@ -331,18 +331,7 @@ def _trace_settings(s):
 
 
 def _pct(x, err=None):
-    if x is None:
-        return "n/a"
-    p = 100.0 * x
-    if p < 0.1:
-        return "< 0.1%" if p > 0 else "0%"
-    if p > 99.9:
-        return "> 99.9%" if p < 100 or err else "100%"
-    if err and 100.0 * err < 0.05:  # a Monte Carlo error below what a percentage shows: the value alone
-        return f"{p:.1f}%"
-    if err:
-        return value_error(p, 100.0 * err, "%").replace(" %", "%")
-    return f"{p:.2g}%" if p < 10 else f"{p:.0f}%"
+    return percent_text(x, err)
 
 
 def association_rows(assocs, top=8, field=None, favoured=None):
