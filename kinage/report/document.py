@@ -86,6 +86,9 @@ def _stage_caption(stage, fig, data):
     """The figure's caption, saying which association a per-association trace figure shows when none is favoured."""
     text = _caption(fig)
     stem = Path(fig).stem
+    if stage == "fit" and stem == "fit_residuals" and not (nb.fit_constrained(data)["proper_motion"] or nb.fit_constrained(data)["parallax"]):
+        text = ("Check that the post-fit residuals (bottom) scatter within their errors; the fit constrains no "
+                "astrometry, so no astrometric delay is drawn (top: residuals with the unconstrained fitted delay).")
     if stage == "trace" and not data.get("favoured") and data.get("associations"):
         name = data["associations"][0].get("name")
         if stem in _ONE_ASSOCIATION:
