@@ -240,6 +240,12 @@ def forecast_rows(d, expected_parallax=None):
     """Rows of a forecast; ``expected_parallax`` (mas) turns a parallax error above it into words."""
     rows = [("visits (TOAs)", f"{d.get('n_toas')} over {fmt(d.get('baseline_yr'))} yr"),
             ("median TOA error", fmt_duration_s(d.get("toa_error_s")))]
+    if d.get("sun_avoidance_deg") is not None:
+        src = d.get("sun_avoidance_source") or "given"
+        how = "" if src == "given" else f", {src}: set [campaign] sun_avoidance or band to change it"
+        moved = d.get("visits_moved_for_sun") or 0
+        rows.append(("Sun avoidance", f"{fmt(d['sun_avoidance_deg'])}°{how}"
+                     + (f"; {moved} of {d.get('n_toas')} visits moved" if moved else "")))
     cons = d.get("constrained") or {}
     s = d.get("sigma") or {}
     if expected_parallax is None:

@@ -110,6 +110,8 @@ class ForecastResult(ResultDisplay):
             "reverse": self.reverse,
             "red_noise": self.red_noise,
             "visits_moved_for_sun": int(np.count_nonzero(self.plan.shift_days)),
+            "sun_avoidance_deg": float(self.plan.sun_avoidance_deg),
+            "sun_avoidance_source": self.plan.sun_avoidance_source,
             "sweep": {k: np.asarray(v).tolist() for k, v in self.sweep.items()},
             "warnings": list(self.warnings),
             "schedule": self.plan.schedule,
