@@ -341,7 +341,9 @@ def _spin_down(values, unc, spin, s, state):
     p, pd, nb = spin.period, spin.pdot, s.braking_index
     if pd > 0:
         values["characteristic_age_yr"] = _num(characteristic_age(p, pd))
-        values["dipole_field_gauss"] = _num(dipole_field(p, pd))
+        values["dipole_field_gauss"] = _num(dipole_field(p, pd, s.radius_km, s.moment_of_inertia))
+        # the catalogue convention (R = 10 km, I = 1e45 g cm^2), for comparison with published fields
+        values["dipole_field_conventional_gauss"] = _num(dipole_field(p, pd))
         values["spin_down_luminosity_erg_s"] = _num(spin_down_luminosity(p, pd, s.moment_of_inertia))
         values["max_spin_down_age_yr"] = _num(max_braking_index_age(p, pd, nb))
         if s.initial_period_s is not None:
@@ -349,7 +351,7 @@ def _spin_down(values, unc, spin, s, state):
     age_iv = interval if state.fraction_spinning_up == 0 else (lambda x: open_interval(x, d["pdot"]))
     tc_d = characteristic_age(d["period"], d["pdot"])
     unc["characteristic_age_yr"] = age_iv(tc_d)
-    unc["dipole_field_gauss"] = interval(dipole_field(d["period"], d["pdot"]))
+    unc["dipole_field_gauss"] = interval(dipole_field(d["period"], d["pdot"], s.radius_km, s.moment_of_inertia))
     unc["spin_down_luminosity_erg_s"] = interval(spin_down_luminosity(d["period"], d["pdot"], s.moment_of_inertia))
     unc["max_spin_down_age_yr"] = age_iv(max_braking_index_age(d["period"], d["pdot"], d["braking_index"]))
     if d["initial_period"] is not None:
@@ -441,8 +443,10 @@ def _cooling(star, s, rng, heating):
 def _assumptions(s, shk, kin_method):
     a = [
         "Characteristic age P/(2 Pdot) assumes braking index 3 and P0 << P (Lorimer & Kramer 2005, eq. 3.14)",
-        "Dipole field 3.2e19 sqrt(P Pdot) G: vacuum dipole, orthogonal rotator, R = 10 km, I = 1e45 g cm^2 "
-        "(Lorimer & Kramer 2005, eq. 3.15)",
+        f"Dipole field sqrt(3 c^3 I P Pdot / (8 pi^2 R^6)) with R = {s.radius_km:g} km (the [ages] radius) and "
+        f"I = {s.moment_of_inertia:.3g} g cm^2: vacuum dipole, orthogonal rotator (Lorimer & Kramer 2005, "
+        "eq. 3.15); the catalogue convention 3.2e19 sqrt(P Pdot) G (R = 10 km, I = 1e45 g cm^2) is "
+        "dipole_field_conventional_gauss",
         f"Spin-down luminosity 4 pi^2 I Pdot / P^3 with I = {s.moment_of_inertia:.3g} g cm^2 (Lorimer & Kramer 2005)",
         "Field decay with P0 << P: tau_c = int B^2 dt / B^2; exponential (closed form) and Ohm + Hall "
         "(Aguilera, Pons & Miralles 2008, ApJ 673, L167)",

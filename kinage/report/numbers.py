@@ -398,7 +398,10 @@ def ages_rows(d, raw_star=None):
         rows.append((f"maximum spin-down age for n = {fmt(d.get('braking_index'))}",
                      fmt_age(d["max_spin_down_age_yr"])))
     if d.get("dipole_field_gauss") is not None:
-        rows.append(("dipole field", f"{fmt_power(d['dipole_field_gauss'])} G"))
+        conv = d.get("dipole_field_conventional_gauss")
+        rows.append(("dipole field", f"{fmt_power(d['dipole_field_gauss'])} G"
+                     + (f" (catalogue convention, R = 10 km: {fmt_power(conv)} G)"
+                        if conv and fmt_power(conv) != fmt_power(d["dipole_field_gauss"]) else "")))
     if d.get("spin_down_luminosity_erg_s") is not None:
         rows.append(("spin-down luminosity", f"{fmt_power(d['spin_down_luminosity_erg_s'])} erg/s"))
     if d.get("implied_initial_period_s") is not None:
