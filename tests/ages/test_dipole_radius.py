@@ -20,6 +20,7 @@ def test_ages_assumption_and_value_use_the_input_radius():
            "ages": {"radius": "12 km", "kinematic_age": "0.6 Myr", "kinematic_age_error": "0.1 Myr", "samples": 200}}
     res = kinage.compare_ages(scn)
     text = " ".join(res.assumptions)
-    assert "R = 12 km (the [ages] radius)" in text and "R = 10 km," not in text.replace("at R = 10 km and", "")
-    assert res.to_dict()["dipole_field_gauss"] == pytest.approx(dipole_field(0.3871, 2e-15) * (10 / 12) ** 3,
-                                                                 rel=1e-9)
+    assert "R = 12 km (the [ages] radius)" in text
+    d = res.to_dict()
+    assert d["dipole_field_gauss"] == pytest.approx(dipole_field(0.3871, 2e-15) * (10 / 12) ** 3, rel=1e-9)
+    assert d["dipole_field_conventional_gauss"] == pytest.approx(3.2e19 * (0.3871 * 2e-15) ** 0.5, rel=1e-9)
