@@ -431,9 +431,10 @@ def ages_rows(d, raw_star=None):
 
 
 def _age_range(lo, hi):
-    """'58–150 kyr': both ends with two significant figures in the upper end's unit."""
-    s, unit = _age_unit(hi)
-    return f"{fmt_power(lo / s)}–{fmt_power(hi / s)} {unit}"
+    """'58 kyr-150 kyr': both ends with two significant figures, as the ages summary writes the range."""
+    from ..ages.verdicts import format_age
+
+    return f"{format_age(lo, 2)}-{format_age(hi, 2)}"
 
 
 def stage_rows(stage, data, raw=None):
