@@ -49,6 +49,7 @@ from .forecast import noise_from_campaign
 from .forecast_result import TIMING_ASSUMPTIONS
 from .gls import gls_step
 from .model import TimeGrid, TimingModel
+from .motion_verdict import total_motion_of as _total_motion_of
 from .priors import prior_solution
 from .reference import TOAReference, resolve_reference, timing_assumptions
 from .toas import check_fit_table, frequency_column, read_toas, site_times, validate_toas
@@ -122,6 +123,7 @@ class FitResult(ResultDisplay):
             "ra_deg": float(self.solution.ra.value),
             "dec_deg": float(self.solution.dec.value),
             "covariance": self.solution.covariance.tolist(),
+            "proper_motion_total_masyr": _total_motion_of(self.solution),
             "chi2": self.chi2,
             "chi2_reduced": self.chi2_reduced,
             "n_toas": self.n_toas,
@@ -447,3 +449,4 @@ class _DefaultCampaign:
 
     def value(self, name, unit=None, default=None):
         return self.get(name, default)
+

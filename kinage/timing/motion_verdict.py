@@ -15,11 +15,15 @@ import math
 from .._rounding import value_error
 from .forecast_words import PM_LIMIT_MASYR, _num, _sigma_text, _time
 
-__all__ = ["motion_verdict"]
+__all__ = ["motion_verdict", "total_motion", "total_motion_of"]
 
 
-def _total_motion(values, sigma, covariance=None):
-    """Total proper motion (mas/yr) and its error from the two components and their covariance."""
+def total_motion(values, sigma, covariance=None):
+    """Total proper motion (mas/yr) and its first-order error from the two components and their covariance.
+
+    sigma_mu^2 = (a^2 s_a^2 + b^2 s_b^2 + 2 a b c_ab) / mu^2 (first-order propagation; Bevington & Robinson,
+    Data Reduction and Error Analysis, eq. 3.14).
+    """
     a, b = values["pm_ra_cosdec_masyr"], values["pm_dec_masyr"]
     sa, sb = sigma["pm_ra_cosdec_masyr"], sigma["pm_dec_masyr"]
     cab = 0.0
@@ -35,13 +39,19 @@ def _total_motion(values, sigma, covariance=None):
     return mu, math.sqrt(max(var, 0.0))
 
 
+def total_motion_of(solution):
+    """``{"value", "error"}`` (mas/yr) of an AstrometricSolution: the fit JSON's ``proper_motion_total_masyr``."""
+    mu, err = total_motion(solution.values_dict(), solution.sigma_dict(), solution.covariance)
+    return {"value": float(mu), "error": float(err)}
+
+
 def _fit_verdict(fit):
     values, sigma = fit.get("values") or {}, fit.get("sigma") or {}
     n = fit.get("n_toas")
     if max(sigma.get("pm_ra_cosdec_masyr", math.inf), sigma.get("pm_dec_masyr", math.inf)) > PM_LIMIT_MASYR:
         return (f"Timing does not measure the motion: the fit of {n} TOAs leaves proper-motion errors above "
                 "1 arcsec/yr, so the motion must come from imaging astrometry.")
-    mu, err = _total_motion(values, sigma, fit.get("covariance"))
+    mu, err = total_motion(values, sigma, fit.get("covariance"))
     which = "Timing" if fit.get("converged", True) else "The unconverged timing fit"
     text = f"{which} measures a proper motion of {value_error(mu, err, 'mas/yr')}"
     if err > 0:
