@@ -415,7 +415,20 @@ def ages_verdict(d):
     if len(clauses) == 2 and clauses[0].startswith("is ") and clauses[1].startswith("is "):
         clauses[1] = clauses[1][3:]
     if subject and clauses:
-        return f"{subject} {' and '.join(clauses)}."
+        line = f"{subject} {' and '.join(clauses)}"
+        kc = pairs.get("kinematic-characteristic") or {}
+        if kin.get("median") is not None and kc.get("consistent") is False and kc.get("ratio"):
+            p0 = d.get("implied_initial_period_s")
+            if kc["ratio"] < 1:
+                iv = unc.get("implied_initial_period_s") or {}
+                start = (f"an initial period of {format_interval(p0, iv.get('lo68'), iv.get('hi68'), 's', bare=True)}"
+                         if p0 else "a long initial period")
+                why = f"; field decay or {start} would explain it"
+            else:
+                why = f"; spin-down with braking index {d.get('braking_index') or 3:g} does not reach it"
+            if len((line + why).split()) <= 25:  # the implication when it fits the quotable length
+                line += why
+        return line + "."
     if kin.get("median") is not None:
         return (f"Only the kinematic age is known, {format_age_interval(kin)}; there is no spin-down or cooling "
                 "age to compare it with.")

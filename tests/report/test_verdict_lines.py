@@ -62,3 +62,17 @@ def test_run_verdicts_say_when_a_question_was_not_asked():
     assert list(out) == ["motion", "birthplace", "ages"]
     assert out["motion"].startswith("Not asked") and "[campaign]" in out["motion"]
     assert out["birthplace"] == "Not answered: the trace stage failed."
+
+
+def test_ages_line_names_what_would_explain_a_young_kinematic_age():
+    # a kinematic age below tau_c = P/(2 Pdot) means the star was born spinning slowly or its field decayed
+    # (Lorimer & Kramer 2005, sec. 3.1: tau_c equals the true age only for n = 3 and P0 << P)
+    d = {"kinematic_age_yr": {"median": 8.7e5, "lo68": 8.0e5, "hi68": 9.4e5}, "characteristic_age_yr": 1.85e6,
+         "uncertainties": {"characteristic_age_yr": {"lo68": 1.84e6, "hi68": 1.86e6},
+                           "implied_initial_period_s": {"lo68": 0.327, "hi68": 0.352}},
+         "implied_initial_period_s": 0.340, "braking_index": 3,
+         "verdicts": [{"pair": "kinematic-characteristic", "consistent": False, "ratio": 8.7e5 / 1.85e6}]}
+    line = ages_verdict(d)
+    assert line == ("The kinematic age (870 kyr) is 2.1× below the characteristic age (1.85 Myr); field decay or an "
+                    "initial period of 0.340 s would explain it.")
+    assert len(line.split()) <= 25
