@@ -208,7 +208,7 @@ def _g2(x):
         return f"{r:.2g}"
     if abs(r) < 100:
         return f"{r:.3g}"
-    return f"{r:.0f}" if abs(r) < 1e5 else f"{r:.1e}"
+    return f"{r:,.0f}" if abs(r) < 1e5 else fmt_power(r)  # "2,900", as the sentences write it
 
 
 def expected_parallax_mas(star):
