@@ -215,6 +215,11 @@ def _run_and_report(args, scenario, out):
                        progress=_progress(args), log=lambda line: _say(args, line))
     if getattr(args, "json", None):
         run.write_json(args.json)
+    from .report.document import QUESTIONS
+
+    # the three answers at a glance, as results.json (summary.verdicts) and the report print them
+    for (question, _, _), line in zip(QUESTIONS, run.verdicts().values()):
+        _say(args, f"{question} {line}")
     _say(args, f"finished in {time.perf_counter() - t0:.1f} s; report: {Path(out) / 'report.html'}")
     if run.failed:
         stage, msg = next(iter(run.failed.items()))
