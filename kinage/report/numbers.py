@@ -266,7 +266,7 @@ def forecast_rows(d, expected_parallax=None):
         rows.append(("proper-motion significance of this plan", f"{_g2(sig)}σ"))
     need = d.get("baseline_needed_yr")
     target = d.get("target_significance")
-    rows.append((f"baseline for {fmt(target)}σ", f"{_g2(need)} yr" if need is not None else
+    rows.append((f"baseline for {fmt(target)}σ", f"{need:.1f} yr" if need is not None else  # as sentence and figure
                  f"not reached within {fmt(d.get('max_baseline_yr'))} yr"))
     return rows
 
