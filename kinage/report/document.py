@@ -296,8 +296,9 @@ def _md_rows(header, rows):
         return []
     if header:
         return (["| " + " | ".join(header) + " |", "|" + "---|" * len(header)]
-                + ["| " + " | ".join(md_escape(c) for c in r) + " |" for r in rows] + [""])
-    return ["| quantity | value |", "|---|---|"] + [f"| {md_escape(k)} | {md_escape(v)} |" for k, v in rows] + [""]
+                + ["| " + " | ".join(md_text(c, cell=True) for c in r) + " |" for r in rows] + [""])
+    return (["| quantity | value |", "|---|---|"]
+            + [f"| {md_text(k, cell=True)} | {md_text(v, cell=True)} |" for k, v in rows] + [""])
 
 
 def render_markdown(run):
@@ -342,7 +343,7 @@ def render_markdown(run):
         lines += ["Parameter sets used:", ""] + [f"- {p['kind']} {md_code(p['name'])}: {md_text('; '.join(p['references']))}"
                                                   for p in psets] + [""]
     if hashes:
-        lines += ["| input file | SHA-256 |", "|---|---|"] + [f"| {md_escape(f)} | `{h}` |" for f, h in hashes] + [""]
+        lines += ["| input file | SHA-256 |", "|---|---|"] + [f"| {md_text(f, cell=True)} | `{h}` |" for f, h in hashes] + [""]
     lines += ["All numbers are in [results.json](results.json).", ""]
     return "\n".join(lines)
 

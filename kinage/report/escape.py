@@ -12,8 +12,9 @@ plain text ("Tessaly-3 (invented demo)", not "Tessaly\\-3 \\(invented demo\\)"):
 * ``_`` unless inside a word (CommonMark never opens emphasis with an intraword ``_``);
 * ``<`` before a letter, ``/``, ``!`` or ``?`` (raw HTML, autolinks); ``&`` that spells an entity;
 * ``\\`` before punctuation or at the end; ``~~`` (strikethrough in GitHub's dialect);
-* at the start of the text, what opens a block inside a list item or a cell: ``#`` headings, ``>`` quotes,
-  ``-``/``+``/``*`` and ``1.`` list markers; a closing ``#`` run of a heading.
+* at the start of the text, what opens a block inside a list item or a paragraph: ``#`` headings, ``>``
+  quotes, ``-``/``+``/``*`` and ``1.`` list markers; a closing ``#`` run of a heading (not in table cells,
+  which hold inline text only).
 
 Line breaks are folded into spaces, so a user's string stays one inline run
 of plain text: a name like ``<script>`` or one holding a newline and
@@ -40,7 +41,7 @@ def _one_line(text):
     return _CONTROL.sub("", _BREAKS.sub(" ", str(text))).strip()
 
 
-def _needs_escape(t, i, stars):
+def _needs_escape(t, i, stars, cell=False):
     ch = t[i]
     prev = t[i - 1] if i else ""
     nxt = t[i + 1] if i + 1 < len(t) else ""
@@ -62,6 +63,8 @@ def _needs_escape(t, i, stars):
         return nxt == "" or nxt in _PUNCT
     if ch == "~":
         return "~" in (prev, nxt)
+    if cell:  # a table cell holds inline text only: no block can start in it
+        return False
     if ch == "#":
         return (i == 0 and bool(_HEADING.match(t))) or (prev == " " and set(t[i:]) == {"#"})
     if i == 0 and ch in "-+>":
@@ -71,8 +74,10 @@ def _needs_escape(t, i, stars):
     return False
 
 
-def md_text(text):
+def md_text(text, cell=False):
     """``text`` as literal inline Markdown: only what would become markup escaped, line breaks folded.
+
+    ``cell=True`` for a table cell, where no block (heading, list, quote) can start: "> 99.9%" stays as it is.
 
     >>> md_text("<b>A*1</b>\\n# x")
     '\\\\<b>A*1\\\\</b> # x'
@@ -81,7 +86,7 @@ def md_text(text):
     """
     t = _one_line(text)
     stars = t.count("*")
-    return "".join("\\" + ch if _needs_escape(t, i, stars) else ch for i, ch in enumerate(t))
+    return "".join("\\" + ch if _needs_escape(t, i, stars, cell) else ch for i, ch in enumerate(t))
 
 
 #: kinage's own sentences quoting user names are escaped by the same rule
