@@ -434,7 +434,8 @@ def ages_verdict(d):
                 "age to compare it with.")
     if tc is not None:
         n = d.get("braking_index") or 3
-        return (f"Only the characteristic age is known, {format_age_interval(dict(unc.get('characteristic_age_yr') or {}, median=tc))}, "
+        tc_full = format_age_interval(dict(unc.get("characteristic_age_yr") or {}, median=tc))
+        return (f"Only the characteristic age is known, {tc_full}, "
                 f"assuming braking index {n:g} and a short initial period.")
     if cool.get("median") is not None:
         return f"Only the cooling age is known, {format_age_interval(cool)} ({model or 'cooling'} model)."

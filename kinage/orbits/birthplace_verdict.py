@@ -9,7 +9,7 @@ when the radial velocity is unknown).  At most about 25 words; the trace's
 ``summary()`` paragraph follows it with the detail.
 """
 
-from .._rounding import format_interval
+from .._rounding import percent_text
 from .statistics import _prob_text
 
 __all__ = ["birthplace_verdict"]
@@ -54,7 +54,7 @@ def birthplace_verdict(d):
     best = assocs[0]
     if best.get("probability") is None:
         return (f"No birthplace can be named without control draws; {best['name']} has the most encounters "
-                f"({format_interval(100.0 * best.get('encounter_fraction', 0.0))}% of the draws).")
+                f"({percent_text(best.get('encounter_fraction', 0.0))} of the draws).")
     p = _prob_text(best["probability"], best.get("probability_error"))
     p0 = _prob_text(d.get("field_probability"), d.get("field_probability_error"))
     if d.get("favoured"):

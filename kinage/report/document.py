@@ -86,7 +86,8 @@ def _stage_caption(stage, fig, data):
     """The figure's caption, saying which association a per-association trace figure shows when none is favoured."""
     text = _caption(fig)
     stem = Path(fig).stem
-    if stage == "fit" and stem == "fit_residuals" and not (nb.fit_constrained(data)["proper_motion"] or nb.fit_constrained(data)["parallax"]):
+    measured = nb.fit_constrained(data) if stage == "fit" else {}
+    if stem == "fit_residuals" and measured and not (measured["proper_motion"] or measured["parallax"]):
         text = ("Check that the post-fit residuals (bottom) scatter within their errors; the fit constrains no "
                 "astrometry, so no astrometric delay is drawn (top: residuals with the unconstrained fitted delay).")
     if stage == "trace" and not data.get("favoured") and data.get("associations"):
@@ -340,10 +341,11 @@ def render_markdown(run):
     rows, psets, hashes = provenance_rows(run)
     lines += ["## Provenance", ""] + _md_rows(None, rows)
     if psets:
-        lines += ["Parameter sets used:", ""] + [f"- {p['kind']} {md_code(p['name'])}: {md_text('; '.join(p['references']))}"
-                                                  for p in psets] + [""]
+        lines += ["Parameter sets used:", ""] + [
+            f"- {p['kind']} {md_code(p['name'])}: {md_text('; '.join(p['references']))}" for p in psets] + [""]
     if hashes:
-        lines += ["| input file | SHA-256 |", "|---|---|"] + [f"| {md_text(f, cell=True)} | `{h}` |" for f, h in hashes] + [""]
+        lines += ["| input file | SHA-256 |", "|---|---|"] + [
+            f"| {md_text(f, cell=True)} | `{h}` |" for f, h in hashes] + [""]
     lines += ["All numbers are in [results.json](results.json).", ""]
     return "\n".join(lines)
 

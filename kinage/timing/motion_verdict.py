@@ -80,7 +80,7 @@ def _forecast_verdict(fc):
         return (f"{plan[0].upper() + plan[1:]} would measure the expected {_num(pm)} mas/yr motion at "
                 f"{_sigma_text(sig)}σ (error {_num(err)} mas/yr), if the TOA errors stay near {toa}.")
     need = fc.get("baseline_needed_yr")
-    how = (f"{target:g}σ needs a {need:.1f}-yr baseline" if need is not None else
+    how = (f"{target:g}σ needs a baseline of {need:.1f} yr" if need is not None else
            f"no baseline up to {fc.get('max_baseline_yr') or 0:g} yr reaches {target:g}σ")
     return (f"{plan[0].upper() + plan[1:]} would reach only {_sigma_text(sig)}σ on the expected {_num(pm)} mas/yr "
             f"motion with {toa} TOA errors; {how}.")

@@ -40,7 +40,8 @@ def test_birthplace_line_names_the_favoured_association_or_none():
     none = dict(base, favoured=None, associations=[dict(fav["associations"][0], probability=0.45,
                                                         probability_error=0.09)])
     line = birthplace_verdict(none)
-    assert line.startswith("No association is favoured") and "0.45 ± 0.09" in line and "0.300 ± 0.030" in line  # 0.030: leading digits 300 keep two figures
+    # 0.030: leading digits 300 keep two figures
+    assert line.startswith("No association is favoured") and "0.45 ± 0.09" in line and "0.300 ± 0.030" in line
 
 
 def test_ages_line_states_the_factor_between_the_ages():
