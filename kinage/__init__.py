@@ -11,7 +11,7 @@ Front doors (see :mod:`kinage.api`)::
     star = kinage.star_from_skycoord(coord, spin_period=...)  # the [star] table from a SkyCoord
     star = kinage.star_from_table(row, columns={...})      # ... or from a catalogue row
     kinage.forecast(scenario)        # can timing measure the motion?
-    kinage.fit(toas, scenario)       # TOAs as a path or an astropy Table
+    kinage.fit(scenario, toas)       # TOAs as a path or an astropy Table
     kinage.trace(scenario, associations=table)   # path, Table or QTable
     kinage.compare_ages(scenario, trace_result)
     kinage.run(scenario, "out/")     # every stage, files and a report
@@ -21,7 +21,7 @@ Importing kinage is cheap: the names above load their modules on first use
 scipy.stats or matplotlib.
 """
 
-import importlib
+import importlib as _importlib
 
 from ._version import __version__
 from .errors import ConvergenceError, InputError, KinageError, ModelRangeError, ScenarioError
@@ -75,11 +75,11 @@ _SUBMODULES = ("api", "ages", "associations", "astrometry", "batch", "cli", "com
 
 def __getattr__(name):
     if name in _LAZY:
-        value = getattr(importlib.import_module(_LAZY[name]), name)
+        value = getattr(_importlib.import_module(_LAZY[name]), name)
         globals()[name] = value
         return value
     if name in _SUBMODULES:
-        return importlib.import_module(f"{__name__}.{name}")
+        return _importlib.import_module(f"{__name__}.{name}")
     raise AttributeError(f"module 'kinage' has no attribute {name!r}")
 
 

@@ -138,26 +138,37 @@ def _looks_like_scenario(obj):
     return isinstance(obj, (str, Path)) and Path(obj).suffix.lower() == ".toml"
 
 
-def fit(toas, scenario=None, **kwargs):
+def fit(scenario, toas=None, **kwargs):
     """Fit arrival times (:func:`kinage.timing.fit_toas`).
 
     Parameters
     ----------
-    toas : str, Path or astropy Table
-        A TOA file (ECSV / CSV) or a table with columns ``mjd`` and ``error``.
     scenario : Scenario, path or dict
         ``[star]`` starting values and spin; ``[campaign]`` noise and priors.
-        ``fit(scenario)`` alone fits the scenario's ``[campaign] toas``; the two
-        arguments may also come in the other order.
+        ``fit(scenario)`` alone fits the scenario's ``[campaign] toas``.
+    toas : str, Path or astropy Table, optional
+        A TOA file (ECSV / CSV) or a table with columns ``mjd`` and ``error``.
 
     Returns
     -------
     FitResult
+
+    Notes
+    -----
+    The scenario comes first, as in the other front doors.  The order of
+    kinage 0.2, ``fit(toas, scenario)``, is recognised by type (a TOA table or
+    a non-TOML path first, a scenario second) and still works for this release
+    with a :class:`DeprecationWarning`.
     """
     from .timing import fit_toas
 
-    if scenario is None or (_looks_like_scenario(toas) and not _looks_like_scenario(scenario)):
-        toas, scenario = scenario, toas
+    if toas is not None and not _looks_like_scenario(scenario) and _looks_like_scenario(toas):
+        import warnings
+
+        warnings.warn("kinage.fit(toas, scenario) is deprecated: call kinage.fit(scenario, toas), scenario first "
+                      "like the other front doors; the old order will stop working in the next release",
+                      DeprecationWarning, stacklevel=2)
+        scenario, toas = toas, scenario
     camp = scenario.get("campaign") if isinstance(scenario, dict) else None
     if toas is not None and isinstance(camp, dict) and camp.get("toas") is None:
         # the TOAs come as an argument, so a [campaign] of noise and reference keys needs no plan or TOA errors

@@ -42,12 +42,14 @@ _HELP = {
 }
 
 
-def _common(p, *, json=True, out=True, seed=True):
+def _common(p, *, json=True, out=True, seed=True, out_help=None):
     g = p.add_argument_group("common options")
     if json:
         g.add_argument("--json", metavar="PATH", type=Path, help="write the numbers (with provenance) to this JSON file")
     if out:
-        g.add_argument("--out", metavar="DIR", type=Path, help="folder for tables and figures")
+        g.add_argument("--out", metavar="DIR", type=Path,
+                       help=out_help or "folder for tables and figures (without --out or --json nothing is written: "
+                                        "the summary is printed only)")
     if seed:
         g.add_argument("--seed", type=int, metavar="N",
                        help="random seed (overrides the scenario's; recorded in the results; verbs without "
@@ -77,7 +79,7 @@ def build_parser():
     sub = parser.add_subparsers(dest="verb", metavar="VERB")
 
     def verb(name, **kw):
-        return sub.add_parser(name, help=_HELP[name], description=_HELP[name].capitalize() + ".",
+        return sub.add_parser(name, help=_HELP[name], description=_HELP[name][0].upper() + _HELP[name][1:] + ".",
                               epilog=f"example:\n  {_EXAMPLES[name]}",
                               formatter_class=argparse.RawDescriptionHelpFormatter, **kw)
 
@@ -95,7 +97,7 @@ def build_parser():
     _common(p)
 
     p = verb("fit")
-    p.add_argument("toas", type=Path, help="TOA table (ECSV or CSV with columns mjd, error), or the scenario "
+    p.add_argument("toas", type=Path, metavar="TOAS", help="TOA table (ECSV or CSV with columns mjd, error), or the scenario "
                                            "alone when its [campaign] toas names the table")
     p.add_argument("--scenario", type=Path, help="scenario with the star's starting values")
     _common(p)
@@ -115,7 +117,8 @@ def build_parser():
     p = verb("run")
     p.add_argument("scenario", type=Path, help="scenario file")
     p.add_argument("--samples", type=int, metavar="N", help="Monte Carlo draws of the star for tracing")
-    _common(p)
+    _common(p, out_help="folder for results.json, tables, figures and the report (default: the scenario's "
+                        "name + '-results' in the current folder, e.g. star-results/ for star.toml)")
 
     p = verb("demo")
     p.add_argument("--list", action="store_true", help="list the demo cases, one line each, name first")
@@ -137,8 +140,11 @@ def build_parser():
     p = verb("keys")
     p.add_argument("table", nargs="?", choices=["star", "campaign", "trace", "ages"], help="one table (default: all)")
 
+    from .params.registry import KINDS
+
     p = verb("parameter-sets")
-    p.add_argument("kind", nargs="?", help="one kind (default: all)")
+    p.add_argument("kind", nargs="?", choices=KINDS, metavar="KIND",
+                   help=f"one kind: {', '.join(KINDS)} (default: all)")
     return parser
 
 

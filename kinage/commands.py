@@ -39,6 +39,8 @@ def _finish(args, result, scenario, verb, seed=None, extra_files=()):
                           input_files=extra_files, command=verb)
         write_json(args.json, result.to_dict(), prov)
         _say(args, f"wrote {args.json}")
+    if not getattr(args, "out", None) and not getattr(args, "json", None):
+        _say(args, "(no --out or --json given: nothing was written; the summary below is the whole output)")
     _say(args, result.summary())
     return 0
 
@@ -213,6 +215,11 @@ def _run_and_report(args, scenario, out):
                        progress=_progress(args), log=lambda line: _say(args, line))
     if getattr(args, "json", None):
         run.write_json(args.json)
+    from .report.document import QUESTIONS
+
+    # the three answers at a glance, as results.json (summary.verdicts) and the report print them
+    for (question, _, _), line in zip(QUESTIONS, run.verdicts().values()):
+        _say(args, f"{question} {line}")
     _say(args, f"finished in {time.perf_counter() - t0:.1f} s; report: {Path(out) / 'report.html'}")
     if run.failed:
         stage, msg = next(iter(run.failed.items()))

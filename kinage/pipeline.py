@@ -190,7 +190,27 @@ class RunResult(ResultDisplay):
         }
         for name, r in self.stages.items():
             d[name] = r.to_dict()
+        d["summary"]["verdicts"] = self.verdicts(d)
         return d
+
+    def verdicts(self, dicts=None):
+        """The three verdict lines: ``{"motion", "birthplace", "ages"}`` -> one sentence each."""
+        from .report.verdicts import run_verdicts
+
+        if dicts is None:
+            dicts = {name: r.to_dict() for name, r in self.stages.items()}
+        return run_verdicts({n: dicts[n] for n in self.stages}, self.planned, self.failed)
+
+    def summary(self):
+        """The answers in words: per question its verdict line, then the stages' paragraphs."""
+        from .report.document import QUESTIONS
+
+        lines = self.verdicts()
+        out = []
+        for (question, stages, _), text in zip(QUESTIONS, lines.values()):
+            paras = [self.stages[s].summary() for s in stages if s in self.stages]
+            out.append("\n".join([question, text] + paras))
+        return "\n\n".join(out)
 
     def write_json(self, path):
         prov = provenance(scenario=self.scenario, seed=self.seed, parameter_sets=self.parameter_sets(),

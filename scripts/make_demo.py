@@ -305,7 +305,7 @@ start = "2027-03-01"
 baseline = "6 yr"
 visits_per_year = 4
 exposure = "40 ks"
-sun_avoidance = "45 deg"
+band = "xray"                     # X-ray defaults: sun_avoidance 45 deg
 source_rate = "0.9 1/s"           # counts/s in the source region
 background_rate = "0.05 1/s"
 pulsed_fraction = 0.11
@@ -367,7 +367,7 @@ start = "2028-01-10"
 baseline = "5 yr"
 visits_per_year = 26
 toa_error = "0.4 us"
-sun_avoidance = "10 deg"
+band = "radio"                    # radio defaults: sun_avoidance 10 deg
 toas = "toas.ecsv"                # simulated by scripts/make_demo.py (kinage.timing.simulate_toas, seed 20280412)
 
 [trace]

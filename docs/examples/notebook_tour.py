@@ -90,7 +90,7 @@ print(forecast.summary())
 
 # %%
 toas = kinage.simulate(scenario, rng=5).table
-fit = kinage.fit(toas, scenario)
+fit = kinage.fit(scenario, toas)
 print(repr(fit))
 
 # %% [markdown]

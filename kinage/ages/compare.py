@@ -91,6 +91,12 @@ class AgesResult(ResultDisplay):
         out["samples"] = self.samples
         return out
 
+    def verdict_line(self):
+        """One quotable sentence: do the ages agree (see :func:`kinage.ages.verdicts.ages_verdict`)."""
+        from .verdicts import ages_verdict
+
+        return ages_verdict(self.to_dict())
+
     def summary(self):
         """1-4 plain-language sentences: do the clocks agree?  Ages rounded to their 68 % intervals."""
         parts = []
@@ -372,8 +378,10 @@ def _cooling(star, s, rng, heating):
 def _assumptions(s, shk, kin_method):
     a = [
         "Characteristic age P/(2 Pdot) assumes braking index 3 and P0 << P (Lorimer & Kramer 2005, eq. 3.14)",
-        "Dipole field 3.2e19 sqrt(P Pdot) G: vacuum dipole, orthogonal rotator, R = 10 km, I = 1e45 g cm^2 "
-        "(Lorimer & Kramer 2005, eq. 3.15)",
+        "Dipole field 3.2e19 sqrt(P Pdot) G: the catalogue convention (vacuum dipole, orthogonal rotator, R = 10 km, "
+        "I = 1e45 g cm^2; Lorimer & Kramer 2005, eq. 3.15), as published fields are quoted; "
+        f"dipole_field_input_radius_gauss is the same dipole sqrt(3 c^3 I P Pdot / (8 pi^2 R^6)) for the [ages] "
+        f"radius R = {s.radius_km:g} km and I = {s.moment_of_inertia:.3g} g cm^2",
         f"Spin-down luminosity 4 pi^2 I Pdot / P^3 with I = {s.moment_of_inertia:.3g} g cm^2 (Lorimer & Kramer 2005)",
         "Field decay with P0 << P: tau_c = int B^2 dt / B^2; exponential (closed form) and Ohm + Hall "
         "(Aguilera, Pons & Miralles 2008, ApJ 673, L167)",

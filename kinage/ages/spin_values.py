@@ -29,7 +29,10 @@ def _spin_down(values, unc, spin, s, state):
     p, pd, nb = spin.period, spin.pdot, s.braking_index
     if pd > 0:
         values["characteristic_age_yr"] = _num(characteristic_age(p, pd))
+        # the catalogue convention 3.2e19 sqrt(P Pdot) G (R = 10 km, I = 1e45 g cm^2), as published fields are quoted
         values["dipole_field_gauss"] = _num(dipole_field(p, pd))
+        # the same vacuum dipole for the [ages] radius and moment of inertia
+        values["dipole_field_input_radius_gauss"] = _num(dipole_field(p, pd, s.radius_km, s.moment_of_inertia))
         values["spin_down_luminosity_erg_s"] = _num(spin_down_luminosity(p, pd, s.moment_of_inertia))
         values["max_spin_down_age_yr"] = _num(max_braking_index_age(p, pd, nb))
         if s.initial_period_s is not None:

@@ -65,14 +65,17 @@ def characteristic_age(period_s, pdot):
     return np.asarray(period_s, float) / (2.0 * _pos(pdot)) / SECONDS_PER_YEAR
 
 
-@quantity_edge("G", period_s="s", pdot="")
-def dipole_field(period_s, pdot):
-    """Surface dipole field estimate B = 3.2e19 sqrt(P Pdot) G.
+@quantity_edge("G", period_s="s", pdot="", radius_km="km", moment_of_inertia="g cm2")
+def dipole_field(period_s, pdot, radius_km=10.0, moment_of_inertia=1e45):
+    """Surface dipole field estimate B = 3.2e19 sqrt(P Pdot) G for R = 10 km and I = 1e45 g cm^2.
 
     Parameters
     ----------
     period_s : float or ndarray, s
     pdot : float or ndarray, s/s
+    radius_km : float, km
+        Stellar radius (default 10 km, the convention of the 3.2e19 G coefficient).
+    moment_of_inertia : float, g cm^2
 
     Returns
     -------
@@ -81,11 +84,13 @@ def dipole_field(period_s, pdot):
 
     Notes
     -----
-    Assumes magnetic-dipole braking in vacuum of an orthogonal rotator with
-    R = 10 km and I = 1e45 g cm^2 (Lorimer & Kramer 2005, eq. 3.15); force-free
+    Magnetic-dipole braking in vacuum of an orthogonal rotator,
+    B = sqrt(3 c^3 I P Pdot / (8 pi^2 R^6)) (Lorimer & Kramer 2005, eq. 3.15),
+    i.e. 3.2e19 G sqrt(P Pdot) (I / 1e45 g cm^2)^(1/2) (R / 10 km)^-3; force-free
     magnetospheres give values lower by a factor of order unity.
     """
-    return 3.2e19 * np.sqrt(np.asarray(period_s, float) * _pos(pdot))
+    scale = np.sqrt(float(moment_of_inertia) / 1e45) * (10.0 / float(radius_km)) ** 3
+    return 3.2e19 * scale * np.sqrt(np.asarray(period_s, float) * _pos(pdot))
 
 
 @quantity_edge("erg/s", period_s="s", pdot="", moment_of_inertia="g cm2")

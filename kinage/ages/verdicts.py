@@ -18,7 +18,7 @@ from ..display.sentences import format_age, format_age_interval, format_interval
 from .cooling_verdicts import cooling_pair_verdict
 from .intervals import _side_sigma, compare_intervals, format_factor, log_sigma  # noqa: F401 (re-exported)
 
-__all__ = ["format_age", "format_interval", "format_age_interval", "format_factor", "log_sigma",
+__all__ = ["ages_verdict", "format_age", "format_interval", "format_age_interval", "format_factor", "log_sigma",
            "compare_intervals", "pair_verdict", "age_verdicts", "cooling_explanations", "cooling_caveat"]
 
 
@@ -268,3 +268,80 @@ def age_verdicts(values, unc, kin, cool, s):
     if out[-1]["consistent"] is not None and caveat:
         out[-1]["text"] += caveat
     return out
+
+
+def _relation(v, name, age_text):
+    """'is 2.5× below the characteristic age (1.90 Myr)' from a pair verdict, or None without a comparison."""
+    if not v or v.get("consistent") is None or not v.get("ratio"):
+        return None
+    if v["consistent"]:
+        return f"agrees within errors with the {name} ({age_text})"
+    r = v["ratio"]
+    return (f"is {format_factor(1 / r)}× below the {name} ({age_text})" if r < 1 else
+            f"is {format_factor(r)}× above the {name} ({age_text})")
+
+
+def ages_verdict(d):
+    """One quotable sentence (at most ~25 words): do the ages agree, by what factor, on which model.
+
+    Parameters
+    ----------
+    d : dict
+        The ages stage's ``to_dict()`` (or the ``ages`` section of ``results.json``).
+
+    Returns
+    -------
+    str
+        E.g. "The kinematic age (760 kyr) is 2.5× below the characteristic age (1.90 Myr) and 8.7× above the
+        cooling age (87 kyr, modified-urca model)."
+    """
+    pairs = {v.get("pair"): v for v in d.get("verdicts") or [] if isinstance(v, dict)}
+    kin = d.get("kinematic_age_yr") or {}
+    unc = d.get("uncertainties") or {}
+    tc, lower = d.get("characteristic_age_yr"), d.get("characteristic_age_lower_limit_yr")
+    cool = d.get("cooling_age_yr") or {}
+    if lower is not None:
+        tc_name, tc_text = "lower bound on the characteristic age", f"above {format_age(lower)}"
+    else:
+        tc_name, tc_text = "characteristic age", format_age_interval(dict(unc.get("characteristic_age_yr") or {},
+                                                                         median=tc), bare=True) if tc else "n/a"
+    model = (d.get("cooling") or {}).get("model")
+    cool_text = format_age_interval(cool, bare=True) + (f", {model} model" if model else "")
+    if kin.get("median") is not None:
+        subject = f"The kinematic age ({format_age_interval(kin, bare=True)})"
+        clauses = [_relation(pairs.get("kinematic-characteristic"), tc_name, tc_text),
+                   _relation(pairs.get("kinematic-cooling"), "cooling age", cool_text)]
+    elif tc is not None or lower is not None:
+        subject = f"The {tc_name} ({tc_text})" if lower is None else "The characteristic age"
+        clauses = [_relation(pairs.get("characteristic-cooling"), "cooling age", cool_text)]
+    else:
+        subject, clauses = None, []
+    clauses = [c for c in clauses if c]
+    if len(clauses) == 2 and clauses[0].startswith("is ") and clauses[1].startswith("is "):
+        clauses[1] = clauses[1][3:]
+    if subject and clauses:
+        line = f"{subject} {' and '.join(clauses)}"
+        kc = pairs.get("kinematic-characteristic") or {}
+        if kin.get("median") is not None and kc.get("consistent") is False and kc.get("ratio"):
+            p0 = d.get("implied_initial_period_s")
+            if kc["ratio"] < 1:
+                iv = unc.get("implied_initial_period_s") or {}
+                start = (f"an initial period of {format_interval(p0, iv.get('lo68'), iv.get('hi68'), 's', bare=True)}"
+                         if p0 else "a long initial period")
+                why = f"; field decay or {start} would explain it"
+            else:
+                why = f"; spin-down with braking index {d.get('braking_index') or 3:g} does not reach it"
+            if len((line + why).split()) <= 25:  # the implication when it fits the quotable length
+                line += why
+        return line + "."
+    if kin.get("median") is not None:
+        return (f"Only the kinematic age is known, {format_age_interval(kin)}; there is no spin-down or cooling "
+                "age to compare it with.")
+    if tc is not None:
+        n = d.get("braking_index") or 3
+        tc_full = format_age_interval(dict(unc.get("characteristic_age_yr") or {}, median=tc))
+        return (f"Only the characteristic age is known, {tc_full}, "
+                f"assuming braking index {n:g} and a short initial period.")
+    if cool.get("median") is not None:
+        return f"Only the cooling age is known, {format_age_interval(cool)} ({model or 'cooling'} model)."
+    return "No ages could be computed from the inputs given."

@@ -7,7 +7,7 @@ size.  Used by the stages' key numbers and figures and by the report; knows no s
 
 import math
 
-from .._rounding import pdg_decimals
+from .._rounding import format_interval, pdg_decimals, round_to_error, value_error  # noqa: F401 (re-exported)
 
 __all__ = ["fmt", "fmt_interval", "value_error", "fmt_age", "fmt_age_interval", "fmt_duration_s", "round_to_error",
            "fmt_power", "fit_constrained"]
@@ -47,39 +47,6 @@ def fmt_power(x, digits=2):
     if abs(mant) >= 10:  # 9.96 -> 10.0: carry into the exponent
         mant, exp = mant / 10.0, exp + 1
     return f"{mant:.{max(digits - 1, 0)}f} × {_power_of_ten(exp)}"
-
-
-def _e_to_power(v, e, tail):
-    """'1.23e+06', '0.40e+06' -> '(1.23 ± 0.40) × 10⁶'."""
-    (mv, ev), (me, _) = v.split("e"), e.split("e")
-    return f"({mv} ± {me}) × {_power_of_ten(int(ev))}{tail}"
-
-
-def round_to_error(value, error, sig=None):
-    """(value text, error text) rounded to the error's precision (Particle Data Group rule by default)."""
-    if error is None or not math.isfinite(error) or error <= 0:
-        return fmt(value), None
-    d = _decimals_for(error, sig)
-    if abs(value) >= 1e5 or error >= 1e5 or (abs(value) < 1e-3 and error < 1e-3 and value != 0):
-        exp = int(math.floor(math.log10(max(abs(value), error))))
-        scale = 10.0**exp
-        dd = max(_decimals_for(error / scale, sig), 0)
-        return f"{value / scale:.{dd}f}e{exp:+d}", f"{error / scale:.{dd}f}e{exp:+d}"
-    if d <= 0:
-        q = 10.0 ** (-d)
-        return f"{round(value / q) * q:.0f}", f"{round(error / q) * q:.0f}"
-    return f"{value:.{d}f}", f"{error:.{d}f}"
-
-
-def value_error(value, error, unit="", sig=None):
-    """``'12.3 ± 0.4 mas/yr'``; without an error the value alone with 3 significant figures."""
-    if value is None or (isinstance(value, float) and not math.isfinite(value)):
-        return "n/a"
-    v, e = round_to_error(float(value), None if error is None else float(error), sig)
-    tail = f" {unit}" if unit else ""
-    if e is not None and "e" in v and "e" in e:
-        return _e_to_power(v, e, tail)
-    return f"{v} ± {e}{tail}" if e is not None else f"{v}{tail}"
 
 
 def fmt(x, digits=3):
@@ -131,44 +98,20 @@ def _g(x, digits):
 
 
 def fmt_interval(d, unit=""):
-    """``median (68%: lo–hi)`` from an interval dictionary, rounded to the interval's width."""
+    """``median unit (68%: lo-hi unit)`` from an interval dictionary, by the one rule of
+    :func:`kinage._rounding.format_interval` (the sentences use the same)."""
     if not isinstance(d, dict) or d.get("median") is None:
         return "n/a"
-    med, lo, hi = d["median"], d.get("lo68"), d.get("hi68")
-    tail = f" {unit}" if unit else ""
-    if lo is None or hi is None:
-        return fmt(med) + tail
-    width = min(abs(med - lo), abs(hi - med)) or max(abs(med - lo), abs(hi - med))
-    if not width:
-        return fmt(med) + tail
-    # one decimal place for the median and both bounds: the narrower half-width's, by the Particle Data Group
-    # rule, but never fewer than two significant figures of the median
-    d_ = _decimals_for(width)
-    if abs(med) > width:
-        d_ = max(d_, 1 - int(math.floor(math.log10(abs(med)))))
-    dash = " to " if min(lo, hi) < 0 else "–"  # '-3–2' would read as a range from -3 to -2
-    if abs(med) >= 1e5 or abs(hi) >= 1e5:
-        return f"{fmt(_sig_round(med, 3))} (68%: {fmt(_sig_round(lo, 2))}{dash}{fmt(_sig_round(hi, 2))}){tail}"
-    return f"{_fixed(med, d_)} (68%: {_fixed(lo, d_)}{dash}{_fixed(hi, d_)}){tail}"
-
-
-def _fixed(x, decimals):
-    """``x`` rounded to ``decimals`` places (negative: to tens, hundreds...), without a '-0'."""
-    if decimals <= 0:
-        q = 10.0 ** (-decimals)
-        txt = f"{round(x / q) * q:.0f}"
-    else:
-        txt = f"{x:.{decimals}f}"
-    return txt[1:] if txt.startswith("-") and float(txt) == 0 else txt
+    return format_interval(d["median"], d.get("lo68"), d.get("hi68"), unit)
 
 
 def fmt_age_interval(d):
-    """An age interval (yr) in one unit chosen from the median: ``'1.30 Myr (68%: 1.1–1.5 Myr)'``."""
+    """An age interval (yr) in one unit chosen from the median: ``'1.30 Myr (68%: 1.10-1.50 Myr)'``."""
+    from .sentences import format_age_interval
+
     if not isinstance(d, dict) or d.get("median") is None:
         return "n/a"
-    s, unit = _age_unit(d["median"])
-    scaled = {k: (None if d.get(k) is None else d[k] / s) for k in ("median", "lo68", "hi68")}
-    return fmt_interval(scaled, unit)
+    return format_age_interval(d)
 
 
 def fmt_duration_s(sec, error=None):
@@ -185,6 +128,8 @@ def fmt_duration_s(sec, error=None):
     if error:
         return value_error(sec / f, error / f, unit)
     return f"{_g(sec / f, 3)} {unit}"
+
+
 
 
 def fit_constrained(data):
@@ -205,4 +150,4 @@ def _g2(x):
         return f"{r:.2g}"
     if abs(r) < 100:
         return f"{r:.3g}"
-    return f"{r:.0f}" if abs(r) < 1e5 else f"{r:.1e}"
+    return f"{r:,.0f}" if abs(r) < 1e5 else fmt_power(r)  # "2,900", as the sentences write it

@@ -126,7 +126,11 @@ _CAMPAIGN = [
         doc="where the visits go: 'even' (regular cadence), 'parallax' (minimum parallax error) or 'motion' "
             "(minimum proper-motion error along the expected motion); same visits per year, Sun-allowed days only"),
     Key("exposure", "quantity", "s", positive=True, doc="exposure per visit ('20 ks' works)"),
-    Key("sun_avoidance", "quantity", "deg", default=45.0, nonnegative=True, upper=180, doc="no visit while the source is closer than this to the Sun"),
+    Key("band", "str", choices=("xray", "radio", "optical"),
+        doc="observing band: sets band defaults (sun_avoidance 45 deg for 'xray' and 'optical', 10 deg for "
+            "'radio'); keys given explicitly win"),
+    Key("sun_avoidance", "quantity", "deg", nonnegative=True, upper=180,
+        doc="no visit while the source is closer than this to the Sun (default: by band, 45 deg without one)"),
     Key("source_rate", "quantity", "1/s", positive=True, doc="source count rate (counts/s)"),
     Key("background_rate", "quantity", "1/s", default=0.0, nonnegative=True, doc="background count rate in the source region (counts/s)"),
     Key("pulsed_fraction", "float", lower=0, upper=1, doc="(max-min)/(max+min) of the source pulse, in (0, 1]"),

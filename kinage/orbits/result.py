@@ -278,6 +278,12 @@ class TraceResult(ResultDisplay):
             "warnings": list(self.data.get("warnings", [])),
         }
 
+    def verdict_line(self):
+        """One quotable sentence on the birthplace (see :mod:`kinage.orbits.birthplace_verdict`)."""
+        from .birthplace_verdict import birthplace_verdict
+
+        return birthplace_verdict(self.to_dict())
+
     def summary(self):
         """A few plain sentences for the report's top summary, in probabilities."""
         text = self.verdict

@@ -50,9 +50,10 @@ def legend_associations(result, limit=6):
 
 
 def _label(s, fav):
+    from .._rounding import percent_text
+
     p = s.get("probability")
-    txt = s["name"] + (f" ({100 * p:.0f}%)" if p is not None and p >= 0.095 else
-                       f" ({100 * p:.1f}%)" if p is not None else "")
+    txt = s["name"] + (f" ({percent_text(p, s.get('probability_error'))})" if p is not None else "")
     return txt + (", favoured" if s["name"] == fav else "")
 
 
@@ -211,6 +212,12 @@ def _draw_sky(ax, sd, result, half, wide, legend_labels=True):
     else:
         mx, my = _median_track([proj(lb) for lb in sd["star"]])
     ax.plot(mx, my, color=STAR_COLOR, lw=1.6, label=lab("star: median of the tracks"))
+    # the drawn track points that names must not cover (star draws and the coloured associations' draws)
+    from .sky_labels import label_position
+
+    drawn = [proj(lb) for lb in sd["star"]] + [(mx, my)]
+    drawn += [proj(lb) for s_, _ in sd["shown"] for lb in sd["assocs"][s_["name"]]["tracks"]]
+    drawn = (np.concatenate([np.ravel(a) for a, _ in drawn]), np.concatenate([np.ravel(b) for _, b in drawn]))
     _time_arrows(ax, mx, my, STAR_COLOR)
     ax.plot([0], [lat0 if wide else 0], marker="*", ms=11 if legend_labels else 8, color=STAR_COLOR, mec="k",
             mew=0.5, ls="none", zorder=6, label=lab(f"{result.star_name} today"))
@@ -227,8 +234,8 @@ def _draw_sky(ax, sd, result, half, wide, legend_labels=True):
         if in_view(x[0], y[0]):
             ax.plot([x[0]], [y[0]], marker="o", ms=3.5, mfc="white", mec=OTHER_COLOR, mew=0.8, ls="none", zorder=3,
                     label=lab("other candidates (≤ 1% probability), today") if first_grey else None)
-            ax.annotate(name, (x[0], y[0]), xytext=(3, 3), textcoords="offset points", fontsize=5.5,
-                        color="0.4", annotation_clip=True)
+            ax.annotate(name, (x[0], y[0]), textcoords="offset points", fontsize=5.5, color="0.4",
+                        annotation_clip=True, **label_position(ax, x[0], y[0], name, 5.5, drawn, xlim, ylim))
             first_grey = False
         else:
             n_out += 1
@@ -247,8 +254,9 @@ def _draw_sky(ax, sd, result, half, wide, legend_labels=True):
         stretch = 1.0 / max(np.cos(np.radians(y[0])), 0.05) if wide else 1.0
         ax.plot(x[0] + rad * stretch * np.cos(phi), y[0] + rad * np.sin(phi), color=col, lw=0.7, ls="--", zorder=4)
         if in_view(x[0], y[0]):
-            ax.annotate(s_["name"], (x[0], y[0]), xytext=(4, -9), textcoords="offset points", fontsize=6,
-                        color=col, fontweight="bold" if fav else None, annotation_clip=True)
+            ax.annotate(s_["name"], (x[0], y[0]), textcoords="offset points", fontsize=6, color=col,
+                        fontweight="bold" if fav else None, annotation_clip=True,
+                        **label_position(ax, x[0], y[0], s_["name"], 6.0, drawn, xlim, ylim))
         else:
             n_out += 1
     if shown and legend_labels:

@@ -212,15 +212,18 @@ def _age_text(iv):
 
 
 def _prob_text(p, err):
-    """A probability with the digits its Monte Carlo error supports."""
+    """A probability with the digits its Monte Carlo error supports (the one rounding rule, kinage._rounding)."""
+    from .._rounding import value_error
+
     if p is None:
         return "n/a"
-    if p > 0.995 and (err is None or err < 0.005):
-        return "> 0.99"
-    if p < 0.005 and (err is None or err < 0.005):
-        return "< 0.01"
-    digits = 3 if err is not None and err < 0.005 else 2
-    return f"{p:.{digits}f} +/- {max(err or 0.0, 10.0**-digits):.{digits}f}"
+    if p > 0.999 and (err is None or err < 0.0005):
+        return "> 0.999"
+    if p < 0.001 and (err is None or err < 0.0005):
+        return "< 0.001"
+    if err is None or not err > 0:
+        return f"{p:.2g}"
+    return value_error(p, err)
 
 
 def verdict(ranked, favoured, control_available=True, field=None):

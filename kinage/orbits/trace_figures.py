@@ -34,12 +34,9 @@ def _title(result, s):
     second = []
     if p is not None:
         err = s.get("probability_error")
-        if p < 0.01:
-            second.append("birth probability < 1%")
-        elif err:
-            second.append(f"birth probability {100 * p:.0f} ± {max(100 * err, 1):.0f}%")
-        else:
-            second.append(f"birth probability {100 * p:.0f}%")
+        from .._rounding import percent_text
+
+        second.append(f"birth probability {percent_text(p, err)}")  # as the report's tables print it
     if s["name"] == result.favoured:
         second.append("favoured")
     elif result.favoured is None and result.associations and s["name"] == result.associations[0]["name"]:
@@ -276,7 +273,10 @@ def plot_birth_xyz(result, name=None, fig=None):
         when = f"the kinematic age from {s['name']}" + ("" if s["name"] == result.favoured else " (not favoured)")
     else:
         when = f"the median closest approach to {s['name']} (no encounter: not a birth time)"
-    fig.suptitle(f"Positions {t_b:.2f} Myr ago, {when}; co-rotating frame, Sun at the origin today", fontsize=7.5)
+    from ..display.sentences import format_age_interval
+
+    shown = format_age_interval(s["age_yr"] if enc else s["tau_all_yr"], bare=True)  # as the tables round it
+    fig.suptitle(f"Positions {shown} ago, {when}; co-rotating frame, Sun at the origin today", fontsize=7.5)
     return fig
 
 

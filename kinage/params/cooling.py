@@ -6,11 +6,10 @@ photons.  It leaves out nucleon superfluidity/superconductivity and the
 Cooper pair-breaking-and-formation neutrinos that come with it, direct Urca,
 and heating.  It is therefore not the "minimal cooling" paradigm of Page,
 Lattimer, Prakash & Steiner 2004 (ApJS 155, 623; also Gusakov et al. 2004),
-which includes pairing.  Compared by eye with published non-superfluid
-slow-cooling curves (Yakovlev & Pethick 2004, ARA&A 42, 169; Page et al. 2004,
-no-pairing curves) for 1.4 M_sun and an iron envelope, log T_inf agrees to
-~0.1 dex up to ~1 Myr (from memory, not digitised): about 6.1 at 10 kyr,
-6.0 at 100 kyr, 5.5 at 1 Myr.  The old name ``minimal`` is still accepted and
+which includes pairing.  Its curves are checked against the closed-form
+solutions of their own equations (tests/reference/test_cooling_closed_forms.py);
+they are not fitted to or digitised from published cooling curves, and the
+report claims no numerical agreement with any.  The old name ``minimal`` is still accepted and
 resolves to this set.  ``direct-urca`` adds fast cooling above an
 illustrative threshold mass.
 
@@ -58,13 +57,15 @@ _SLOW = _builtin(ParameterSet(
     "cooling_model", "modified-urca",
     dict(_COMMON, direct_urca_erg_s=0.0, direct_urca_threshold_msun=0.0, direct_urca_width_msun=0.1),
     references=_REFS + (
-        "compared with (not fitted to) the non-superfluid slow-cooling curves of Yakovlev & Pethick 2004, "
-        "ARA&A 42, 169 and the no-pairing curves of Page, Lattimer, Prakash & Steiner 2004, ApJS 155, 623: "
-        "log T_inf within ~0.1 dex for a 1.4 M_sun star with an iron envelope up to ~1 Myr "
-        "(read by eye, from memory)",),
+        "curves checked against the closed-form solutions of the same equations: neutrino era "
+        "T9 = (1e9 C0 / (6 L0 t))^(1/6), photon era with the Gudmundsson, Pethick & Epstein 1983 envelope; "
+        "not fitted to or digitised from published cooling curves (e.g. the non-superfluid curves of Yakovlev & "
+        "Pethick 2004 or the no-pairing curves of Page, Lattimer, Prakash & Steiner 2004, ApJS 155, 623), so no "
+        "numerical agreement with them is claimed",),
     description=("slow cooling without nucleon pairing: isothermal core, modified-Urca neutrinos, no direct Urca, "
                  "no superfluidity or pair-breaking emission, no heating. Not the 'minimal cooling' of Page et al. "
-                 "2004, which includes pairing; approximates non-superfluid slow-cooling curves to ~0.1 dex in T_inf"),
+                 "2004, which includes pairing; a stand-in for non-superfluid slow cooling, not fitted to "
+                 "published curves"),
 ))
 # the name this set had before it was described honestly: still accepted in scenario files, recorded under
 # its new name (the registry lists every set once)

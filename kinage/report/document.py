@@ -17,7 +17,7 @@ from pathlib import Path
 from .._version import __version__
 from ..io.results import atomic_write, provenance, to_jsonable
 from . import numbers as nb
-from .escape import md_code, md_sentence
+from .escape import md_code, md_text
 from .html_blocks import _CSS, _html_rows, _img
 
 __all__ = ["write_reports", "render_html", "render_markdown", "QUESTIONS", "CAPTIONS", "CAUTION", "md_escape",
@@ -62,6 +62,8 @@ CAUTION = ("These are research estimates. They rest on the assumptions listed in
            "potential, an assumed velocity distribution for the unknown radial velocity, a simple cooling model, "
            "a linearised timing model); check them before quoting a number.")
 _STAGE_ORDER = ("forecast", "fit", "astrometry", "trace", "ages")
+#: HTML ids of the verdict lines in the summary, in the order of QUESTIONS (keys of summary.verdicts)
+_VERDICT_IDS = ("motion", "birthplace", "ages")
 _FIGURE_ORDER = {stem: i for i, stem in enumerate(CAPTIONS)}
 
 
@@ -84,6 +86,10 @@ def _stage_caption(stage, fig, data):
     """The figure's caption, saying which association a per-association trace figure shows when none is favoured."""
     text = _caption(fig)
     stem = Path(fig).stem
+    measured = nb.fit_constrained(data) if stage == "fit" else {}
+    if stem == "fit_residuals" and measured and not (measured["proper_motion"] or measured["parallax"]):
+        text = ("Check that the post-fit residuals (bottom) scatter within their errors; the fit constrains no "
+                "astrometry, so no astrometric delay is drawn (top: residuals with the unconstrained fitted delay).")
     if stage == "trace" and not data.get("favoured") and data.get("associations"):
         name = data["associations"][0].get("name")
         if stem in _ONE_ASSOCIATION:
@@ -95,8 +101,12 @@ def _stage_caption(stage, fig, data):
 
 
 def _answers(run):
+    """[(question, verdict line, paragraph)]: the stages' summaries after the question's verdict line."""
+    from .verdicts import run_verdicts
+
+    lines = run_verdicts({n: to_jsonable(r.to_dict()) for n, r in run.stages.items()}, run.planned, run.failed)
     out = []
-    for question, stages, table in QUESTIONS:
+    for (question, stages, table), verdict in zip(QUESTIONS, lines.values()):
         parts = []
         for s in stages:
             if s in run.stages:
@@ -108,7 +118,7 @@ def _answers(run):
                 parts.append("Not reached: an earlier stage failed.")
             else:
                 parts.append(f"Not asked: the scenario has no [{table}] table.")
-        out.append((question, " ".join(parts)))
+        out.append((question, verdict, " ".join(parts)))
     return out
 
 
@@ -300,8 +310,9 @@ def _md_rows(header, rows):
         return []
     if header:
         return (["| " + " | ".join(header) + " |", "|" + "---|" * len(header)]
-                + ["| " + " | ".join(md_escape(c) for c in r) + " |" for r in rows] + [""])
-    return ["| quantity | value |", "|---|---|"] + [f"| {md_escape(k)} | {md_escape(v)} |" for k, v in rows] + [""]
+                + ["| " + " | ".join(md_text(c, cell=True) for c in r) + " |" for r in rows] + [""])
+    return (["| quantity | value |", "|---|---|"]
+            + [f"| {md_text(k, cell=True)} | {md_text(v, cell=True)} |" for k, v in rows] + [""])
 
 
 def render_markdown(run):
@@ -309,19 +320,21 @@ def render_markdown(run):
     title = run.scenario.title or run.scenario.star.get("name")
     rel = lambda p: Path(p).relative_to(run.out_dir).as_posix()  # noqa: E731
     lines = [f"# kinage report: {md_escape(title)}", "", f"> **Caution.** {CAUTION}", "", "## Summary", ""]
-    for q, a in _answers(run):
-        lines += [f"**{q}** {md_sentence(a)}", ""]  # kinage's sentences as in results.json (user names escaped)
+    answers = _answers(run)
+    for q, verdict, _ in answers:
+        lines += [f"**{q}** {md_text(verdict)}", ""]  # the verdict lines as in results.json (user names escaped)
     for i, (question, parts) in enumerate(report_sections(run), 1):
-        lines += [f"## {i}. {question}", ""]
+        lines += [f"## {i}. {question}", "", f"> {md_text(answers[i - 1][1])}", ""]
         if not parts:
             lines += ["Not computed in this run.", ""]
         for name, blocks in parts:
             lines += [f"### {_TITLES.get(name, name)}", ""]
             for b in blocks:
                 if b["kind"] == "text":
-                    lines += [b["text"], ""]
+                    lines += [md_text(b["text"]), ""]
                 elif b["kind"] == "pair":
-                    lines += [f"![{b['caption']}]({rel(b['figure'])})", "", f"*{b['caption']}*", ""]
+                    cap = md_text(b["caption"])
+                    lines += [f"![{cap}]({rel(b['figure'])})", "", f"*{cap}*", ""]
                     lines += _md_rows(b["header"], b["rows"])
                 elif b["kind"] == "rows":
                     lines += _md_rows(None, b["rows"])
@@ -332,8 +345,8 @@ def render_markdown(run):
                 elif b["kind"] == "psets":
                     lines += ["Parameter sets:", ""]
                     for p in b["items"]:
-                        lines.append(f"- {p['kind']} `{p['name']}`: {md_escape(p['description'])}"
-                                     + (f" ({md_escape('; '.join(p['references']))})" if p["references"] else ""))
+                        lines.append(f"- {p['kind']} {md_code(p['name'])}: " + md_text(
+                            p["description"] + (f" ({'; '.join(p['references'])})" if p["references"] else "")))
                     lines.append("")
     for name, msg in run.failed.items():
         lines += [f"## Stage '{name}' failed", "", md_code(msg), "",
@@ -341,10 +354,11 @@ def render_markdown(run):
     rows, psets, hashes = provenance_rows(run)
     lines += ["## Provenance", ""] + _md_rows(None, rows)
     if psets:
-        lines += ["Parameter sets used:", ""] + [f"- {p['kind']} `{p['name']}`: {md_escape('; '.join(p['references']))}"
-                                                  for p in psets] + [""]
+        lines += ["Parameter sets used:", ""] + [
+            f"- {p['kind']} {md_code(p['name'])}: {md_text('; '.join(p['references']))}" for p in psets] + [""]
     if hashes:
-        lines += ["| input file | SHA-256 |", "|---|---|"] + [f"| {md_escape(f)} | `{h}` |" for f, h in hashes] + [""]
+        lines += ["| input file | SHA-256 |", "|---|---|"] + [
+            f"| {md_text(f, cell=True)} | `{h}` |" for f, h in hashes] + [""]
     lines += ["All numbers are in [results.json](results.json).", ""]
     return "\n".join(lines)
 
@@ -360,11 +374,13 @@ def render_html(run):
             "<a href='results.json'>results.json</a>; provenance at the end.</p>",
             f"<p class='caution'><b>Caution.</b> {e(CAUTION)}</p>",
             "<h2>Summary</h2>", "<dl class='summary'>"]
-    for i, (q, a) in enumerate(_answers(run), 1):
-        body.append(f"<dt><a href='#q{i}'>{e(q)}</a></dt><dd>{e(a)}</dd>")
+    answers = _answers(run)
+    for i, (q, verdict, _) in enumerate(answers, 1):
+        body.append(f"<dt><a href='#q{i}'>{e(q)}</a></dt><dd class='verdict' id='verdict-{_VERDICT_IDS[i - 1]}'>"
+                    f"{e(verdict)}</dd>")
     body.append("</dl>")
     for i, (question, parts) in enumerate(report_sections(run), 1):
-        body.append(f"<h2 id='q{i}'>{i}. {e(question)}</h2>")
+        body.append(f"<h2 id='q{i}'>{i}. {e(question)}</h2><p class='verdict-line'>{e(answers[i - 1][1])}</p>")
         if not parts:
             body.append("<p>Not computed in this run.</p>")
         for name, blocks in parts:

@@ -14,6 +14,7 @@ margin-top:2rem}h3{font-size:1.02rem;margin:1.2rem 0 .4rem}
 .caution{background:#fff8e6;border-left:4px solid #E69F00;padding:.45rem .9rem;font-size:.9rem}
 .summary{background:#f4f7fb;border-left:4px solid #0072B2;padding:.5rem 1rem}
 .summary dt{font-weight:600;margin-top:.4rem}.summary dd{margin-left:0}
+.verdict-line{font-weight:600;border-left:3px solid #0072B2;padding-left:.6rem}
 table{border-collapse:collapse;font-size:.85rem;margin:.3rem 0}td,th{border:1px solid #ddd;padding:.18rem .45rem;
 text-align:left;vertical-align:top}th{background:#f6f6f6}
 .pair{display:flex;flex-wrap:wrap;gap:1rem;align-items:flex-start;margin:.8rem 0 1.2rem}

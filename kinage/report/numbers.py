@@ -17,8 +17,8 @@ results table):
 
 import math
 
-from ..display.numbers import (_age_unit, _g2, fit_constrained, fmt, fmt_age, fmt_age_interval, fmt_duration_s,
-                               fmt_interval, fmt_power, round_to_error, value_error)
+from .._rounding import percent_text, round_to_error, value_error
+from ..display.numbers import _g2, fit_constrained, fmt, fmt_age, fmt_age_interval, fmt_duration_s, fmt_interval, fmt_power
 
 __all__ = ["stage_rows", "fmt", "fmt_interval", "value_error", "fmt_age", "fmt_age_interval", "fmt_duration_s",
            "round_to_error", "fmt_power", "expected_parallax_mas", "astrometry_source_words", "LABELS",
@@ -103,6 +103,12 @@ def forecast_rows(d, expected_parallax=None):
     """Rows of a forecast; ``expected_parallax`` (mas) turns a parallax error above it into words."""
     rows = [("visits (TOAs)", f"{d.get('n_toas')} over {fmt(d.get('baseline_yr'))} yr"),
             ("median TOA error", fmt_duration_s(d.get("toa_error_s")))]
+    if d.get("sun_avoidance_deg") is not None:
+        src = d.get("sun_avoidance_source") or "given"
+        how = "" if src == "given" else f", {src}: set [campaign] sun_avoidance or band to change it"
+        moved = d.get("visits_moved_for_sun") or 0
+        rows.append(("Sun avoidance", f"{fmt(d['sun_avoidance_deg'])}°{how}"
+                     + (f"; {moved} of {d.get('n_toas')} visits moved" if moved else "")))
     cons = d.get("constrained") or {}
     s = d.get("sigma") or {}
     if expected_parallax is None:
@@ -123,7 +129,7 @@ def forecast_rows(d, expected_parallax=None):
         rows.append(("proper-motion significance of this plan", f"{_g2(sig)}σ"))
     need = d.get("baseline_needed_yr")
     target = d.get("target_significance")
-    rows.append((f"baseline for {fmt(target)}σ", f"{_g2(need)} yr" if need is not None else
+    rows.append((f"baseline for {fmt(target)}σ", f"{need:.1f} yr" if need is not None else  # as sentence and figure
                  f"not reached within {fmt(d.get('max_baseline_yr'))} yr"))
     return rows
 
@@ -225,18 +231,7 @@ def shklovskii_text(shk):
 
 
 def _pct(x, err=None):
-    if x is None:
-        return "n/a"
-    p = 100.0 * x
-    if p < 0.1:
-        return "< 0.1%" if p > 0 else "0%"
-    if p > 99.9:
-        return "> 99.9%" if p < 100 or err else "100%"
-    if err and 100.0 * err < 0.05:  # a Monte Carlo error below what a percentage shows: the value alone
-        return f"{p:.1f}%"
-    if err:
-        return value_error(p, 100.0 * err, "%").replace(" %", "%")
-    return f"{p:.2g}%" if p < 10 else f"{p:.0f}%"
+    return percent_text(x, err)
 
 
 def association_rows(assocs, top=8, field=None, favoured=None):
@@ -261,7 +256,8 @@ def association_rows(assocs, top=8, field=None, favoured=None):
         if has_near:
             pn = a.get("neighbourhood_probability")
             r.append(_pct(pn, a.get("neighbourhood_probability_error")) if pn is not None else "n/a")
-        r += [_pct(a.get("encounter_fraction")), _pct(a.get("chance_fraction")),
+        r += [_pct(a.get("encounter_fraction"), a.get("encounter_fraction_error")),
+              _pct(a.get("chance_fraction"), a.get("chance_fraction_error")),
               fmt_age_interval(a.get("age_yr")), fmt_interval(a.get("dmin_pc"))]
         rows.append(r)
     if len(assocs) > top:
@@ -301,7 +297,10 @@ def ages_rows(d, raw_star=None):
         rows.append((f"maximum spin-down age for n = {fmt(d.get('braking_index'))}",
                      fmt_age(d["max_spin_down_age_yr"])))
     if d.get("dipole_field_gauss") is not None:
-        rows.append(("dipole field", f"{fmt_power(d['dipole_field_gauss'])} G"))
+        own = d.get("dipole_field_input_radius_gauss")
+        rows.append(("dipole field", f"{fmt_power(d['dipole_field_gauss'])} G (catalogue convention, R = 10 km)"
+                     + (f"; {fmt_power(own)} G for the [ages] radius"
+                        if own and fmt_power(own) != fmt_power(d["dipole_field_gauss"]) else "")))
     if d.get("spin_down_luminosity_erg_s") is not None:
         rows.append(("spin-down luminosity", f"{fmt_power(d['spin_down_luminosity_erg_s'])} erg/s"))
     if d.get("implied_initial_period_s") is not None:
@@ -331,9 +330,10 @@ def ages_rows(d, raw_star=None):
 
 
 def _age_range(lo, hi):
-    """'58–150 kyr': both ends with two significant figures in the upper end's unit."""
-    s, unit = _age_unit(hi)
-    return f"{fmt_power(lo / s)}–{fmt_power(hi / s)} {unit}"
+    """'58 kyr-150 kyr': both ends with two significant figures, as the ages summary writes the range."""
+    from ..ages.verdicts import format_age
+
+    return f"{format_age(lo, 2)}-{format_age(hi, 2)}"
 
 
 def stage_rows(stage, data, raw=None):

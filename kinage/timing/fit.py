@@ -46,6 +46,7 @@ from .noise import noise_from_campaign
 from .fit_result import FitResult
 from .gls import gls_step
 from .model import TimeGrid, TimingModel
+from .motion_verdict import total_motion_of as _total_motion_of
 from .priors import prior_solution
 from .reference import resolve_reference, timing_assumptions
 from .toas import (_period_text, check_errors_against_period, check_fit_table, frequency_column, read_toas, site_times,
@@ -275,3 +276,4 @@ class _DefaultCampaign:
 
     def value(self, name, unit=None, default=None):
         return self.get(name, default)
+

@@ -11,6 +11,7 @@ from ..astrometry import AstrometricSolution
 from ..display.protocol import ResultDisplay, _with_error, fmt
 from ..io.results import atomic_path
 from .forecast_result import TIMING_ASSUMPTIONS
+from .motion_verdict import total_motion_of as _total_motion_of
 from .reference import TOAReference
 
 __all__ = ["FitResult"]
@@ -53,7 +54,7 @@ class FitResult(ResultDisplay):
     converged : bool
     iterations : int
     final_step_sigma : float
-        Largest |step| / sigma of the last iteration.
+        Largest absolute step, in units of its error, of the last iteration.
     reference : TOAReference
         Where the TOAs are referred to.
     mjd, residuals_s, errors_s, signature_s : ndarray
@@ -102,6 +103,7 @@ class FitResult(ResultDisplay):
             "ra_deg": float(self.solution.ra.value),
             "dec_deg": float(self.solution.dec.value),
             "covariance": self.solution.covariance.tolist(),
+            "proper_motion_total_masyr": _total_motion_of(self.solution),
             "chi2": self.chi2,
             "chi2_reduced": self.chi2_reduced,
             "n_toas": self.n_toas,
@@ -125,23 +127,31 @@ class FitResult(ResultDisplay):
                                   "sigma": self.timing_solution.sigma_dict()}
         return out
 
+    def verdict_line(self):
+        """One quotable sentence on the motion (see :mod:`kinage.timing.motion_verdict`)."""
+        from .motion_verdict import motion_verdict
+
+        return motion_verdict(fit=self.to_dict())
+
     def summary(self):
+        from .._rounding import value_error
+
         v, s = self.solution.values_dict(), self.solution.sigma_dict()
         pri = " combined with the external prior" if self.solution.source == "timing+prior" else ""
         if min(s["pm_ra_cosdec_masyr"], s["pm_dec_masyr"]) > 1000.0:
             # 1 arcsec/yr: faster than any known neutron star, so the fit does not constrain the motion; the
             # numbers stay in the JSON but are not quoted as if they were measurements
             plx = ("nor the parallax" if s["parallax_mas"] > 1000.0
-                   else f"though it gives a parallax of {v['parallax_mas']:.3g} +/- {s['parallax_mas']:.2g} mas")
+                   else f"though it gives a parallax of {value_error(v['parallax_mas'], s['parallax_mas'], 'mas')}")
             return (f"The timing fit of {self.n_toas} TOAs (at the {self.reference.kind}){pri} does not constrain "
                     f"the proper motion ({plx}): its errors exceed 1 arcsec/yr, where the linearised timing model "
                     f"has no meaning, so imaging astrometry is needed for the motion (reduced chi-square "
                     f"{self.chi2_reduced:.2f}{'' if self.converged else ', NOT converged'}).")
-        from ..display.numbers import round_to_error
+        from .._rounding import round_to_error
 
         def pm(key):  # value and error rounded to the error (Particle Data Group rule)
             value, error = round_to_error(v[key], s[key])
-            return f"{value} +/- {error}" if error is not None else value
+            return f"{value} ± {error}" if error is not None else value
 
         plx = v["parallax_mas"], s["parallax_mas"]
         if abs(plx[0]) < 2.0 * plx[1]:

@@ -75,7 +75,9 @@ def pm_error_along(cov, direction):
 def _full_plan(scenario, ra, dec, max_b, direction=None):
     """Plan at the scenario's own baseline, the regular plan out to ``max_b`` for the sweep, and the window."""
     c = scenario.campaign
-    angle = c.value("sun_avoidance", "deg", 45.0)
+    from .plan import sun_avoidance
+
+    angle = sun_avoidance(c)[0]
     plan = table_errors = None
     schedule = schedule_of(c)
     if c.get("toas") is not None and c.get("dates") is None and c.get("start") is None:
@@ -150,6 +152,11 @@ def forecast(scenario, *, progress=False, method="woodbury"):
     motion = inputs.expected_proper_motion(scenario)
     plan, sweep_mjd, sweep_nominal, vpy, table_errors, sweep_scale, window = _full_plan(
         scenario, ra, dec, max_b, motion.direction)
+    from dataclasses import replace as _replace
+
+    from .plan import sun_avoidance
+
+    plan = _replace(plan, sun_avoidance_source=sun_avoidance(scenario.campaign)[1])
     warnings += plan.notes
     if plan.n_visits <= model.n_parameters:
         # name the key that set the plan: explicit dates, the TOA table, or the regular cadence

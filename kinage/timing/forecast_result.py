@@ -134,6 +134,8 @@ class ForecastResult(ResultDisplay):
             "reverse": self.reverse,
             "red_noise": self.red_noise,
             "visits_moved_for_sun": int(np.count_nonzero(self.plan.shift_days)),
+            "sun_avoidance_deg": float(self.plan.sun_avoidance_deg),
+            "sun_avoidance_source": self.plan.sun_avoidance_source,
             "sweep": {k: np.asarray(v).tolist() for k, v in self.sweep.items()},
             "warnings": list(self.warnings),
             "schedule": self.plan.schedule,
@@ -155,6 +157,12 @@ class ForecastResult(ResultDisplay):
         from .forecast_words import constrained
 
         return constrained(self.solution.sigma_dict(), self.pm_error_along_motion)
+
+    def verdict_line(self):
+        """One quotable sentence on the motion (see :mod:`kinage.timing.motion_verdict`)."""
+        from .motion_verdict import motion_verdict
+
+        return motion_verdict(forecast=self.to_dict())
 
     def summary(self):
         from .forecast_words import forecast_summary

@@ -28,6 +28,43 @@ from astropy.time import Time
 from ..errors import InputError
 from .design import SCHEDULES, criterion, exchange_design, year_blocks
 
+#: default Sun avoidance by ``[campaign] band``, deg: X-ray and optical space telescopes keep roughly 45-50 deg
+#: from the Sun, radio telescopes observe to within a few degrees (timing that close suffers from the solar
+#: wind, hence 10 deg); typical values of the trade (common practice, values from memory)
+BAND_SUN_AVOIDANCE_DEG = {"xray": 45.0, "optical": 45.0, "radio": 10.0}
+#: without a band the X-ray value (the default of kinage 0.2)
+DEFAULT_SUN_AVOIDANCE_DEG = 45.0
+
+
+def sun_avoidance(campaign):
+    """The Sun-avoidance angle (deg) and where it comes from.
+
+    Parameters
+    ----------
+    campaign : Section
+        The scenario's ``[campaign]``.
+
+    Returns
+    -------
+    (float, str)
+        The angle and "given", "default for band 'radio'" or "default (no band given)".
+    """
+    given = campaign.value("sun_avoidance", "deg", None)
+    if given is not None:
+        return float(given), "given"
+    band = campaign.get("band")
+    if band in BAND_SUN_AVOIDANCE_DEG:
+        return BAND_SUN_AVOIDANCE_DEG[band], f"default for band '{band}'"
+    return DEFAULT_SUN_AVOIDANCE_DEG, "default (no band given)"
+
+
+def sun_avoidance_words(campaign):
+    """'to keep 45 deg from the Sun (default for band 'xray'; set [campaign] sun_avoidance or band to change it)'."""
+    angle, source = sun_avoidance(campaign)
+    if source == "given":
+        return f"to keep {angle:g} deg from the Sun ([campaign] sun_avoidance)"
+    return f"to keep {angle:g} deg from the Sun ({source}; set [campaign] sun_avoidance or band to change it)"
+
 __all__ = ["ObservingPlan", "SunWindow", "sun_separation", "regular_epochs", "make_plan", "optimised_epochs",
            "schedule_of", "scenario_plan", "schedule_combinations", "candidate_rows", "SUN_MARGIN_DEG", "SCHEDULES"]
 
@@ -170,6 +207,8 @@ class ObservingPlan:
     notes : list of str
     schedule : str
         ``'even'``, ``'parallax'``, ``'motion'`` or ``'dates'`` (explicit dates or a TOA table).
+    sun_avoidance_source : str
+        Where the angle comes from (see :func:`sun_avoidance`).
     """
 
     mjd: np.ndarray
@@ -179,6 +218,7 @@ class ObservingPlan:
     sun_avoidance_deg: float
     notes: list = field(default_factory=list)
     schedule: str = "even"
+    sun_avoidance_source: str = "given"
 
     @property
     def n_visits(self):
@@ -240,7 +280,7 @@ def make_plan(campaign, ra_deg, dec_deg, *, baseline_yr=None, window=None, direc
     name = schedule_of(campaign) if schedule is None else schedule
     if name not in SCHEDULES:
         raise InputError("[campaign] schedule", f"expected one of {', '.join(SCHEDULES)} (got {name!r})")
-    angle = campaign.value("sun_avoidance", "deg", 45.0)
+    angle = sun_avoidance(campaign)[0]
     exposure = campaign.value("exposure", "s", np.nan)
     dates = campaign.get("dates")
     if dates is not None and baseline_yr is None:
@@ -285,7 +325,7 @@ def make_plan(campaign, ra_deg, dec_deg, *, baseline_yr=None, window=None, direc
     notes = []
     if np.any(shift != 0):
         notes.append(f"{int(np.count_nonzero(shift))} of {mjd.size} visits moved by up to "
-                     f"{np.max(np.abs(shift)):.0f} d to keep {angle:g} deg from the Sun")
+                     f"{np.max(np.abs(shift)):.0f} d {sun_avoidance_words(campaign)}")
     return ObservingPlan(mjd[order], np.full(mjd.size, exposure), shift, float(baseline_yr), angle, notes)
 
 

@@ -219,12 +219,24 @@ def residual_figure(result, path=None, ax=None):
         grid = (result.signature_grid[0], result.signature_grid[1] - offset)
     top_unit, top = _time_unit(np.concatenate([sig - offset, grid[1] if grid else []]))
     res_unit, rs = _time_unit(np.concatenate([result.residuals_s, result.errors_s]))
+    from .forecast_words import constrained
+
+    sd = result.solution.sigma_dict()
+    measured = constrained(sd, max(sd["pm_ra_cosdec_masyr"], sd["pm_dec_masyr"]))
+    measured = measured["proper_motion"] or measured["parallax"]
     with style_context():
         fig, (ax1, ax2) = _axes(ax, 2, aspect=1.0, sharex=True)
-        if grid is not None:
+        if grid is not None and measured:
             ax1.plot(grid[0], grid[1] * top, color=color(0), lw=1.0, label="fitted astrometric delay")
         ax1.errorbar(mjd, (result.residuals_s + sig - offset) * top, yerr=result.errors_s * top, fmt="o", ms=2.5,
-                     color=color(1), elinewidth=0.7, label="residual + fitted delay")
+                     color=color(1), elinewidth=0.7,
+                     label="residual + fitted delay")
+        if not measured:
+            # errors beyond what any neutron star could show (see forecast_words): the fitted delay is whatever
+            # the noise allows, so it is not drawn as a curve, and the panel says why
+            # (above the panel, clear of the points it qualifies)
+            ax1.text(1.0, 1.02, "astrometry not constrained (errors > 1 arcsec/yr):\nno fitted delay curve drawn",
+                     transform=ax1.transAxes, ha="right", va="bottom", fontsize=6.5, color="0.25")
         ax1.set_ylabel(f"astrometric delay − mean ({top_unit})")
         ax1.legend(loc="lower left", bbox_to_anchor=(0, 1.0), ncols=2, fontsize=6.5, borderaxespad=0.2)
         if ax2 is not None:

@@ -49,7 +49,10 @@ def test_young_pulsar_through_the_command_line(tmp_path, capsys):
     d = json.loads(out.read_text())
     p_s, pdot = 0.0812, 1.07e-13
     assert d["characteristic_age_yr"] == pytest.approx(_tau_c(p_s, pdot), rel=1e-9)  # 12,024 yr
-    assert d["dipole_field_gauss"] == pytest.approx(3.2e19 * np.sqrt(p_s * pdot), rel=1e-9)  # 2.98e12 G
+    # Lorimer & Kramer 2005, eq. 3.15: 3.2e19 sqrt(P Pdot) G at R = 10 km, I = 1e45 g cm^2 (the catalogue
+    # convention, 2.98e12 G), and B ~ R^-3 at the [ages] radius (default 12 km)
+    assert d["dipole_field_gauss"] == pytest.approx(3.2e19 * np.sqrt(p_s * pdot), rel=1e-9)
+    assert d["dipole_field_input_radius_gauss"] == pytest.approx(3.2e19 * np.sqrt(p_s * pdot) * (10 / 12) ** 3, rel=1e-9)
     edot = (4 * np.pi**2 * 1e45 * u.g * u.cm**2 * pdot / (p_s * u.s) ** 3).to_value(u.erg / u.s)
     assert d["spin_down_luminosity_erg_s"] == pytest.approx(edot, rel=1e-9)  # 7.9e36 erg/s
     # the kinematic age quoted is the one given (lognormal: median = value), not a Monte Carlo median

@@ -261,9 +261,10 @@ def test_fit_takes_toas_as_path_or_table_in_either_order(tmp_path):
     scn_path, toa_path = tmp_path / "scenario.toml", tmp_path / "toas.ecsv"
     with warnings.catch_warnings():
         warnings.simplefilter("ignore", kinage.KinageWarning)
-        a = kinage.fit(toa_path, scn_path)
-        b = kinage.fit(read_toas(toa_path), kinage.load_scenario(scn_path))  # an astropy Table in memory
-        c = kinage.fit(scn_path, toa_path)
+        a = kinage.fit(scn_path, toa_path)  # scenario first, as in the other front doors
+        b = kinage.fit(kinage.load_scenario(scn_path), read_toas(toa_path))  # an astropy Table in memory
+        with pytest.warns(DeprecationWarning, match="scenario first"):
+            c = kinage.fit(toa_path, scn_path)  # the order of kinage 0.2 still works for one release
     # the same least-squares problem whichever way the TOAs arrive (common practice, no source)
     assert a.to_dict()["values"] == b.to_dict()["values"] == c.to_dict()["values"]
     assert a.n_toas == len(read_toas(toa_path))

@@ -112,7 +112,7 @@ def test_front_doors_name_the_argument_for_wrong_objects():
     with pytest.raises(kinage.InputError, match=r"\[trace\] associations: expected a file path"):
         kinage.trace(scn, associations={"name": ["Brenmark OB3"]})
     with pytest.raises(kinage.InputError, match="toas: expected a TOA file path"):
-        kinage.fit(5, {"star": _star()})
+        kinage.fit({"star": _star()}, 5)
     with pytest.raises(kinage.InputError, match="trace: expected the TraceResult"):
         kinage.compare_ages({"star": _star()}, trace=3)
     # numpy.random.default_rng takes None, a non-negative int, a SeedSequence, a BitGenerator or a Generator
@@ -141,7 +141,7 @@ def test_simulation_table_is_a_table_and_gives_a_qtable():
     assert again.table().colnames == q.colnames
     with warnings.catch_warnings():
         warnings.simplefilter("ignore", kinage.KinageWarning)
-        a, b = kinage.fit(sim.table, scn), kinage.fit(q, scn)
+        a, b = kinage.fit(scn, sim.table), kinage.fit(scn, q)
     assert a.to_dict()["values"] == b.to_dict()["values"]  # the same TOAs (common practice, no source)
     # the repr rounds each value to the precision of its error (common practice, no source); errors beyond
     # 1 arcsec (/yr) mean the linearised timing model says nothing, and the repr says so

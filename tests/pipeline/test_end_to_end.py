@@ -107,29 +107,35 @@ def test_report_summary_is_traceable_to_results_json(demo_run):
     html = (demo_run.out_dir / "report.html").read_text()
     md = (demo_run.out_dir / "report.md").read_text()
     checked = 0
-    for stage, text in d["summary"].items():
+    # the verdict lines: one sentence per question, traced to the sections of the stages that answer it
+    answers = {"motion": ("fit", "forecast"), "birthplace": ("trace",), "ages": ("ages",)}
+    texts = [(stage, text, [stage]) for stage, text in d["summary"].items() if stage != "verdicts"]
+    texts += [(key, text, [s for s in answers[key] if s in d]) for key, text in d["summary"]["verdicts"].items()]
+    for stage, text, sections in texts:
         assert h.escape(text) in html, stage
         assert text in md, stage
         # every number in the summary sentence is a number of the stage's JSON section, rounded as printed
         # (in the same unit or a decimal multiple); "68%" names the interval (lo68/hi68 keys); a "factor x" or
         # "x times" is the ratio of two JSON numbers that the sentence also prints
-        values = np.array(_json_numbers(d[stage]))
+        values = np.array([x for sec in sections for x in _json_numbers(d[sec])])
         assert values.size, stage
         scaled = np.concatenate([values * f for f in _SCALES])
         nums = _summary_numbers(text)
         assert nums, stage
-        matched = []
+        matched, unmatched = [], []
         for x, half, tok, after in nums:
             if x == 68 and after.startswith("%"):
                 continue
             hit = np.abs(scaled - x) <= half
             if hit.any():
                 matched.append(values[np.nonzero(hit)[0] % values.size])
-                checked += 1
-                continue
-            ratios = [a / b for m1 in matched for m2 in matched for a in m1 for b in m2 if b]
-            assert any(abs(r - x) <= half for r in ratios), f"{stage}: {tok!r} ({after!r}) is not in results.json"
+            else:
+                unmatched.append((x, half, tok, after))
             checked += 1
+        # a factor may stand before the second of the two numbers it compares ("2.5x below ... (1.90 Myr)")
+        ratios = [a / b for m1 in matched for m2 in matched for a in m1 for b in m2 if b]
+        for x, half, tok, after in unmatched:
+            assert any(abs(r - x) <= half for r in ratios), f"{stage}: {tok!r} ({after!r}) is not in results.json"
     assert checked >= 20  # the four summaries carry many numbers
 
 

@@ -33,18 +33,21 @@ def test_time_unit_from_its_size(seconds, unit):
 def test_age_interval_in_one_unit_from_the_median():
     # the narrower half-width (136 kyr) has two significant figures by the Particle Data Group rule, so the
     # median and both ends are given to 10 kyr alike
-    assert fmt_age_interval({"median": 469e3, "lo68": 333e3, "hi68": 616e3}) == "470 (68%: 330–620) kyr"
-    assert fmt_age_interval({"median": 1.31e6, "lo68": 1.18e6, "hi68": 1.45e6}).endswith("Myr")
+    assert fmt_age_interval({"median": 469e3, "lo68": 333e3, "hi68": 616e3}) == "470 kyr (68%: 330-620 kyr)"
+    assert fmt_age_interval({"median": 1.31e6, "lo68": 1.18e6, "hi68": 1.45e6}) == "1.31 Myr (68%: 1.18-1.45 Myr)"
 
 
 @pytest.mark.parametrize("interval, expected", [
     # one decimal place for median and ends, from the narrower half-width (Particle Data Group rule: 55 -> one
     # figure, 43.8 -> one figure, 532 -> one figure), never fewer than two significant figures of the median
-    ({"median": 407.0, "lo68": 352.0, "hi68": 490.0}, "410 (68%: 350–490)"),
-    ({"median": 55.8, "lo68": 12.0, "hi68": 160.0}, "56 (68%: 12–160)"),
-    ({"median": 652.0, "lo68": 120.0, "hi68": 2200.0}, "650 (68%: 120–2200)"),
+    ({"median": 407.0, "lo68": 352.0, "hi68": 490.0}, "410 (68%: 350-490)"),
+    ({"median": 55.8, "lo68": 12.0, "hi68": 160.0}, "56 (68%: 12-160)"),
+    ({"median": 652.0, "lo68": 120.0, "hi68": 2200.0}, "650 (68%: 120-2,200)"),
     # a range through zero reads "from -250 to 290", not "-250–290" (common practice, no source)
-    ({"median": 45.0, "lo68": -253.0, "hi68": 289.0}, "40 (68%: -250 to 290)"),
+    ({"median": 45.0, "lo68": -253.0, "hi68": 289.0}, "50 (68%: -250 to 290)"),
+    # an end that is not zero keeps its sign: a radial velocity 45 (68%: -3.5 to 104) km/s rounded to tens
+    # must not read "0-100" (common practice, no source)
+    ({"median": 45.0, "lo68": -3.5, "hi68": 104.0}, "50 (68%: -3.5 to 100)"),
 ])
 def test_interval_median_and_ends_share_one_precision(interval, expected):
     assert fmt_interval(interval) == expected
@@ -110,7 +113,7 @@ def test_parallax_beyond_reach_is_said_in_words():
     rows = dict(fit_rows(fit, expected_parallax=1000.0 / 650.0))
     assert "not constrained" in rows["parallax"] and "1.5 mas" in rows["parallax"]
     assert "not constrained" not in rows["proper motion, ra*cos(dec)"]
-    assert rows["proper motion, dec"] == "-28 ± 18 mas/yr (1.6σ)"  # value to the error's precision
+    assert rows["proper motion, dec"] == "-29 ± 18 mas/yr (1.6σ)"  # value to the error's precision, halves away from zero
     fc = {"n_toas": 61, "baseline_yr": 6.0, "toa_error_s": 9.5e-5, "constrained": {},
           "sigma": {"pm_ra_cosdec_masyr": 4.75, "pm_dec_masyr": 18.1, "parallax_mas": 40.4},
           "expected_pm_masyr": 101.26, "expected_motion": {"distance_pc": 650.0}, "pm_significance": 7.64,

@@ -530,11 +530,11 @@ def test_fit_front_door_with_a_bad_table(tmp_path):
     tab = Table.read(DEMO / "toas.ecsv", format="ascii.ecsv")
     tab["error"] = np.asarray(tab["error"], float) * u.deg
     with pytest.raises(InputError, match="'error'"):
-        kinage.fit(tab, scn)
+        kinage.fit(scn, tab)
     masked = Table(Table.read(DEMO / "toas.ecsv", format="ascii.ecsv"), masked=True)
     masked["error"].mask[3] = True
     with pytest.raises(InputError, match="row 4"):
-        kinage.fit(masked, scn)
+        kinage.fit(scn, masked)
 
 
 def test_keys_listing_shows_the_new_bounds(capsys):
