@@ -39,7 +39,7 @@ import numpy as np
 
 from ..progress import progress_bar
 from .chunks import run_draws
-from .probability import CONTROL_HITS, SUM_KEYS, kernel_group_sums, posterior_from_sums
+from .probability import CONTROL_HITS, kernel_sums, posterior_from_sums
 from .statistics import encounter_mask
 
 __all__ = ["control_draws_needed", "required_control_draws", "probability_control_draws", "FIRST_ROUND",
@@ -124,15 +124,15 @@ def probability_control_draws(ctrl, main, adraws, afailed, cfg):
     for j in range(adraws.n_assoc):
         draws = [tuple(r[k][j].astype(float) if k != "edge" else r[k][j] for k in ("dmin", "tau", "edge"))
                  + (usable_draws(r, adraws, afailed, j),) for r in (main, ctrl)]
-        per_assoc.append(kernel_group_sums(draws[0], draws[1], adraws.radius_pc[j], adraws.age_myr[j],
+        per_assoc.append(kernel_sums(draws[0], draws[1], adraws.radius_pc[j], adraws.age_myr[j],
                                            cfg["tolerance"], cfg.get("neighbourhood_scale", 50.0)))
-    sums = {k: np.array([a[k] for a in per_assoc]) for k in SUM_KEYS}
+    sums = {k: np.array([a[k] for a in per_assoc]) for k in per_assoc[0]}
     res = posterior_from_sums(sums, cfg["field_prior"], cfg.get("neighbourhood_share", 0.0))
     need = 0.0
     for j in range(adraws.n_assoc):
         relevant = res["probability"][j] + res["neighbourhood_probability"][j] >= RELEVANT_PROBABILITY
-        passages = float(sums["control_wide"][j].sum())
-        if relevant and sums["main"][j].sum() > 0 and passages < CONTROL_HITS:
+        passages = float(sums["control_wide"][j])
+        if relevant and sums["main"][j] > 0 and passages < CONTROL_HITS:
             need = max(need, n_ctrl * CONTROL_HITS / max(passages, 0.5))
     return int(np.ceil(need))
 

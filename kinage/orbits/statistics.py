@@ -24,7 +24,7 @@ import numpy as np
 from ..io.results import interval
 from .common_origin import compare_common_origin
 from .probability import (DEFAULT_FIELD_PRIOR, DEFAULT_NEIGHBOURHOOD_SCALE_PC, DEFAULT_NEIGHBOURHOOD_SHARE,
-                          PROBABILITY_THRESHOLD, SUM_KEYS, birth_kernel, kernel_group_sums, posterior_from_sums,
+                          PROBABILITY_THRESHOLD, birth_kernel, kernel_sums, posterior_from_sums,
                           weighted_interval)
 
 __all__ = ["encounter_mask", "summarise_association", "rank_associations", "verdict", "PROBABILITY_THRESHOLD"]
@@ -107,14 +107,15 @@ def summarise_association(name, radius_pc, age_myr, dmin_pc, tau_myr, edge, vali
     out["probability_error"] = None
     out["likelihood_ratio"] = None
     out["likelihood_ratio_error"] = None
+    out["bayes_factor_is_lower_limit"] = False
     out["neighbourhood_probability"] = None
     out["neighbourhood_probability_error"] = None
     out["_sums"] = None
     if control is not None:
         cd, ct, ce, cv = control
         cenc = encounter_mask(cd, ct, ce, cv, radius_pc, age_myr, factor, tolerance_myr)
-        # per-group kernel sums for the probabilities (memory O(groups), not O(draws))
-        out["_sums"] = kernel_group_sums((dmin_pc, tau_myr, edge, valid), control, radius_pc, age_myr,
+        # kernel sums and moments for the probabilities (memory O(1), not O(draws))
+        out["_sums"] = kernel_sums((dmin_pc, tau_myr, edge, valid), control, radius_pc, age_myr,
                                          tolerance_myr, neighbourhood_scale_pc)
         nc = int(cv.sum())
         kc = int(cenc.sum())
@@ -145,12 +146,13 @@ def _assign_probabilities(summaries, field_prior, neighbourhood_share):
     """Set ``probability`` etc. on every summary; returns (field_probability, its error) or (None, None)."""
     if not summaries or any(s.get("_sums") is None for s in summaries):
         return None, None
-    sums = {k: np.array([s["_sums"][k] for s in summaries]) for k in SUM_KEYS}
+    sums = {k: np.array([s["_sums"][k] for s in summaries]) for k in summaries[0]["_sums"]}
     res = posterior_from_sums(sums, field_prior, neighbourhood_share)
     for i, s in enumerate(summaries):
         for key in ("probability", "probability_error", "likelihood_ratio", "likelihood_ratio_error",
                     "neighbourhood_probability", "neighbourhood_probability_error"):
             s[key] = float(res[key][i])
+        s["bayes_factor_is_lower_limit"] = bool(res["likelihood_ratio_is_lower_limit"][i])
     return res["field_probability"], res["field_probability_error"]
 
 
