@@ -49,7 +49,7 @@ class TraceResult(ResultDisplay):
     # ---------------------------------------------------------------- building
     @classmethod
     def build(cls, *, scenario, cfg, seed, frame, draws, adraws, ranked, favoured, verdict, failed, main, assoc,
-              times, cols, n_control, solution, field=None):
+              times, cols, n_control, solution, field=None, precision=None):
         masks = {s["name"]: s.pop("_mask") for s in ranked}
         index = {s["name"]: s.pop("_index") for s in ranked}
         settings = {
@@ -81,8 +81,8 @@ class TraceResult(ResultDisplay):
         psets += [get("velocity_prior", cfg["velocity_prior"].name), get("distance_prior", cfg["distance_prior"].name)]
         data = {"masks": masks, "index": index, "draws": draws, "adraws": adraws, "main": main, "assoc": assoc,
                 "times": times, "cols": cols, "frame": frame, "field": dict(field or {}),
-                "warnings": list(cfg.get("warnings", []))}
-        return cls(scenario.star.get("name") or "star", cfg["n"], seed, ranked, favoured, verdict, main["plane"],
+                "warnings": list(cfg.get("warnings", [])), "precision": dict(precision or {})}
+        return cls(scenario.star.get("name") or "star", draws.n, seed, ranked, favoured, verdict, main["plane"],
                    failed, settings, psets, _assumptions(cfg, draws), data)
 
     # ---------------------------------------------------------------- samples
@@ -187,15 +187,23 @@ class TraceResult(ResultDisplay):
         ``field_probability`` (+ ``_error``), ``field_prior``, ``neighbourhood_share``,
         ``neighbourhood_scale_pc``, ``probability_threshold``, ``favoured_radial_velocity_kms``,
         ``favoured_distance_pc`` (None unless an association is favoured),
-        ``plane_crossing_fraction``, ``plane_crossing_caveats`` and ``warnings``.
+        ``plane_crossing_fraction``, ``plane_crossing_caveats``, ``warnings``, and the Monte Carlo effort:
+        ``samples_used`` (star draws, = ``n_samples``), ``precision_reached`` (every probability's error below
+        ``probability_precision`` within ``max_samples`` draws) and ``largest_probability_error``.
         """
         pc = self.plane_crossing_age_samples()
         failed = self.failed_draws[:_MAX_FAILED_LISTED]
         field = self.data.get("field", {})
+        prec = self.data.get("precision", {})
         rv, dist = self._favoured_implies()
         return {
             "star": self.star_name,
             "n_samples": self.n_samples,
+            "samples_used": self.n_samples,
+            "precision_reached": prec.get("precision_reached"),
+            "probability_precision": prec.get("probability_precision"),
+            "max_samples": prec.get("max_samples"),
+            "largest_probability_error": prec.get("largest_probability_error"),
             "seed": self.seed,
             "associations": self.associations,
             "field_probability": field.get("field_probability"),
@@ -246,6 +254,11 @@ class TraceResult(ResultDisplay):
         for c in self.plane_crossing_caveats():
             if pc["median"] is not None:
                 text += " " + c
+        prec = self.data.get("precision", {})
+        if prec.get("precision_reached") is False:
+            text += (f" The probabilities' Monte Carlo errors (largest {prec['largest_probability_error']:.2g}) did "
+                     f"not reach the precision asked for ({prec['probability_precision']:.2g}) within "
+                     f"{self.n_samples:,} draws ([trace] max_samples); more draws would narrow them.")
         for w in self.data.get("warnings", []):
             text += " Warning: " + w
         return text
