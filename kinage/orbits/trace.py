@@ -46,7 +46,7 @@ DEFAULT_PRECISION = 0.03
 MAX_SAMPLES_FACTOR = 4
 
 
-def _settings(scenario, samples, potential):
+def _settings(scenario, samples, potential, max_samples=None):
     tr = scenario.trace
     if tr is None:
         raise InputError("[trace]", "missing table: tracing needs [trace] with at least 'associations'")
@@ -56,7 +56,7 @@ def _settings(scenario, samples, potential):
     if n < 1:
         raise InputError("samples", f"must be a positive integer (got {n})")
     pot_name = potential if potential is not None else tr.get("potential")
-    given_max = tr.get("max_samples")
+    given_max = max_samples if max_samples is not None else tr.get("max_samples")
     if given_max is not None and int(given_max) < n:
         raise InputError("[trace] max_samples", f"must not be below the samples asked for ({int(given_max):,} < {n:,})")
     return {
@@ -101,7 +101,7 @@ def _rng_and_seed(scenario, rng):
 
 
 def trace(scenario, *, solution=None, rng=None, samples=None, potential=None, progress=False,
-          method="dop853_c", associations=None):
+          method="dop853_c", associations=None, max_samples=None):
     """Trace a neutron star back to candidate birth associations.
 
     Parameters
@@ -115,6 +115,9 @@ def trace(scenario, *, solution=None, rng=None, samples=None, potential=None, pr
         Default: ``[trace] seed`` (1 when absent).
     samples : int, optional
         Overrides ``[trace] samples``.
+    max_samples : int, optional
+        Overrides ``[trace] max_samples`` (most star draws the probabilities' precision may ask for;
+        ``samples`` turns the added batches off).
     potential : str, optional
         Overrides ``[trace] potential`` ('none' = straight lines).
     progress : bool
@@ -128,7 +131,7 @@ def trace(scenario, *, solution=None, rng=None, samples=None, potential=None, pr
     -------
     TraceResult
     """
-    cfg = _settings(scenario, samples, potential)
+    cfg = _settings(scenario, samples, potential, max_samples)
     gen, seed = _rng_and_seed(scenario, rng)
     star_rng, assoc_rng, control_rng = gen.spawn(3)
     frame = solar_frame(cfg["solar"].name)
