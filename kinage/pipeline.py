@@ -149,7 +149,7 @@ def kinematic_age_input(scenario, trace_result=None):
         samples = samples[np.isfinite(samples)]
         # only when most draws crossed: otherwise the trace itself calls it no age estimate for the star
         if samples.size and samples.size >= 0.5 * max(getattr(trace_result, "n_samples", 0) or 0, 1):
-            return samples, "trace: time since the last Galactic-plane crossing (no association favoured)"
+            return samples, "plane-crossing"  # no association favoured: named so in every verdict
     return None, None
 
 

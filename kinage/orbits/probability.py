@@ -218,8 +218,9 @@ SUM_KEYS = ("main", "main_valid", "control", "control_wide", "control_valid", "n
 #: kernels summed over the star draws and over the control draws (order of the moment matrices)
 MAIN_KERNELS = ("main", "near")
 CONTROL_KERNELS = ("control", "control_wide", "control_near", "control_near_wide")
-#: variance one passage adds to a sum nothing has reached yet (kernel value 1); a sum with passages gets
-#: the square of its typical kernel value, sum k^2 / sum k (the count floor, see module docstring)
+#: variance one passage adds to a control sum nothing has reached yet (kernel value 1); a sum with passages
+#: gets the square of its typical kernel value, sum k^2 / sum k (the count floor, see module docstring); an
+#: empty star-draw sum gets none (its probability is ~0, and one passage would be a step, not a slope)
 PASSAGE_VARIANCE = 1.0
 #: the star never comes within this many widths of an association's surroundings: no birth nearby
 NEAR_REACH = 3.0
@@ -320,7 +321,7 @@ def _posteriors(km, vm, kc, kcw, vc, field_prior, near=None, share=0.0, near_ok=
     return prior_j * lam / z, (field_prior * (1.0 - share)) / z + p_near.sum(axis=0), lam, p_near, lam0
 
 
-def _sum_covariance(total, moments, n):
+def _sum_covariance(total, moments, n, empty=0.0):
     """Monte Carlo covariance of kernel sums over n draws, with the one-passage floor on the variances.
 
     Delta method for sums of independent draws: Cov(S_a, S_b) = sum k_a k_b - S_a S_b / n (Efron &
@@ -333,7 +334,7 @@ def _sum_covariance(total, moments, n):
     cov = np.asarray(moments, float) - np.outer(s, s) / max(float(n), 1.0)
     cov = 0.5 * (cov + cov.T)
     q = np.diag(np.asarray(moments, float))
-    one = np.where(s > 0, q / np.where(s > 0, s, 1.0), PASSAGE_VARIANCE)  # kernel of a typical passage
+    one = np.where(s > 0, q / np.where(s > 0, s, 1.0), empty)  # kernel of a typical passage
     cov[np.diag_indices_from(cov)] = np.maximum(np.diag(cov), 0.0) + one**2
     return cov
 
@@ -435,18 +436,25 @@ def posterior_from_sums(sums, field_prior, neighbourhood_share=0.0):
             grad = (x[:, cols] - x[:, :1]) / steps[j]
             gm, gc = grad[:, :2], grad[:, 2:]
             cov_m = _sum_covariance([base[k][j] for k in MAIN_KERNELS], mm[j], base["main_valid"][j])
-            cov_c = _sum_covariance([base[k][j] for k in CONTROL_KERNELS], cm[j], base["control_valid"][j])
+            cov_c = _sum_covariance([base[k][j] for k in CONTROL_KERNELS], cm[j], base["control_valid"][j],
+                                    empty=np.sqrt(PASSAGE_VARIANCE))
             if share == 0.0:  # the surroundings' kernels do not enter
                 gm, gc = gm[:, :1], gc[:, :2]
                 cov_m, cov_c = cov_m[:1, :1], cov_c[:2, :2]
             var += np.einsum("ia,ab,ib->i", gm, cov_m, gm) + np.einsum("ia,ab,ib->i", gc, cov_c, gc)
         return np.sqrt(var)
 
+    def perror(x):
+        """Error of a probability, never above sqrt(P (1 - P)), the largest standard deviation of a
+        quantity in [0, 1] with that mean (Bhatia & Davis 2000, Am. Math. Mon. 107, 353)."""
+        x = np.atleast_2d(x)
+        return np.minimum(error(x), np.sqrt(np.clip(x[:, 0] * (1.0 - x[:, 0]), 0.0, 0.25)))
+
     lower = _chance(base["control"], base["control_wide"], base["control_valid"])[1] & (base["main"] > 0)
-    return {"probability": p[:, 0], "probability_error": error(p), "field_probability": float(p0[0]),
-            "field_probability_error": float(error(p0[None, :])[0]), "likelihood_ratio": lam[:, 0],
+    return {"probability": p[:, 0], "probability_error": perror(p), "field_probability": float(p0[0]),
+            "field_probability_error": float(perror(p0[None, :])[0]), "likelihood_ratio": lam[:, 0],
             "likelihood_ratio_error": error(lam), "likelihood_ratio_is_lower_limit": lower,
-            "neighbourhood_probability": pn[:, 0], "neighbourhood_probability_error": error(pn),
+            "neighbourhood_probability": pn[:, 0], "neighbourhood_probability_error": perror(pn),
             "near_reached": near_ok}
 
 
