@@ -6,6 +6,7 @@ import numpy as np
 
 from .._results import ResultDisplay
 from ..io.results import interval
+from .statistics import MIN_EFFECTIVE, with_n_effective
 from .probability import (DEFAULT_FIELD_PRIOR, DEFAULT_NEIGHBOURHOOD_SCALE_PC, DEFAULT_NEIGHBOURHOOD_SHARE, MODEL_TEXT,
                           PROBABILITY_THRESHOLD)
 
@@ -212,7 +213,7 @@ class TraceResult(ResultDisplay):
             "neighbourhood_share": field.get("neighbourhood_share"),
             "neighbourhood_scale_pc": field.get("neighbourhood_scale_pc"),
             "probability_threshold": field.get("probability_threshold"),
-            "plane_crossing_age_yr": interval(pc),
+            "plane_crossing_age_yr": with_n_effective(interval(pc)),
             "plane_crossing_fraction": float(pc.size / self.n_samples) if self.n_samples else None,
             "plane_crossing_caveats": self.plane_crossing_caveats(),
             "favoured": self.favoured,
@@ -238,13 +239,20 @@ class TraceResult(ResultDisplay):
         from ..ages.verdicts import format_age_interval, format_interval
 
         if rv is not None and rv["median"] is not None and dist["median"] is not None:
-            text += (f" Birth there implies a radial velocity of "
-                     f"{format_interval(rv['median'], rv['lo68'], rv['hi68'], 'km/s')} and a present distance of "
-                     f"{format_interval(dist['median'], dist['lo68'], dist['hi68'], 'pc')}.")
+            n_eff = rv.get("n_effective")
+            if n_eff is not None and n_eff < MIN_EFFECTIVE:
+                text += (f" Birth there implies a radial velocity of about "
+                         f"{format_interval(rv['median'], rv['lo68'], rv['hi68'], 'km/s', bare=True)} and a present "
+                         f"distance of about {format_interval(dist['median'], dist['lo68'], dist['hi68'], 'pc', bare=True)}"
+                         f" (from {n_eff:.2g} effective encounters, too few for an interval).")
+            else:
+                text += (f" Birth there implies a radial velocity of "
+                         f"{format_interval(rv['median'], rv['lo68'], rv['hi68'], 'km/s')} and a present distance of "
+                         f"{format_interval(dist['median'], dist['lo68'], dist['hi68'], 'pc')}.")
         pc = interval(self.plane_crossing_age_samples())
         if pc["median"] is not None:
             frac = pc["n"] / self.n_samples
-            when = (format_age_interval(pc) if pc["n"] >= 20 else
+            when = (format_age_interval(pc) if pc["n"] >= MIN_EFFECTIVE else
                     f"{format_age_interval(pc, bare=True)} (from {pc['n']} draw{'s' if pc['n'] > 1 else ''}, too few "
                     "for an interval)")
             text += (f" {_share(frac)} of the draws crossed the Galactic mid-plane within the "
