@@ -223,7 +223,7 @@ def _age_text(iv):
     from ..ages.verdicts import format_age, format_age_interval
 
     if iv.get("median") is None:
-        return "no age"
+        return "not measured (no draw met the encounter criterion)"
     n = iv.get("n_effective", iv.get("n"))
     if n is not None and n < MIN_EFFECTIVE:
         return f"~{format_age(iv['median'], 2)} (from {_count(n)} encounter{'' if round(n) == 1 else 's'})"
