@@ -45,10 +45,12 @@ def population_summary(table):
     crossed = np.isfinite(_col(table, "plane_crossing_time")) & ok & ~fav
     neither = ok & ~fav & ~crossed
     parts = [f"{n} stars: {int(ok.sum())} finished, {n - int(ok.sum())} failed."]
-    parts.append(f"{int(fav.sum())} are traced to a favoured birth association and have a kinematic age; of the "
-                 f"{int((ok & ~fav).sum())} without one, {int(crossed.sum())} crossed the Galactic plane "
-                 f"(the time since that crossing is known, an age only if the star was born in the mid-plane) and "
-                 f"{int(neither.sum())} have neither (most draws did not cross within the time searched).")
+    nf, nc, nn = int(fav.sum()), int(crossed.sum()), int(neither.sum())
+    parts.append(f"{nf} {'is' if nf == 1 else 'are'} traced to a favoured birth association and "
+                 f"{'has' if nf == 1 else 'have'} a kinematic age; of the {int((ok & ~fav).sum())} without one, "
+                 f"{nc} crossed the Galactic plane (the time since that crossing is known, an age only if the star "
+                 f"was born in the mid-plane) and {nn} {'has' if nn == 1 else 'have'} neither (most draws did not "
+                 "cross within the time searched).")
     p = _col(table, "probability")
     close = ok & ~fav & np.isfinite(p) & (p >= 0.3)
     if close.any():
