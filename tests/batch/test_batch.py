@@ -222,4 +222,4 @@ def test_population_summary_keeps_kinematic_age_and_plane_crossing_apart():
     assert list(t["best_association"]) == ["Quillon Group"] * 3 and t["favoured_association"][1] == ""
     text = population_summary(t)
     assert "1 is traced to a favoured birth association" in text
-    assert "1 crossed the Galactic plane" in text and "1 have neither" in text
+    assert "1 crossed the Galactic plane" in text and "1 has neither" in text
