@@ -80,17 +80,18 @@ estimate for sums of independent draws, sum k_a k_b - S_a S_b / n (Efron &
 Tibshirani 1993, An Introduction to the Bootstrap), and it is carried to the
 probabilities by their numerical gradient.  A sum carried by a handful of
 draws is a small Poisson count, whose plug-in variance is itself uncertain
-and is zero when nothing was seen; every variance therefore gets one
-passage's worth (``PASSAGE_VARIANCE``) added, so the stated error never
-falls below what one more or one fewer passage would change (coverage on
-repeated seeds: DEVELOPERS.md).  Chance rates
+and is zero when nothing was seen; every variance therefore gets one typical
+passage's worth added ((sum k^2 / sum k)^2; ``PASSAGE_VARIANCE`` for an
+empty control sum), so the stated error never falls below what one more or
+one fewer passage would change, and no error exceeds sqrt(P (1 - P)), the
+largest standard deviation in [0, 1] (Bhatia & Davis 2000, Am. Math. Mon.
+107, 353).  Coverage on repeated seeds: DEVELOPERS.md.  Chance rates
 with fewer than ``ZERO_PASSAGES_UPPER`` wide-kernel passages are replaced by
 that upper limit (84% Poisson upper limit after none; Gehrels 1986, ApJ 303,
 336), and the Bayes factor is then flagged as a lower limit.  Associations
 are treated as independent (their kernels rarely involve the same draws).
 A group jackknife used before could not see a handful of encounters: at 500
-draws it stated 0.92 +/- 0.03 for a probability of 0.74 (scripts in
-DEVELOPERS.md).
+draws it stated 0.92 +/- 0.03 for a probability of 0.74.
 
 Surroundings never approached.  When no star draw comes within
 ``NEAR_REACH`` widths sqrt(radius^2 + L^2) of a candidate (the largest
@@ -104,7 +105,8 @@ injects births, flies them with galpy and scores the stated probabilities by a
 reliability table and the Brier score (Brier 1950, Mon. Weather Rev. 78, 1;
 DeGroot & Fienberg 1983, The Statistician 32, 12).
 
-Units: pc, Myr, km/s.
+Units: pc, Myr, km/s.  (Longer than ~450 lines because the model, its kernel sums and their errors are one
+derivation, read together.)
 """
 
 import numpy as np
