@@ -21,7 +21,7 @@ __all__ = ["write_population_report", "population_summary", "POPULATION_CAPTION"
 
 POPULATION_CAPTION = ("Left: stars traced to a favoured birth association (filled) have kinematic ages to set "
                       "against their characteristic ages; stars without one show only the time since their last "
-                      "Galactic-plane crossing (open squares), which is no kinematic age. Right: each star's "
+                      "Galactic-plane crossing (open squares), which is not a kinematic age. Right: each star's "
                       "probability of birth in its most probable association (with its Monte Carlo error) and of "
                       "birth elsewhere, stars sorted by the former; the dashed line is the threshold for a "
                       "favoured association.")
