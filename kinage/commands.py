@@ -266,7 +266,11 @@ def _demo_batch(args, case, out):
                                seed=args.seed, samples=getattr(args, "samples", None), force=False,
                                quiet=getattr(args, "quiet", False), scheduler=None, workers=2)
     status = run_batch(bargs)
-    report = write_population_report(out / "results", command=f"kinage demo --case {case.name}")
+    import shlex
+
+    given = [f"--{k} {getattr(args, k)}" for k in ("seed", "samples") if getattr(args, k, None) is not None]
+    line = " ".join([f"kinage demo --case {case.name}", f"--out {shlex.quote(str(out))}"] + given)
+    report = write_population_report(out / "results", command=line)
     _say(args, f"finished in {time.perf_counter() - t0:.1f} s; report: {report}")
     return status
 

@@ -122,8 +122,9 @@ def kinematic_age_input(scenario, trace_result=None):
     """Kinematic-age samples (yr) and a label for the ages stage.
 
     The favoured association's encounter times from a trace, else the scenario's
-    ``[ages] kinematic_age``, else the plane-crossing age from the trace when at
-    least half of the draws crossed the mid-plane, else ``(None, None)``.
+    ``[ages] kinematic_age``, else, when no association is favoured, the times
+    since the Galactic-plane crossing (label ``"plane-crossing"``) when at least
+    half of the draws crossed the mid-plane, else ``(None, None)``.
     """
     if trace_result is not None:
         samples = np.asarray(trace_result.kinematic_age_samples(), float)
@@ -131,12 +132,13 @@ def kinematic_age_input(scenario, trace_result=None):
             return samples, f"trace: encounters with association {trace_result.favoured}"
     if scenario.ages is not None and scenario.ages.get("kinematic_age") is not None:
         return None, "scenario: [ages] kinematic_age"
-    if trace_result is not None and hasattr(trace_result, "plane_crossing_age_samples"):
+    if (trace_result is not None and hasattr(trace_result, "plane_crossing_age_samples")
+            and getattr(trace_result, "favoured", None) is None):  # only when no association is favoured
         samples = np.asarray(trace_result.plane_crossing_age_samples(), float)
         samples = samples[np.isfinite(samples)]
         # only when most draws crossed: otherwise the trace itself calls it no age estimate for the star
         if samples.size and samples.size >= 0.5 * max(getattr(trace_result, "n_samples", 0) or 0, 1):
-            return samples, "trace: time since the last Galactic-plane crossing (no association favoured)"
+            return samples, "plane-crossing"  # no association favoured: named so in every verdict
     return None, None
 
 

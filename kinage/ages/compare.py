@@ -22,7 +22,7 @@ from .draws import draw_kinematic_age, draw_spin, read_settings, star_motion
 from .envelope import star_structure
 from .pdot import pdot_note, pdot_state
 from .spin_values import _implied, _spin_down
-from .verdicts import age_verdicts, format_age, format_age_interval
+from .verdicts import PLANE_CROSSING_NAME, PLANE_CROSSING_SOURCE, age_verdicts, format_age, format_age_interval
 
 __all__ = ["AgesResult", "compare_ages"]
 
@@ -104,7 +104,9 @@ class AgesResult(ResultDisplay):
         tc = self.values.get("characteristic_age_yr")
         lower = self.values.get("characteristic_age_lower_limit_yr")
         if kin and kin.get("median") is not None:
-            parts.append(f"Kinematic age {format_age_interval(kin, bare=True)}")
+            name = ("Time since the Galactic-plane crossing" if self.kinematic.get("source") == PLANE_CROSSING_SOURCE
+                    else "Kinematic age")
+            parts.append(f"{name} {format_age_interval(kin, bare=True)}")
         if lower is not None:
             parts.append(f"characteristic age above {format_age(lower)} (2 sigma; Pdot consistent with zero)")
         elif tc is not None:
@@ -135,7 +137,8 @@ class AgesResult(ResultDisplay):
         """(label, interval) rows of the age-ladder figure."""
         u = self.uncertainties
         n = self.values.get("braking_index")
-        rows = [("kinematic", self.kinematic.get("interval")),
+        plane = self.kinematic.get("source") == PLANE_CROSSING_SOURCE
+        rows = [("time since plane crossing" if plane else "kinematic", self.kinematic.get("interval")),
                 ("characteristic P/2Pdot", u.get("characteristic_age_yr")),
                 (f"max. spin-down (n={n:.3g})", u.get("max_spin_down_age_yr"))]
         if self.values.get("initial_period_s") is not None:
@@ -181,6 +184,9 @@ class AgesResult(ResultDisplay):
                 else None
             paths.append(Path(plot_cooling_curves(curves, out / "ages_cooling_curves.png", temperature=temp,
                                                   kinematic=self.kinematic.get("interval"),
+                                                  kinematic_name=("time since the plane crossing"
+                                                                  if self.kinematic.get("source") == PLANE_CROSSING_SOURCE
+                                                                  else "kinematic age"),
                                                   title=f"Cooling curves ({self.cooling.model}) and {self.star}")))
         return paths
 
@@ -200,7 +206,8 @@ def compare_ages(scenario, *, kinematic_age_samples=None, kinematic_age_source=N
         Monte Carlo kinematic ages from the trace stage; otherwise
         ``[ages] kinematic_age`` +- error, drawn lognormally; otherwise none.
     kinematic_age_source : str, optional
-        Short description for the report.
+        Short description for the report; ``"plane-crossing"`` when the samples are times since the
+        Galactic-plane crossing (then named so in every verdict, never "kinematic age").
     rng : numpy.random.Generator or int or None
         None: ``[trace] seed`` if given, else 1.
     heating : callable or None
@@ -321,7 +328,8 @@ def compare_ages(scenario, *, kinematic_age_samples=None, kinematic_age_source=N
     pset = get_pset("cooling_model", s.cooling_model, "[ages] cooling_model")
 
     # verdicts -----------------------------------------------------------------
-    verdicts = age_verdicts(values, unc, kin_iv, cool, s)
+    verdicts = age_verdicts(values, unc, kin_iv, cool, s,
+                            kin_name=PLANE_CROSSING_NAME if source == PLANE_CROSSING_SOURCE else "kinematic age")
     inputs = {"star": star.to_dict(), "ages": scenario.ages.to_dict() if scenario.ages is not None else {}}
     return AgesResult(
         star=str(star.get("name", "star")), values=values, uncertainties=unc,

@@ -110,7 +110,8 @@ def plot_age_ladder(rows, path=None, title=None, ax=None):
         return _finish(fig, path)
 
 
-def plot_cooling_curves(curves, path=None, *, temperature=None, kinematic=None, title=None, ax=None,
+def plot_cooling_curves(curves, path=None, *, temperature=None, kinematic=None, kinematic_name="kinematic age",
+                        title=None, ax=None,
                         temperature_label=None):
     """Cooling curves T_inf(t) with the star as a point at its kinematic age.
 
@@ -163,9 +164,9 @@ def plot_cooling_curves(curves, path=None, *, temperature=None, kinematic=None, 
             if have_t:
                 t, e = temperature
                 ax.errorbar([xm], [t], xerr=xerr, yerr=[[e], [e]] if e else None, fmt="o", ms=5, color=STAR_COLOR,
-                            mec="k", mew=0.5, capsize=3, zorder=5, label="star at its kinematic age (68%)")
+                            mec="k", mew=0.5, capsize=3, zorder=5, label=f"star at its {kinematic_name} (68%)")
             else:
-                ax.axvline(xm, color=STAR_COLOR, lw=0.9, label="kinematic age")
+                ax.axvline(xm, color=STAR_COLOR, lw=0.9, label=kinematic_name)
         ax.set_xscale("log")
         ax.set_yscale("log")
         _plain_log_ticks(ax.xaxis)

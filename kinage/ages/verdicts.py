@@ -16,10 +16,11 @@ import numpy as np
 
 from ..display.sentences import format_age, format_age_interval, format_interval
 from .cooling_verdicts import cooling_pair_verdict
-from .intervals import _side_sigma, compare_intervals, format_factor, log_sigma  # noqa: F401 (re-exported)
+from .intervals import compare_intervals, format_factor, log_sigma  # noqa: F401 (re-exported)
 
 __all__ = ["ages_verdict", "format_age", "format_interval", "format_age_interval", "format_factor", "log_sigma",
-           "compare_intervals", "pair_verdict", "age_verdicts", "cooling_explanations", "cooling_caveat"]
+           "compare_intervals", "pair_verdict", "age_verdicts", "cooling_explanations", "cooling_caveat",
+           "PLANE_CROSSING_SOURCE", "PLANE_CROSSING_NAME"]
 
 
 def pair_verdict(pair, name_a, a, name_b, b, *, if_younger="", if_older="", missing=None):
@@ -170,7 +171,14 @@ def cooling_caveat(cool, threshold=0.1):
     return ""
 
 
-def age_verdicts(values, unc, kin, cool, s):
+#: ``kinematic_age_source`` of a plane-crossing time standing in for a kinematic age
+PLANE_CROSSING_SOURCE = "plane-crossing"
+#: how a plane-crossing time is named wherever it is compared with other ages
+PLANE_CROSSING_NAME = ("time since the Galactic-plane crossing (an age only if the star was born in the "
+                       "mid-plane)")
+
+
+def age_verdicts(values, unc, kin, cool, s, kin_name="kinematic age"):
     """Verdicts for the pairs kinematic-characteristic, kinematic-spin_down (when P0 is given),
     kinematic-cooling and characteristic-cooling.
 
@@ -188,6 +196,8 @@ def age_verdicts(values, unc, kin, cool, s):
         Kinematic-age interval, yr.
     cool : CoolingAgeResult or None
     s : AgesSettings
+    kin_name : str
+        What ``kin`` is called in the text (:data:`PLANE_CROSSING_NAME` for a plane-crossing time).
 
     Returns
     -------
@@ -213,10 +223,10 @@ def age_verdicts(values, unc, kin, cool, s):
             p0 = values.get("period_s", 0.0) * (1.0 - nm1 * t / (2.0 * lower)) ** (1.0 / nm1)
             below = (f"exponential field decay with tau_d below {format_age(td)} or an initial period above "
                      f"{p0:.3g} s for n = {s.braking_index:g}")
-        out.append(_lower_limit_verdict("kinematic-characteristic", "kinematic age", kin, lower, "a Pdot consistent "
-                                        "with zero", if_below=below, missing="kinematic age not available"))
+        out.append(_lower_limit_verdict("kinematic-characteristic", kin_name, kin, lower, "a Pdot consistent "
+                                        "with zero", if_below=below, missing=f"{kin_name} not available"))
     else:
-        out.append(pair_verdict("kinematic-characteristic", "kinematic age", kin, "characteristic age", tc_iv,
+        out.append(pair_verdict("kinematic-characteristic", kin_name, kin, "characteristic age", tc_iv,
                                 if_younger=_young_causes(values, unc, s), if_older=_old_causes(values, unc, s),
                                 missing=miss))
     if s.initial_period_s is not None:
@@ -224,7 +234,7 @@ def age_verdicts(values, unc, kin, cool, s):
         if sd_iv and values.get("spin_down_age_yr") is not None:
             sd_iv = dict(sd_iv, median=values["spin_down_age_yr"])  # the nominal value, as for tau_c
         # t = P/((n-1) Pdot) [1 - (P0/P)^(n-1)] falls as P0 or n grows (Lorimer & Kramer 2005, eq. 3.13)
-        out.append(pair_verdict("kinematic-spin_down", "kinematic age", kin,
+        out.append(pair_verdict("kinematic-spin_down", kin_name, kin,
                                 f"spin-down age for n = {_pm(s.braking_index, s.braking_index_error)}, "
                                 f"P0 = {_pm(s.initial_period_s, s.initial_period_error_s, 's')}", sd_iv,
                                 if_younger="a longer P0 or a higher braking index than assumed (or field decay)",
@@ -234,7 +244,7 @@ def age_verdicts(values, unc, kin, cool, s):
     cmiss = None if cool is not None else "no temperature or luminosity in [star]"
     colder, hotter = cooling_explanations(s)
     # each envelope on its own: the envelopes differ by more than the errors (cooling_verdicts)
-    v = cooling_pair_verdict("kinematic-cooling", "kinematic age", kin, cool,
+    v = cooling_pair_verdict("kinematic-cooling", kin_name, kin, cool,
                              if_younger="the star is colder than the cooling curves predict at that age" + colder,
                              if_older="the star is hotter than the cooling curves predict at that age" + hotter,
                              missing=cmiss)
@@ -307,8 +317,10 @@ def ages_verdict(d):
                                                                          median=tc), bare=True) if tc else "n/a"
     model = (d.get("cooling") or {}).get("model")
     cool_text = format_age_interval(cool, bare=True) + (f", {model} model" if model else "")
+    plane = d.get("kinematic_age_source") == PLANE_CROSSING_SOURCE
+    kin_label = "time since the Galactic-plane crossing" if plane else "kinematic age"
     if kin.get("median") is not None:
-        subject = f"The kinematic age ({format_age_interval(kin, bare=True)})"
+        subject = f"The {kin_label} ({format_age_interval(kin, bare=True)})"
         clauses = [_relation(pairs.get("kinematic-characteristic"), tc_name, tc_text),
                    _relation(pairs.get("kinematic-cooling"), "cooling age", cool_text)]
     elif tc is not None or lower is not None:
@@ -335,7 +347,7 @@ def ages_verdict(d):
                 line += why
         return line + "."
     if kin.get("median") is not None:
-        return (f"Only the kinematic age is known, {format_age_interval(kin)}; there is no spin-down or cooling "
+        return (f"Only the {kin_label} is known, {format_age_interval(kin)}; there is no spin-down or cooling "
                 "age to compare it with.")
     if tc is not None:
         n = d.get("braking_index") or 3

@@ -144,6 +144,11 @@ def physical_checks(sections, problems):
             problems.append(InputError("[ages] initial_period", f"must be shorter than [star] spin_period "
                                        f"(a spinning-down star was faster at birth; got {format_quantity(p0)} >= "
                                        f"{format_quantity(p)})"))
+    tr = sections.get("trace")
+    if tr is not None and tr.get("max_samples") is not None and tr.get("samples") is not None \
+            and tr.max_samples < tr.samples:
+        problems.append(InputError("[trace] max_samples", f"must not be below [trace] samples ({tr.max_samples:,} < "
+                                   f"{tr.samples:,}): it is the most draws the probability precision may ask for"))
     c = sections.get("campaign")
     if c is not None and c.given("dates") and not c.given("schedule"):  # a schedule with dates: the plan says so
         both = [k for k in ("start", "baseline", "visits_per_year") if c.given(k)]

@@ -170,6 +170,11 @@ _TRACE = [
     Key("association_columns", "column_map", choices=ASSOCIATION_COLUMNS,
         doc="table [trace.association_columns]: kinage column = \"file column\" or {column = ..., unit = ...}"),
     Key("samples", "int", default=2000, positive=True, doc="Monte Carlo draws of the star"),
+    Key("probability_precision", "float", default=0.03, positive=True, upper=0.5, upper_open=True,
+        doc="Monte Carlo error wanted for every stated birth probability: star draws are added in batches until "
+            "every error is below it or max_samples is reached"),
+    Key("max_samples", "int", positive=True,
+        doc="most star draws the probability precision may ask for (default 4 x samples; not below samples)"),
     Key("association_samples", "int", default=200, positive=True, doc="Monte Carlo draws of each association"),
     Key("max_age", "quantity", "Myr", default=10.0, positive=True, doc="how far back to integrate"),
     Key("time_steps", "int", default=21, lower=5,
@@ -276,6 +281,9 @@ _RANGES = {
     "trace": {
         "samples": dict(upper=1_000_000, reason="memory and run time grow with the draws (1e6 draws peak at "
                                                  "~1.2 GB and run for many minutes)"),
+        "max_samples": dict(upper=1_000_000, reason="memory and run time grow with the draws (1e6 draws peak at "
+                                                     "~1.2 GB and run for many minutes)"),
+        "probability_precision": dict(reason="a Monte Carlo error on a probability, between 0 and 0.5 exclusive"),
         "association_samples": dict(upper=100_000, reason="memory grows as associations x draws x time steps"),
         "max_age": dict(upper=13_800, reason=_GALAXY_AGE),
         "control_runs": dict(upper=1000, reason="run time grows with the control runs"),

@@ -39,12 +39,12 @@ import numpy as np
 
 from ..progress import progress_bar
 from .chunks import run_draws
-from .probability import CONTROL_HITS, SUM_KEYS, kernel_group_sums, posterior_from_sums
+from .probability import CONTROL_HITS, kernel_sums, posterior_from_sums
 from .statistics import encounter_mask
 
 __all__ = ["control_draws_needed", "required_control_draws", "probability_control_draws", "FIRST_ROUND",
            "MAX_ROUNDS", "usable_draws", "MAX_CONTROL_FACTOR", "MAX_EXTRA_CONTROL_DRAWS", "RELEVANT_PROBABILITY",
-           "probability_control_cap"]
+           "probability_control_cap", "probability_results", "largest_probability_error"]
 
 #: control draws of the first round
 FIRST_ROUND = 2000
@@ -103,7 +103,40 @@ def usable_draws(results, adraws, afailed, j):
     return ~bad & ~abad[np.arange(n) % adraws.m] & np.isfinite(results["dmin"][j])
 
 
-def probability_control_draws(ctrl, main, adraws, afailed, cfg):
+def probability_results(ctrl, main, adraws, afailed, cfg):
+    """Birth probabilities and their Monte Carlo errors from the star and control draws so far.
+
+    Parameters
+    ----------
+    ctrl, main : dict
+        Control and star results (``dmin``, ``tau``, ``edge`` of shape (n_assoc, N), ``failed``).
+    adraws, afailed, cfg :
+        As for :func:`required_control_draws` (``cfg`` also gives ``field_prior``,
+        ``neighbourhood_share`` and ``neighbourhood_scale``).
+
+    Returns
+    -------
+    (dict, dict)
+        :func:`~.probability.posterior_from_sums`'s result and the sums it was made from.
+    """
+    per_assoc = []
+    for j in range(adraws.n_assoc):
+        draws = [tuple(r[k][j].astype(float) if k != "edge" else r[k][j] for k in ("dmin", "tau", "edge"))
+                 + (usable_draws(r, adraws, afailed, j),) for r in (main, ctrl)]
+        per_assoc.append(kernel_sums(draws[0], draws[1], adraws.radius_pc[j], adraws.age_myr[j],
+                                     cfg["tolerance"], cfg.get("neighbourhood_scale", 50.0)))
+    sums = {k: np.array([a[k] for a in per_assoc]) for k in per_assoc[0]}
+    return posterior_from_sums(sums, cfg["field_prior"], cfg.get("neighbourhood_share", 0.0)), sums
+
+
+def largest_probability_error(res):
+    """The largest Monte Carlo error of any stated probability (candidates, their surroundings, the field)."""
+    errs = [float(np.max(res["probability_error"], initial=0.0)),
+            float(np.max(res["neighbourhood_probability_error"], initial=0.0)), float(res["field_probability_error"])]
+    return max(errs)
+
+
+def probability_control_draws(ctrl, main, adraws, afailed, cfg, hits=CONTROL_HITS):
     """Control draws that give the chance rate of every relevant association CONTROL_HITS wide-kernel passages.
 
     Parameters
@@ -111,8 +144,9 @@ def probability_control_draws(ctrl, main, adraws, afailed, cfg):
     ctrl, main : dict
         Control and star results so far (``dmin``, ``tau``, ``edge`` of shape (n_assoc, N), ``failed``).
     adraws, afailed, cfg :
-        As for :func:`required_control_draws` (``cfg`` also gives ``field_prior``,
-        ``neighbourhood_share`` and ``neighbourhood_scale``).
+        As for :func:`probability_results`.
+    hits : float
+        Wide-kernel passages wanted (more when the probabilities' precision asks for it).
 
     Returns
     -------
@@ -120,20 +154,13 @@ def probability_control_draws(ctrl, main, adraws, afailed, cfg):
         0 when no association is relevant or every relevant one has enough passages.
     """
     n_ctrl = ctrl["dmin"].shape[1]
-    per_assoc = []
-    for j in range(adraws.n_assoc):
-        draws = [tuple(r[k][j].astype(float) if k != "edge" else r[k][j] for k in ("dmin", "tau", "edge"))
-                 + (usable_draws(r, adraws, afailed, j),) for r in (main, ctrl)]
-        per_assoc.append(kernel_group_sums(draws[0], draws[1], adraws.radius_pc[j], adraws.age_myr[j],
-                                           cfg["tolerance"], cfg.get("neighbourhood_scale", 50.0)))
-    sums = {k: np.array([a[k] for a in per_assoc]) for k in SUM_KEYS}
-    res = posterior_from_sums(sums, cfg["field_prior"], cfg.get("neighbourhood_share", 0.0))
+    res, sums = probability_results(ctrl, main, adraws, afailed, cfg)
     need = 0.0
     for j in range(adraws.n_assoc):
         relevant = res["probability"][j] + res["neighbourhood_probability"][j] >= RELEVANT_PROBABILITY
-        passages = float(sums["control_wide"][j].sum())
-        if relevant and sums["main"][j].sum() > 0 and passages < CONTROL_HITS:
-            need = max(need, n_ctrl * CONTROL_HITS / max(passages, 0.5))
+        passages = float(sums["control_wide"][j])
+        if relevant and sums["main"][j] > 0 and passages < hits:
+            need = max(need, n_ctrl * hits / max(passages, 0.5))
     return int(np.ceil(need))
 
 
@@ -147,7 +174,7 @@ def _merge(parts):
 
 
 def control_draws_needed(states, run, assoc, adraws, afailed, cfg, n_max, *, progress=False, main=None,
-                         n_max_probability=None):
+                         n_max_probability=None, initial=None, hits=CONTROL_HITS):
     """Run control draws in rounds until the chance rates are precise enough.
 
     Parameters
@@ -165,27 +192,37 @@ def control_draws_needed(states, run, assoc, adraws, afailed, cfg, n_max, *, pro
     main : dict, optional
         The star draws' results; with it, the birth probabilities' needs count too
         (:func:`probability_control_draws`), up to ``n_max_probability`` draws.
+    initial : dict, optional
+        Control results already run (draws 0 .. N-1); rounds continue from them.
+    hits : float
+        Wide-kernel chance passages wanted for every relevant association.
 
     Returns
     -------
     dict
         The control results (layout of :func:`~kinage.orbits.chunks.run_draws`) for the N draws used.
     """
-    parts, done = [], 0
+    if initial is not None:
+        parts, done = [initial], initial["dmin"].shape[1]
+    else:
+        parts, done = [], 0
     cap_p = n_max if main is None or n_max_probability is None else max(n_max, int(n_max_probability))
-    target = min(n_max, FIRST_ROUND)
+    ctrl = initial
+
+    def target_after(ctrl):
+        need = min(n_max, required_control_draws(ctrl, adraws, afailed, cfg))
+        if main is not None:
+            need = max(need, min(cap_p, probability_control_draws(ctrl, main, adraws, afailed, cfg, hits)))
+        return int(min(max(n_max, cap_p), np.ceil(need * 1.05))) if need > done else done
+
+    target = min(n_max, FIRST_ROUND) if initial is None else target_after(initial)
     for _ in range(MAX_ROUNDS):
+        if target <= done:
+            break
         cpos, cvel = states(done, target)
         with progress_bar(target - done, desc="control draws", enabled=progress) as bar:
             parts.append(run_draws(cpos, cvel, assoc=assoc, adraws=adraws, bar=bar, offset=done, **run))
         done = target
         ctrl = _merge(parts) if len(parts) > 1 else parts[0]
-        need = min(n_max, required_control_draws(ctrl, adraws, afailed, cfg))
-        if main is not None:
-            need = max(need, min(cap_p, probability_control_draws(ctrl, main, adraws, afailed, cfg)))
-        if need <= done:
-            break
-        target = int(min(max(n_max, cap_p), np.ceil(need * 1.05)))
-        if target <= done:
-            break
+        target = target_after(ctrl)
     return ctrl

@@ -6,6 +6,7 @@ import numpy as np
 
 from ..display.protocol import ResultDisplay, _age, _first, _with_error, fmt
 from ..io.results import interval
+from .statistics import MIN_EFFECTIVE, with_n_effective
 from .probability import (DEFAULT_FIELD_PRIOR, DEFAULT_NEIGHBOURHOOD_SCALE_PC, DEFAULT_NEIGHBOURHOOD_SHARE, MODEL_TEXT,
                           PROBABILITY_THRESHOLD)
 
@@ -84,7 +85,7 @@ class TraceResult(ResultDisplay):
     # ---------------------------------------------------------------- building
     @classmethod
     def build(cls, *, scenario, cfg, seed, frame, draws, adraws, ranked, favoured, verdict, failed, main, assoc,
-              times, cols, n_control, solution, field=None):
+              times, cols, n_control, solution, field=None, precision=None):
         masks = {s["name"]: s.pop("_mask") for s in ranked}
         index = {s["name"]: s.pop("_index") for s in ranked}
         settings = {
@@ -117,8 +118,8 @@ class TraceResult(ResultDisplay):
         psets += [get("velocity_prior", cfg["velocity_prior"].name), get("distance_prior", cfg["distance_prior"].name)]
         data = {"masks": masks, "index": index, "draws": draws, "adraws": adraws, "main": main, "assoc": assoc,
                 "times": times, "cols": cols, "frame": frame, "field": dict(field or {}),
-                "warnings": list(cfg.get("warnings", []))}
-        return cls(scenario.star.get("name") or "star", cfg["n"], seed, ranked, favoured, verdict, main["plane"],
+                "warnings": list(cfg.get("warnings", [])), "precision": dict(precision or {})}
+        return cls(scenario.star.get("name") or "star", draws.n, seed, ranked, favoured, verdict, main["plane"],
                    failed, settings, psets, _assumptions(cfg, draws), data)
 
     # ---------------------------------------------------------------- samples
@@ -239,15 +240,23 @@ class TraceResult(ResultDisplay):
         ``field_probability`` (+ ``_error``), ``field_prior``, ``neighbourhood_share``,
         ``neighbourhood_scale_pc``, ``probability_threshold``, ``favoured_radial_velocity_kms``,
         ``favoured_distance_pc`` (None unless an association is favoured),
-        ``plane_crossing_fraction``, ``plane_crossing_caveats`` and ``warnings``.
+        ``plane_crossing_fraction``, ``plane_crossing_caveats``, ``warnings``, and the Monte Carlo effort:
+        ``samples_used`` (star draws, = ``n_samples``), ``precision_reached`` (every probability's error below
+        ``probability_precision`` within ``max_samples`` draws) and ``largest_probability_error``.
         """
         pc = self.plane_crossing_age_samples()
         failed = self.failed_draws[:_MAX_FAILED_LISTED]
         field = self.data.get("field", {})
+        prec = self.data.get("precision", {})
         rv, dist = self._favoured_implies()
         return {
             "star": self.star_name,
             "n_samples": self.n_samples,
+            "samples_used": self.n_samples,
+            "precision_reached": prec.get("precision_reached"),
+            "probability_precision": prec.get("probability_precision"),
+            "max_samples": prec.get("max_samples"),
+            "largest_probability_error": prec.get("largest_probability_error"),
             "seed": self.seed,
             "associations": self.associations,
             "field_probability": field.get("field_probability"),
@@ -259,7 +268,7 @@ class TraceResult(ResultDisplay):
             "distance_pc": self.distance_pc(),
             "distance_source": self.settings.get("distance_source"),
             "transverse_velocity_kms": self.transverse_velocity_kms(),
-            "plane_crossing_age_yr": interval(pc),
+            "plane_crossing_age_yr": with_n_effective(interval(pc)),
             "plane_crossing_fraction": float(pc.size / self.n_samples) if self.n_samples else None,
             "plane_crossing_caveats": self.plane_crossing_caveats(),
             "favoured": self.favoured,
@@ -291,13 +300,20 @@ class TraceResult(ResultDisplay):
         from ..display.sentences import format_age_interval, format_interval
 
         if rv is not None and rv["median"] is not None and dist["median"] is not None:
-            text += (f" Birth there implies a radial velocity of "
-                     f"{format_interval(rv['median'], rv['lo68'], rv['hi68'], 'km/s')} and a present distance of "
-                     f"{format_interval(dist['median'], dist['lo68'], dist['hi68'], 'pc')}.")
+            n_eff = rv.get("n_effective")
+            if n_eff is not None and n_eff < MIN_EFFECTIVE:
+                text += (f" Birth there implies a radial velocity of about "
+                         f"{format_interval(rv['median'], rv['lo68'], rv['hi68'], 'km/s', bare=True)} and a present "
+                         f"distance of about {format_interval(dist['median'], dist['lo68'], dist['hi68'], 'pc', bare=True)}"
+                         f" (from {n_eff:.2g} effective encounters, too few for an interval).")
+            else:
+                text += (f" Birth there implies a radial velocity of "
+                         f"{format_interval(rv['median'], rv['lo68'], rv['hi68'], 'km/s')} and a present distance of "
+                         f"{format_interval(dist['median'], dist['lo68'], dist['hi68'], 'pc')}.")
         pc = interval(self.plane_crossing_age_samples())
         if pc["median"] is not None:
             frac = pc["n"] / self.n_samples
-            when = (format_age_interval(pc) if pc["n"] >= 20 else
+            when = (format_age_interval(pc) if pc["n"] >= MIN_EFFECTIVE else
                     f"{format_age_interval(pc, bare=True)} (from {pc['n']} draw{'s' if pc['n'] > 1 else ''}, too few "
                     "for an interval)")
             text += (f" {_share(frac)} of the draws crossed the Galactic mid-plane within the "
@@ -307,6 +323,11 @@ class TraceResult(ResultDisplay):
         for c in self.plane_crossing_caveats():
             if pc["median"] is not None:
                 text += " " + c
+        prec = self.data.get("precision", {})
+        if prec.get("precision_reached") is False:
+            text += (f" The probabilities' Monte Carlo errors (largest {prec['largest_probability_error']:.2g}) did "
+                     f"not reach the precision asked for ({prec['probability_precision']:.2g}) within "
+                     f"{self.n_samples:,} draws ([trace] max_samples); more draws would narrow them.")
         for w in self.data.get("warnings", []):
             text += " Warning: " + w
         return text

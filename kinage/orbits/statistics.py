@@ -24,10 +24,22 @@ import numpy as np
 from ..io.results import interval
 from .common_origin import compare_common_origin
 from .probability import (DEFAULT_FIELD_PRIOR, DEFAULT_NEIGHBOURHOOD_SCALE_PC, DEFAULT_NEIGHBOURHOOD_SHARE,
-                          PROBABILITY_THRESHOLD, SUM_KEYS, birth_kernel, kernel_group_sums, posterior_from_sums,
+                          PROBABILITY_THRESHOLD, birth_kernel, kernel_sums, posterior_from_sums,
                           weighted_interval)
 
-__all__ = ["encounter_mask", "summarise_association", "rank_associations", "verdict", "PROBABILITY_THRESHOLD"]
+__all__ = ["encounter_mask", "summarise_association", "rank_associations", "verdict", "PROBABILITY_THRESHOLD",
+           "MIN_EFFECTIVE", "with_n_effective"]
+
+#: below this many effective draws an interval is quoted as a value "from N encounters", not as a 68% interval
+#: (common practice, no source: the 16th and 84th percentiles of fewer than ~20 draws rest on 3 draws each)
+MIN_EFFECTIVE = 20
+
+
+def with_n_effective(iv):
+    """An unweighted interval dict with ``n_effective`` (= its sample count ``n``)."""
+    iv = dict(iv)
+    iv["n_effective"] = float(iv.get("n") or 0)
+    return iv
 
 
 def encounter_mask(dmin_pc, tau_myr, edge, valid, radius_pc, age_myr, factor, tolerance_myr):
@@ -85,7 +97,7 @@ def summarise_association(name, radius_pc, age_myr, dmin_pc, tau_myr, edge, vali
         "encounter_fraction_error": float(np.sqrt(frac * (1 - frac) / n_valid)) if n_valid else None,
         "n_encounters": k,
         "n_valid": n_valid,
-        "age_yr": _yr(interval(tau_myr[enc])),
+        "age_yr": _yr(with_n_effective(interval(tau_myr[enc]))),
         "dmin_pc": interval(dmin_pc[valid]),
         "tau_all_yr": _yr(interval(tau_myr[valid & ~edge])),
         "required_radial_velocity_kms": _rv_range(rv_kms[enc]),
@@ -107,14 +119,15 @@ def summarise_association(name, radius_pc, age_myr, dmin_pc, tau_myr, edge, vali
     out["probability_error"] = None
     out["likelihood_ratio"] = None
     out["likelihood_ratio_error"] = None
+    out["bayes_factor_is_lower_limit"] = False
     out["neighbourhood_probability"] = None
     out["neighbourhood_probability_error"] = None
     out["_sums"] = None
     if control is not None:
         cd, ct, ce, cv = control
         cenc = encounter_mask(cd, ct, ce, cv, radius_pc, age_myr, factor, tolerance_myr)
-        # per-group kernel sums for the probabilities (memory O(groups), not O(draws))
-        out["_sums"] = kernel_group_sums((dmin_pc, tau_myr, edge, valid), control, radius_pc, age_myr,
+        # kernel sums and moments for the probabilities (memory O(1), not O(draws))
+        out["_sums"] = kernel_sums((dmin_pc, tau_myr, edge, valid), control, radius_pc, age_myr,
                                          tolerance_myr, neighbourhood_scale_pc)
         nc = int(cv.sum())
         kc = int(cenc.sum())
@@ -138,6 +151,7 @@ def _rv_range(rv):
     res = {"median": iv["median"], "lo68": iv["lo68"], "hi68": iv["hi68"], "lo95": iv["lo95"], "hi95": iv["hi95"]}
     res["min"] = float(np.min(rv)) if rv.size else None
     res["max"] = float(np.max(rv)) if rv.size else None
+    res["n_effective"] = float(iv["n"])
     return res
 
 
@@ -145,12 +159,13 @@ def _assign_probabilities(summaries, field_prior, neighbourhood_share):
     """Set ``probability`` etc. on every summary; returns (field_probability, its error) or (None, None)."""
     if not summaries or any(s.get("_sums") is None for s in summaries):
         return None, None
-    sums = {k: np.array([s["_sums"][k] for s in summaries]) for k in SUM_KEYS}
+    sums = {k: np.array([s["_sums"][k] for s in summaries]) for k in summaries[0]["_sums"]}
     res = posterior_from_sums(sums, field_prior, neighbourhood_share)
     for i, s in enumerate(summaries):
         for key in ("probability", "probability_error", "likelihood_ratio", "likelihood_ratio_error",
                     "neighbourhood_probability", "neighbourhood_probability_error"):
             s[key] = float(res[key][i])
+        s["bayes_factor_is_lower_limit"] = bool(res["likelihood_ratio_is_lower_limit"][i])
     return res["field_probability"], res["field_probability_error"]
 
 
@@ -203,12 +218,21 @@ def rank_associations(summaries, field_prior=DEFAULT_FIELD_PRIOR, neighbourhood_
 
 
 def _age_text(iv):
-    """An age interval (yr) rounded to its 68% interval, as the ages stage quotes it."""
-    from ..display.sentences import format_age_interval
+    """An age interval (yr) rounded to its 68% interval, as the ages stage quotes it; from fewer than
+    :data:`MIN_EFFECTIVE` effective draws the value alone, "from N encounters"."""
+    from ..display.sentences import format_age, format_age_interval
 
     if iv.get("median") is None:
-        return "no age"
+        return "not measured (no draw met the encounter criterion)"
+    n = iv.get("n_effective", iv.get("n"))
+    if n is not None and n < MIN_EFFECTIVE:
+        return f"~{format_age(iv['median'], 2)} (from {_count(n)} encounter{'' if round(n) == 1 else 's'})"
     return format_age_interval(iv)
+
+
+def _count(n):
+    """An effective number of draws in words: whole numbers as such, others to two figures."""
+    return f"{n:.0f}" if abs(n - round(n)) < 0.05 or n >= 10 else f"{n:.2g}"
 
 
 def _prob_text(p, err):
@@ -244,13 +268,18 @@ def verdict(ranked, favoured, control_available=True, field=None):
     if near is not None and near >= 0.05:
         field_text += (f", {_prob_text(near, best.get('neighbourhood_probability_error'))} of it for a birth near "
                        f"{best['name']} but outside it")
+    limit = ""
+    if best.get("bayes_factor_is_lower_limit"):
+        limit = (f" Control draws passed {best['name']} by chance too rarely to measure the chance rate, so it is "
+                 f"taken at its 84% upper limit and the Bayes factor (at least {best['likelihood_ratio']:.2g}) and "
+                 "probability are lower limits.")
     if favoured is not None:
         return (f"{best['name']} is the favoured birth association: probability "
                 f"{_prob_text(best['probability'], best['probability_error'])} that the star was born in it, "
-                f"{field_text}; kinematic age {_age_text(best['age_yr'])}.")
+                f"{field_text}; kinematic age {_age_text(best['age_yr'])}." + limit)
     if best["n_encounters"] == 0 and best["probability"] < 0.05:
         return (f"No association is favoured: no draw of the star came within the radius criterion of any "
                 f"candidate inside its age; {field_text}.")
     return (f"No association is favoured: the most probable, {best['name']}, has probability "
             f"{_prob_text(best['probability'], best['probability_error'])}, below the {PROBABILITY_THRESHOLD:.2g} "
-            f"threshold; {field_text}.")
+            f"threshold; {field_text}." + limit)

@@ -29,20 +29,25 @@ from ..kinematics import velocity_prior as make_velocity_prior
 from ..params.registry import galaxy_pair
 from ..progress import progress_bar
 from .chunks import chunk_rows, integrate_associations, run_draws
-from .control import control_draws_needed, probability_control_cap, usable_draws
+from .control import (control_draws_needed, largest_probability_error, probability_control_cap,
+                      probability_results, usable_draws)
 from .frames import solar_frame
 from .integrate import integration_cores, time_grid
 from .result import TraceResult
-from .probability import DEFAULT_FIELD_PRIOR, check_field_prior, check_neighbourhood_share
+from .probability import CONTROL_HITS, DEFAULT_FIELD_PRIOR, check_field_prior, check_neighbourhood_share
 from .statistics import rank_associations, summarise_association, verdict
 
-__all__ = ["trace", "CHUNK_BYTES"]
+__all__ = ["trace", "CHUNK_BYTES", "DEFAULT_PRECISION", "MAX_SAMPLES_FACTOR"]
 
 #: cap on the bytes of one chunk's orbit arrays (galpy's and the Cartesian copy searched)
 CHUNK_BYTES = 256e6
+#: documented default of ``[trace] probability_precision``
+DEFAULT_PRECISION = 0.03
+#: ``[trace] max_samples`` defaults to this many times ``samples``
+MAX_SAMPLES_FACTOR = 4
 
 
-def _settings(scenario, samples, potential):
+def _settings(scenario, samples, potential, max_samples=None):
     tr = scenario.trace
     if tr is None:
         raise InputError("[trace]", "missing table: tracing needs [trace] with at least 'associations'")
@@ -52,8 +57,13 @@ def _settings(scenario, samples, potential):
     if n < 1:
         raise InputError("samples", f"must be a positive integer (got {n})")
     pot_name = potential if potential is not None else tr.get("potential")
+    given_max = max_samples if max_samples is not None else tr.get("max_samples")
+    if given_max is not None and int(given_max) < n:
+        raise InputError("[trace] max_samples", f"must not be below the samples asked for ({int(given_max):,} < {n:,})")
     return {
         "n": n,
+        "max_samples": int(given_max) if given_max is not None else MAX_SAMPLES_FACTOR * n,
+        "precision": float(tr.get("probability_precision", DEFAULT_PRECISION)),
         "m": int(tr.get("association_samples")),
         "max_age": tr.value("max_age", "Myr"),
         "time_steps": int(tr.get("time_steps")),
@@ -92,7 +102,7 @@ def _rng_and_seed(scenario, rng):
 
 
 def trace(scenario, *, solution=None, rng=None, samples=None, potential=None, progress=False,
-          method="dop853_c", associations=None):
+          method="dop853_c", associations=None, max_samples=None):
     """Trace a neutron star back to candidate birth associations.
 
     Parameters
@@ -106,6 +116,9 @@ def trace(scenario, *, solution=None, rng=None, samples=None, potential=None, pr
         Default: ``[trace] seed`` (1 when absent).
     samples : int, optional
         Overrides ``[trace] samples``.
+    max_samples : int, optional
+        Overrides ``[trace] max_samples`` (most star draws the probabilities' precision may ask for;
+        ``samples`` turns the added batches off).
     potential : str, optional
         Overrides ``[trace] potential`` ('none' = straight lines).
     progress : bool
@@ -119,7 +132,7 @@ def trace(scenario, *, solution=None, rng=None, samples=None, potential=None, pr
     -------
     TraceResult
     """
-    cfg = _settings(scenario, samples, potential)
+    cfg = _settings(scenario, samples, potential, max_samples)
     gen, seed = _rng_and_seed(scenario, rng)
     star_rng, assoc_rng, control_rng = gen.spawn(3)
     frame = solar_frame(cfg["solar"].name)
@@ -132,9 +145,10 @@ def trace(scenario, *, solution=None, rng=None, samples=None, potential=None, pr
     posterior = scenario_distance_posterior(scenario, solution, prior=cfg["distance_prior"])
     cfg["parallax_origin"] = _parallax_origin(scenario, solution)
     cfg["warnings"] = cfg["warnings"] + [w[0].upper() + w[1:] + "." for w in posterior.warnings]
-    draws = draw_star(solution, cfg["n"], star_rng, frame=frame, velocity_prior=cfg["velocity_prior"],
-                      posterior=posterior, radial_velocity=star.value("radial_velocity", "km/s"),
-                      radial_velocity_error=star.value("radial_velocity_error", "km/s"))
+    draw_kw = dict(velocity_prior=cfg["velocity_prior"], posterior=posterior,
+                   radial_velocity=star.value("radial_velocity", "km/s"),
+                   radial_velocity_error=star.value("radial_velocity_error", "km/s"))
+    draws = draw_star(solution, cfg["n"], star_rng, frame=frame, **draw_kw)
     adraws = draw_associations(table, cfg["m"], assoc_rng)
     times = time_grid(cfg["max_age"], cfg["time_steps"])
     cols = np.arange(len(times))
@@ -145,25 +159,49 @@ def trace(scenario, *, solution=None, rng=None, samples=None, potential=None, pr
     apos, avel = adraws.galactocentric(frame)
     assoc, afailed = integrate_associations(apos, avel, times, cfg["potential"], tolerance=run["tolerance"],
                                             method=method, rows_cap=rows_cap)
-    n_max_control = cfg["n"] if cfg["control_runs"] > 0 else 0
     with progress_bar(cfg["n"], desc="tracing", enabled=progress) as bar:
         pos, vel = draws.galactocentric(frame)
         main = run_draws(pos, vel, assoc=assoc, adraws=adraws, bar=bar, keep_plane=True, keep_tracks=True, **run)
     ctrl = None
-    n_control = 0
-    if n_max_control:
+    state = {"draws": draws}
+
+    def control_states(start, stop):  # made round by round from one stream: only the draws used
+        # beyond the star draws (for the probabilities' chance rates) the star draws are reused in order,
+        # each with a new random direction
+        d = state["draws"]
+        part = rotated_proper_motions(d.take(np.arange(start, stop) % d.n), control_rng, frame=frame,
+                                      velocity_prior=cfg["velocity_prior"])
+        return part.galactocentric(frame)
+
+    precision = {"samples_used": cfg["n"], "probability_precision": cfg["precision"], "max_samples": cfg["max_samples"],
+                 "largest_probability_error": None, "precision_reached": True, "batches": 1}
+    hits = CONTROL_HITS
+    while cfg["control_runs"] > 0:
         # control draws (star draws with turned proper motions), made and integrated only as far as the
         # chance rates' precision needs ([trace] control_relative_error, control_absolute_error)
-        def control_states(start, stop):  # made round by round from one stream: only the draws used
-            # beyond the star draws (for the probabilities' chance rates) the star draws are reused in order,
-            # each with a new random direction
-            part = rotated_proper_motions(draws.take(np.arange(start, stop) % draws.n), control_rng, frame=frame,
-                                          velocity_prior=cfg["velocity_prior"])
-            return part.galactocentric(frame)
-
-        ctrl = control_draws_needed(control_states, run, assoc, adraws, afailed, cfg, n_max_control,
-                                    progress=progress, main=main, n_max_probability=probability_control_cap(cfg["n"]))
-        n_control = ctrl["dmin"].shape[1]
+        ctrl = control_draws_needed(control_states, run, assoc, adraws, afailed, cfg, draws.n, progress=progress,
+                                    main=main, n_max_probability=probability_control_cap(draws.n), initial=ctrl,
+                                    hits=hits)
+        worst = largest_probability_error(probability_results(ctrl, main, adraws, afailed, cfg)[0])
+        precision["largest_probability_error"] = worst
+        precision["precision_reached"] = bool(worst <= cfg["precision"])
+        if precision["precision_reached"] or draws.n >= cfg["max_samples"]:
+            break
+        # errors fall as 1/sqrt(draws): add what the largest one asks for (at least half the first batch)
+        # and as 1/sqrt(chance passages): the control draws are asked for more passages in proportion
+        want = int(np.ceil(draws.n * (1.1 * (worst / cfg["precision"]) ** 2 - 1.0)))
+        hits = min(hits * 1.1 * (worst / cfg["precision"]) ** 2, 100.0 * CONTROL_HITS)
+        add = int(min(cfg["max_samples"] - draws.n, max(want, cfg["n"] // 2, 1)))
+        (batch_rng,) = star_rng.spawn(1)
+        more = draw_star(solution, add, batch_rng, frame=frame, **draw_kw)
+        with progress_bar(add, desc="more draws", enabled=progress) as bar:
+            mpos, mvel = more.galactocentric(frame)
+            extra = run_draws(mpos, mvel, assoc=assoc, adraws=adraws, bar=bar, keep_plane=True, offset=draws.n, **run)
+        main = _merge_main(main, extra)
+        draws = state["draws"] = _concat_draws(draws, more)
+        precision["batches"] += 1
+    precision["samples_used"] = draws.n
+    n_control = 0 if ctrl is None else ctrl["dmin"].shape[1]
     summaries = _summaries(cfg, adraws, afailed, draws, main, ctrl, cores=cores)
     ranked, favoured, field = rank_associations(summaries, field_prior=cfg["field_prior"],
                                                 neighbourhood_share=cfg["neighbourhood_share"],
@@ -180,7 +218,8 @@ def trace(scenario, *, solution=None, rng=None, samples=None, potential=None, pr
         scenario=scenario, cfg=cfg, seed=seed, frame=frame, draws=draws, adraws=adraws, ranked=ranked,
         favoured=favoured, verdict=verdict(ranked, favoured, control_available=ctrl is not None, field=field),
         field=field,
-        failed=failed, main=main, assoc=assoc, times=times, cols=cols, n_control=n_control, solution=solution)
+        failed=failed, main=main, assoc=assoc, times=times, cols=cols, n_control=n_control, solution=solution,
+        precision=precision)
     result.data["control"] = None if ctrl is None else {"dmin": ctrl["dmin"], "tau": ctrl["tau"]}  # for figures
     return result
 
@@ -190,6 +229,27 @@ def _parallax_origin(scenario, solution):
     timing = "timing" in str(solution.source)
     typed = scenario.star.get("parallax") is not None
     return "timing fit and [star]" if timing and typed else ("timing fit" if timing else "[star]")
+
+
+def _merge_main(a, b):
+    """Star-draw results of two batches as one (``b``'s draws follow ``a``'s; indices are global)."""
+    out = {k: np.concatenate([a[k], b[k]], axis=-1) for k in ("dmin", "tau", "edge", "plane")}
+    out["failed"] = {**a["failed"], **b["failed"]}
+    out["tracks"] = a["tracks"]
+    out["birth"] = {}
+    for j in sorted(set(a["birth"]) | set(b["birth"])):
+        parts = [r["birth"][j] for r in (a, b) if j in r["birth"]]
+        out["birth"][j] = (np.concatenate([p[0] for p in parts]), np.concatenate([p[1] for p in parts]))
+    return out
+
+
+def _concat_draws(a, b):
+    """Two sets of star draws as one (array fields joined, the rest from ``a``)."""
+    import dataclasses
+
+    return type(a)(**{f.name: (np.concatenate([getattr(a, f.name), getattr(b, f.name)])
+                               if isinstance(getattr(a, f.name), np.ndarray) else getattr(a, f.name))
+                      for f in dataclasses.fields(a)})
 
 
 def _summaries(cfg, adraws, afailed, draws, main, ctrl, cores=1):

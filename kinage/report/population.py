@@ -19,10 +19,12 @@ from .numbers import fmt_age
 
 __all__ = ["write_population_report", "population_summary", "POPULATION_CAPTION"]
 
-POPULATION_CAPTION = ("Left: stars traced to a birth association (filled) have kinematic ages to set against their "
-                      "characteristic ages; the rest show only the time since their last Galactic-plane crossing "
-                      "(open squares), which is not a kinematic age. Right: how often each star's draws meet its best "
-                      "association, against the chance rate of the control draws.")
+POPULATION_CAPTION = ("Left: stars traced to a favoured birth association (filled) have kinematic ages to set "
+                      "against their characteristic ages; stars without one show only the time since their last "
+                      "Galactic-plane crossing (open squares), which is not a kinematic age. Right: each star's "
+                      "probability of birth in its most probable association (with its Monte Carlo error) and of "
+                      "birth elsewhere, stars sorted by the former; the dashed line is the threshold for a "
+                      "favoured association.")
 
 
 def _name(x):
@@ -31,16 +33,37 @@ def _name(x):
     return "" if t in ("", "--", "None", "nan") or getattr(x, "mask", False) is True else t
 
 
+def _col(table, key):
+    return np.asarray(table[key], float) if key in table.colnames else np.full(len(table), np.nan)
+
+
 def population_summary(table):
     """Plain sentences about a batch summary table (astropy Table from ``summary.ecsv``)."""
     n = len(table)
     ok = np.asarray(table["status"]) == "ok"
     fav = np.array([bool(_name(x)) for x in table["favoured_association"]], bool) & ok
+    crossed = np.isfinite(_col(table, "plane_crossing_time")) & ok & ~fav
+    neither = ok & ~fav & ~crossed
     parts = [f"{n} stars: {int(ok.sum())} finished, {n - int(ok.sum())} failed."]
-    parts.append(f"{int(fav.sum())} are traced to a favoured birth association; "
-                 f"{int(ok.sum() - fav.sum())} are not (for them only the plane-crossing time is known).")
-    k = np.asarray(table["kinematic_age"], float)[fav]
-    c = np.asarray(table["characteristic_age"], float)[fav]
+    nf, nc, nn = int(fav.sum()), int(crossed.sum()), int(neither.sum())
+    parts.append(f"{nf} {'is' if nf == 1 else 'are'} traced to a favoured birth association and "
+                 f"{'has' if nf == 1 else 'have'} a kinematic age; of the {int((ok & ~fav).sum())} without one, "
+                 f"{nc} crossed the Galactic plane (the time since that crossing is known, an age only if the star "
+                 f"was born in the mid-plane) and {nn} {'has' if nn == 1 else 'have'} neither (most draws did not "
+                 "cross within the time searched).")
+    p = _col(table, "probability")
+    close = ok & ~fav & np.isfinite(p) & (p >= 0.3)
+    if close.any():
+        m = int(close.sum())
+        parts.append(f"{m} of those without a favoured association {'has' if m == 1 else 'have'} a most probable "
+                     f"association at 0.3 or more (column probability in summary.ecsv).")
+    if "precision_reached" in table.colnames:
+        short = ok & ~np.asarray(table["precision_reached"], bool)
+        if short.any():
+            parts.append(f"For {int(short.sum())} the probabilities' Monte Carlo errors stayed above the precision "
+                         "asked for within [trace] max_samples draws.")
+    k = _col(table, "kinematic_age")[fav]
+    c = _col(table, "characteristic_age")[fav]
     good = np.isfinite(k) & np.isfinite(c) & (k > 0) & (c > 0)
     if good.any():
         ratio = np.median(c[good] / k[good])
@@ -49,24 +72,37 @@ def population_summary(table):
     return " ".join(parts)
 
 
+def _prob(p, err):
+    """A probability with its Monte Carlo error, to the error's precision."""
+    if not np.isfinite(p):
+        return "n/a"
+    if not np.isfinite(err) or err <= 0:
+        return f"{p:.2f}"
+    digits = 3 if err < 0.005 else 2
+    return f"{p:.{digits}f} ± {max(err, 10.0**-digits):.{digits}f}"
+
+
+def _age(x):
+    return fmt_age(float(x), 2) if np.isfinite(x) else "n/a"
+
+
 def _rows(table):
     out = []
+    cols = set(table.colnames)
     for r in table:
-        fav = _name(r["favoured_association"]) or "none"
-        kin = r["kinematic_age"]
-        src = str(r["kinematic_age_source"])
-        kin_txt = fmt_age(float(kin), 2) if np.isfinite(kin) else "n/a"
-        if np.isfinite(kin) and not src.startswith("trace: encounters"):
-            kin_txt = "n/a (plane crossing only)"
-        out.append([str(r["name"]), str(r["status"]), fav, kin_txt,
-                    fmt_age(float(r["plane_crossing_age"]), 2) if np.isfinite(r["plane_crossing_age"]) else "n/a",
-                    fmt_age(float(r["characteristic_age"]), 2) if np.isfinite(r["characteristic_age"]) else "n/a",
-                    fmt_age(float(r["cooling_age"]), 2) if np.isfinite(r["cooling_age"]) else "n/a"])
+        get = lambda k: float(r[k]) if k in cols else np.nan  # noqa: E731
+        fav = _name(r["favoured_association"])
+        best = _name(r["best_association"]) if "best_association" in cols else fav
+        out.append([str(r["name"]), str(r["status"]), fav or "none", best or "n/a",
+                    _prob(get("probability"), get("probability_error")),
+                    _prob(get("field_probability"), get("field_probability_error")),
+                    _age(get("kinematic_age")), _age(get("plane_crossing_time")), _age(get("characteristic_age")),
+                    _age(get("cooling_age"))])
     return out
 
 
-_HEADER = ["star", "status", "favoured association", "kinematic age", "plane crossing", "characteristic age",
-           "cooling age"]
+_HEADER = ["star", "status", "favoured association", "most probable association", "its probability",
+           "field probability", "kinematic age", "time since plane crossing", "characteristic age", "cooling age"]
 
 
 def write_population_report(out_dir, command=None):

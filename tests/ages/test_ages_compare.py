@@ -140,3 +140,21 @@ def test_same_seed_same_numbers():
 def test_bad_input_names_the_field(star, ages, exc, where):
     with pytest.raises(exc, match=where):
         compare_ages(_scn(star=star, ages=ages), rng=1)
+
+
+def test_plane_crossing_time_is_never_called_a_kinematic_age():
+    # the time since the last Galactic-plane crossing dates a birth only for a star born in the mid-plane
+    # (Noutsos et al. 2013, MNRAS 430, 2281; Cordes & Chernoff 1998): when it stands in for a missing
+    # association it is named so in every verdict, in the summary and in the JSON
+    from kinage.ages.verdicts import PLANE_CROSSING_NAME
+
+    rng = np.random.default_rng(3)
+    r = compare_ages(_scn(), kinematic_age_samples=rng.lognormal(np.log(9e5), 0.2, 500),
+                     kinematic_age_source="plane-crossing", rng=5)
+    d = r.to_dict()
+    assert d["kinematic_age_source"] == "plane-crossing"
+    texts = [v["text"] for v in d["verdicts"] if v["pair"].startswith("kinematic")]
+    assert texts and all(PLANE_CROSSING_NAME in t and "kinematic age (" not in t for t in texts)
+    assert PLANE_CROSSING_NAME == ("time since the Galactic-plane crossing (an age only if the star was born in "
+                                   "the mid-plane)")
+    assert r.summary().startswith("Time since the Galactic-plane crossing") and "Kinematic age" not in r.summary()

@@ -197,3 +197,30 @@ def test_force_redoes_finished_stars(forced_one_worker):
     assert {n: rec["input_hash"] for n, rec in recs.items()} == first
     # every star was recomputed: none keeps the marker written into the finished copies
     assert all(rec["results"]["trace"]["associations"][0]["encounter_fraction"] >= 0 for rec in recs.values())
+
+
+def test_population_summary_keeps_kinematic_age_and_plane_crossing_apart():
+    # a favoured association gives the kinematic age; a star without one and with most draws crossing the
+    # plane gives only the plane-crossing time; one whose draws mostly never crossed has neither
+    from kinage.batch.summary import summary_table
+    from kinage.report.population import population_summary
+
+    def rec(name, fav, p, frac, age=None):
+        best = {"name": "Quillon Group", "probability": p, "probability_error": 0.03, "encounter_fraction": 0.02,
+                "chance_fraction": 0.001, "age_yr": {"median": age, "lo68": age and 0.9 * age, "hi68": age and 1.1 * age}}
+        trace = {"associations": [best], "favoured": fav, "field_probability": 1 - p, "field_probability_error": 0.03,
+                 "plane_crossing_age_yr": {"median": 2e6, "lo68": 1.5e6, "hi68": 2.5e6},
+                 "plane_crossing_fraction": frac, "samples_used": 2000, "precision_reached": True}
+        ages = {"kinematic_age_source": "plane-crossing" if not fav else "trace: encounters",
+                "kinematic_age_yr": {"median": age or 2e6}, "characteristic_age_yr": 3e6}
+        return {"name": name, "status": "ok", "results": {"trace": trace, "ages": ages}}
+
+    t = summary_table([rec("Fen-1", "Quillon Group", 0.8, 0.9, age=1e6), rec("Fen-2", None, 0.46, 0.9),
+                       rec("Fen-3", None, 0.02, 0.2)])
+    assert list(t["kinematic_age"][:1]) == [1e6] and np.isnan(t["kinematic_age"][1]) and np.isnan(t["kinematic_age"][2])
+    assert np.isnan(t["plane_crossing_time"][2]) and t["plane_crossing_time"][1] == 2e6
+    assert list(t["probability"]) == [0.8, 0.46, 0.02]  # 0.46 is told from 0.02
+    assert list(t["best_association"]) == ["Quillon Group"] * 3 and t["favoured_association"][1] == ""
+    text = population_summary(t)
+    assert "1 is traced to a favoured birth association" in text
+    assert "1 crossed the Galactic plane" in text and "1 has neither" in text

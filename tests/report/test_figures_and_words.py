@@ -82,11 +82,10 @@ def test_population_figure_keeps_plane_crossing_apart():
 
     from kinage.batch.summary import plot_population
 
-    t = Table({"name": ["a", "b"], "kinematic_age": [5e5, 2e6], "kinematic_age_lo68": [4e5, 1.5e6],
-               "kinematic_age_hi68": [6e5, 2.5e6], "kinematic_age_source": ["trace: encounters with association X",
-                                                                            "trace: time since the last plane crossing"],
-               "plane_crossing_age": [3e6, 2e6], "characteristic_age": [1e6, 3e6],
-               "encounter_fraction": [0.1, 0.0], "chance_fraction": [0.01, 0.0]})
+    nan = float("nan")
+    t = Table({"name": ["a", "b"], "kinematic_age": [5e5, nan], "kinematic_age_lo68": [4e5, nan],
+               "kinematic_age_hi68": [6e5, nan], "plane_crossing_time": [3e6, 2e6], "characteristic_age": [1e6, 3e6],
+               "probability": [0.8, 0.1], "probability_error": [0.05, 0.02], "field_probability": [0.2, 0.9]})
     fig = plot_population(t)
     labels = fig.axes[0].get_legend_handles_labels()[1]
     assert any(lab.startswith("kinematic age") for lab in labels)

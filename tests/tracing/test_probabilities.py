@@ -47,7 +47,7 @@ def test_probabilities_sum_to_one_and_follow_bayes_rule():
 
 def test_no_information_returns_the_prior():
     # when the draws and the control draws come from the same distribution the Bayes factor is 1 and the
-    # posterior equals the prior (Bayes' theorem); checked within 4 jackknife errors
+    # posterior equals the prior (Bayes' theorem); checked within 4 stated errors
     rng = np.random.default_rng(2)
     n = 20000
     k = lambda: np.exp(-0.5 * (rng.exponential(3.0, (3, n))) ** 2)  # noqa: E731
@@ -59,8 +59,8 @@ def test_no_information_returns_the_prior():
     assert abs(r["field_probability"] - 0.4) < 4 * max(r["field_probability_error"], 1e-3)
 
 
-def test_jackknife_error_matches_spread_of_repeated_experiments():
-    # jackknife standard error (Efron & Tibshirani 1993, ch. 11) against the scatter of 40 independent
+def test_stated_error_matches_spread_of_repeated_experiments():
+    # delta-method standard error (Efron & Tibshirani 1993) against the scatter of 40 independent
     # replicates of the same Monte Carlo experiment: agree within 35% (sampling error of 40 replicates ~11%)
     rng = np.random.default_rng(3)
 
@@ -73,8 +73,8 @@ def test_jackknife_error_matches_spread_of_repeated_experiments():
 
     reps = [run() for _ in range(40)]
     spread = np.std([r["probability"][0] for r in reps], ddof=1)
-    jack = np.mean([r["probability_error"][0] for r in reps])
-    assert jack == pytest.approx(spread, rel=0.35)
+    stated = np.mean([r["probability_error"][0] for r in reps])
+    assert stated == pytest.approx(spread, rel=0.35)
 
 
 def _bayes_rule(lam, lam0, f, s):

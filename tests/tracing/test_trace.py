@@ -84,7 +84,8 @@ def test_overrides_keys_and_products(tmp_path):
     for key in ("n_samples", "seed", "associations", "plane_crossing_age_yr", "favoured", "verdict",
                 "failed_draws", "potential", "solar_parameters", "velocity_prior", "distance_prior"):
         assert key in d
-    assert d["n_samples"] == 50 and d["seed"] == 5 and d["potential"] == "none"
+    assert d["n_samples"] == d["samples_used"] and 50 <= d["samples_used"] <= 200  # max_samples: 4 x samples
+    assert d["seed"] == 5 and d["potential"] == "none"
     for s_ in d["associations"]:
         for key in ("name", "encounter_fraction", "chance_fraction", "age_yr", "dmin_pc", "ratio",
                     "required_radial_velocity_kms", "common_origin", "n_encounters"):
@@ -109,7 +110,7 @@ def test_failed_orbit_recorded_with_index_and_warning(tmp_path, monkeypatch):
 
     monkeypatch.setattr(StarDraws, "galactocentric", broken)
     with pytest.warns(RuntimeWarning, match="could not be integrated"):
-        res = trace(_small(tmp_path), samples=40)
+        res = trace(_small(tmp_path), samples=40, max_samples=40)
     d = res.to_dict()
     assert {"index": 3, "kind": "star"}.items() <= d["failed_draws"][0].items()
     assert d["associations"][0]["n_valid"] == 39
