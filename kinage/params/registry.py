@@ -32,7 +32,7 @@ SOLAR_PECULIAR_V_KMS = 12.24
 #: Sun used with a potential set that names none
 DEFAULT_SOLAR_PARAMETERS = "astropy-v4.0"
 
-KINDS = ("solar_parameters", "potential", "velocity_prior", "distance_prior", "cooling_model", "eos")
+KINDS = ("solar_parameters", "potential", "velocity_prior", "distance_prior", "cooling_model", "eos", "pairing")
 
 _REGISTRY = {kind: {} for kind in KINDS}
 
