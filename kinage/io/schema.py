@@ -192,7 +192,9 @@ _AGES = [
     Key("light_element_mass", "floats",
         doc="log10(Delta M/M) of light-element envelopes between iron and fully accreted (one value or a list); "
             "each adds an envelope 'light<value>' to the cooling age"),
-    Key("cooling_model", "str", default="modified-urca", doc="cooling model parameter set (kinage parameter-sets cooling_model)"),
+    Key("cooling_model", "str", default="npe-SLy",
+        doc="cooling model parameter set (kinage parameter-sets cooling_model); the default npe-SLy is a TOV star with "
+            "nucleon pairing ([ages] pairing), modified-urca the earlier reference-star model without pairing"),
     Key("pairing", "str", default="SFB-EEHOr-CCDK",
         doc="nucleon pairing parameter set (kinage parameter-sets pairing) of a cooling model with an equation of "
             "state (npe-SLy, npe-APR4); 'none' for unpaired nucleons; models without one are unpaired"),
