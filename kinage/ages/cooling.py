@@ -17,6 +17,12 @@ parameter set (:mod:`kinage.params.cooling`, where their sources are cited);
 s_C = (M/M_ref)(rho/rho_ref)^(-2/3) and s_L = (M/M_ref)(rho/rho_ref)^(-1/3)
 scale them to other masses and radii (mean density rho ~ M/R^3).
 
+Models with an equation of state and a ``pairing`` set replace C0 s_C T9 and
+L_MU s_L T9^8 by C(T) and L_nu(T) tabulated over the paired star
+(:func:`.star_cooling.paired_core_tables`: reduced heat capacity and
+emission, pair-breaking neutrinos), interpolated in log-log; the starting
+temperature then comes from int_T^inf C/L_nu dT = t_start.
+
 The equation is solved in log-time, y = ln T against x = ln t, with
 :func:`scipy.integrate.solve_ivp` (LSODA, stiff-capable), starting at the
 model's ``t_start_yr`` from the temperature an arbitrarily hot star reaches
@@ -63,9 +69,10 @@ class CoolingModel:
     parameter_set : ParameterSet
     eos : str or None
         An ``eos`` parameter set: C0 and L_MU are then integrated over the
-        TOV star of each mass (:mod:`.star_cooling`; unpaired npe core,
-        modified Urca and nucleon bremsstrahlung) and the radius follows from
-        the mass, instead of the reference-star scalings.
+        TOV star of each mass (:mod:`.star_cooling`; npe core, modified Urca
+        and nucleon bremsstrahlung; with ``pairing``, tables of C(T) and
+        L_nu(T) of the paired core) and the radius follows from the mass,
+        instead of the reference-star scalings.
     effective_mass_n, effective_mass_p : float
         Nucleon effective masses (units of the bare masses) for ``eos`` models.
     pairing : str or None
