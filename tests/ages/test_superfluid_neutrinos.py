@@ -101,3 +101,12 @@ def test_pbf_emissivity_follows_its_definition_and_the_vector_current_suppressio
                       mu[::100])
     qb = pbf_emissivity(t9, v, m_eff, pf, "triplet")
     assert qb == pytest.approx(1.170e21 * m_eff * pf * t9**7 * 3 * 2 * 1.26**2 * fb, rel=0.02)
+
+
+@pytest.mark.parametrize("v", [1.0, 2.0, 4.0])
+def test_product_of_one_species_factors_approximates_both_species_paired(v):
+    # neutron branch of modified Urca with neutrons (3 participants) and protons (1) paired with equal gaps: the
+    # product of the one-species factors, the common approximation (Yakovlev et al. 2001, sec. 3.6), against the
+    # defining integral with all four nucleons gapped; within 15 % here (it drifts as the suppression deepens)
+    joint = _energy_integral((v,) * 4 + (0.0,), 3) / _energy_integral((0.0,) * 5, 3)
+    assert reduction_mu_three(v) * reduction_mu_one(v) == pytest.approx(joint, rel=0.15)
