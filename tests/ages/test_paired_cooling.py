@@ -123,3 +123,22 @@ def test_pairing_through_the_command_line(tmp_path, capsys):
         err = capsys.readouterr().err.strip().splitlines()
         assert len(err) == 1 and "[ages] pairing" in err[0] and word in err[0], err
         assert not (tmp_path / "bad").exists()
+
+
+def test_tabulated_path_reproduces_the_closed_form_neutrino_era():
+    # with the unpaired table forced through the tabulated path, the start temperature and the curve match the
+    # closed-form solution of C0 T9 dT/dt = -L0 T9^8, T = 1e9 K (6 L0 t / (1e9 K C0))^(-1/6) (Yakovlev & Pethick 2004,
+    # ARA&A 42, 169, sec. 4), that the analytic path uses
+    from dataclasses import replace
+
+    from kinage.ages.cooling import CoolingModel, _thermal
+    from kinage.ages.spindown import SECONDS_PER_YEAR
+
+    m = CoolingModel.resolve("npe-SLy")
+    c0, l0, _ = npe_core_coefficients("SLy", 1.4)
+    closed = 1e9 * (6 * l0 * 100 * SECONDS_PER_YEAR / (c0 * 1e9)) ** (-1 / 6)
+    assert _thermal(replace(m, pairing="none"), 1.4, 12.0)[2] == pytest.approx(closed, rel=2e-3)
+    times = [1e3, 1e5]
+    a = cooling_curve(1.4, 12.0, "iron", times, model=replace(m, pairing="none")).T_inf_K
+    b = cooling_curve(1.4, 12.0, "iron", times, model="npe-SLy", pairing="none").T_inf_K
+    np.testing.assert_allclose(a, b, rtol=2e-4)
