@@ -35,10 +35,11 @@ from .registry import ParameterSet, _builtin
 _HO15 = ("Ho, Elshamouty, Heinke & Potekhin 2015, PRC 91, 015806, eq. 2 and Table II (gap fit parameters; "
          "value from memory)")
 _CHANNEL_REFS = {
-    "SFB": "Schwenk, Friman & Brown 2003, Nucl. Phys. A 713, 191 (neutron 1S0 gap SFB)",
-    "CCDK": "Chen, Clark, Dave & Khodel 1993, Nucl. Phys. A 555, 59 (proton 1S0 gap CCDK)",
-    "TToa": "Takatsuka & Tamagaki 2004, Prog. Theor. Phys. 112, 37 (neutron 3P2 gap TToa)",
-    "EEHOr": "Elgaroy, Engvik, Hjorth-Jensen & Osnes 1996, Nucl. Phys. A 604, 466 (neutron 3P2 gap EEHOr)",
+    "SFB": "Schwenk, Friman & Brown 2003, Nucl. Phys. A 713, 191 (neutron 1S0 gap SFB; citation from memory)",
+    "CCDK": "Chen, Clark, Dave & Khodel 1993, Nucl. Phys. A 555, 59 (proton 1S0 gap CCDK; citation from memory)",
+    "TToa": "Takatsuka & Tamagaki 2004, Prog. Theor. Phys. 112, 37 (neutron 3P2 gap TToa; citation from memory)",
+    "EEHOr": "Elgaroy, Engvik, Hjorth-Jensen & Osnes 1996, Nucl. Phys. A 604, 466 (neutron 3P2 gap EEHOr; "
+             "citation from memory)",
 }
 #: gap fits (Delta_0 MeV, k0, k1, k2, k3), Ho et al. 2015, Table II (value from memory)
 GAPS = {
@@ -53,7 +54,7 @@ _MINIMAL_REFS = ("Page, Lattimer, Prakash & Steiner 2004, ApJS 155, 623 (minimal
 
 def _set(name, ns, nt, ps, description, extra_refs=()):
     values = {}
-    refs = [_HO15]
+    refs = [_HO15] if any((ns, nt, ps)) else []
     for key, model in (("neutron_singlet", ns), ("neutron_triplet", nt), ("proton_singlet", ps)):
         values[key] = model or "none"
         values[f"{key}_gap"] = GAPS[model] if model else None
