@@ -1,4 +1,4 @@
-"""Heat capacity and neutrino luminosity of an unpaired npe core, integrated over a TOV star.
+"""Heat capacity and neutrino luminosity of an npe core, unpaired or with nucleon pairing, integrated over a TOV star.
 
 For an isothermal interior after thermal relaxation the redshifted
 temperature T~ = T(r) exp(Phi(r)) is uniform (Gnedin, Yakovlev & Potekhin
