@@ -22,6 +22,12 @@ neutron_singlet_gap, neutron_triplet_gap, proton_singlet_gap
     fit, from Ho et al. 2015, Table II (the table could not be consulted when
     this was written: values from memory).
 
+Reading the triplet entries as the m_J = 0 amplitude Delta_0 in MeV is part
+of the from-memory caveat: so read, TToa reaches T_c = 4.4e9 K over the
+whole core of a 1.4 Msun SLy star (neutron k_F 1.5-2.4 fm^-1) and EEHOr
+0.8e9 K at k_F ~ 1.4 fm^-1, paired only at the core's outer edge; CCDK pairs
+every proton of that core (k_F 0.5-1.1 fm^-1, T_c up to 6.7e9 K).
+
 Where both neutron channels are open, the larger T_c decides which pairing
 the neutrons have (the singlet at the low densities of the outer core, the
 triplet deeper in).  Only the core is modelled (kinage.ages.star_cooling):
