@@ -176,7 +176,7 @@ class AgesResult(ResultDisplay):
                 ct[name].unit = "K"
             ct.meta["model"] = self.cooling.model
             ct.meta["envelopes"] = {e["envelope"]: e["description"] for e in self.cooling.per_envelope}
-            ct.meta["pairing"] = getattr(self.cooling, "pairing", None) or "none (model without nucleon pairing)"
+            ct.meta["pairing"] = getattr(self.cooling, "pairing", None) or "none"
             with atomic_path(out / "ages_cooling_curves.ecsv") as tmp:
                 ct.write(tmp, format="ascii.ecsv", overwrite=True)
             paths.append(out / "ages_cooling_curves.ecsv")
@@ -187,7 +187,10 @@ class AgesResult(ResultDisplay):
                                                   kinematic_name=("time since the plane crossing"
                                                                   if self.kinematic.get("source") == PLANE_CROSSING_SOURCE
                                                                   else "kinematic age"),
-                                                  title=f"Cooling curves ({self.cooling.model}) and {self.star}")))
+                                                  title=f"Cooling curves ({self.cooling.model}"
+                                                        + (f", pairing {self.cooling.pairing}"
+                                                           if self.cooling.pairing != "none" else "")
+                                                        + f") and {self.star}")))
         return paths
 
 
@@ -326,6 +329,7 @@ def compare_ages(scenario, *, kinematic_age_samples=None, kinematic_age_source=N
     if cool is not None:
         warnings.extend(cool.warnings)
     pset = get_pset("cooling_model", s.cooling_model, "[ages] cooling_model")
+    psets = [pset] + ([get_pset("pairing", cool.pairing)] if cool is not None and cool.pairing != "none" else [])
 
     # verdicts -----------------------------------------------------------------
     verdicts = age_verdicts(values, unc, kin_iv, cool, s,
@@ -335,7 +339,7 @@ def compare_ages(scenario, *, kinematic_age_samples=None, kinematic_age_source=N
         star=str(star.get("name", "star")), values=values, uncertainties=unc,
         kinematic={"interval": kin_iv, "source": source, "method": kin_method},
         shklovskii=shk, field_decay=decay, cooling=cool, cooling_at_mass=cool_m, verdicts=verdicts,
-        warnings=warnings, inputs=inputs, parameter_sets=[pset], assumptions=_assumptions(s, shk, kin_method),
+        warnings=warnings, inputs=inputs, parameter_sets=psets, assumptions=_assumptions(s, shk, kin_method),
         seed=seed, samples=n)
 
 
@@ -374,7 +378,7 @@ def _cooling(star, s, rng, heating):
               luminosity_erg_s=None if temp else lum,
               luminosity_error_erg_s=None if temp else star.value("luminosity_error", "erg/s"),
               radius_km=s.radius_km, envelopes=s.envelopes, model=s.cooling_model, samples=s.samples,
-              heating=heating)
+              heating=heating, pairing=getattr(s, "pairing", None))
     cool = cooling_age(masses=s.masses, rng=rng, **kw)
     try:
         cool_m = cooling_age(masses=(s.mass_msun,), rng=rng, **kw)

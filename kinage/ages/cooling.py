@@ -17,6 +17,12 @@ parameter set (:mod:`kinage.params.cooling`, where their sources are cited);
 s_C = (M/M_ref)(rho/rho_ref)^(-2/3) and s_L = (M/M_ref)(rho/rho_ref)^(-1/3)
 scale them to other masses and radii (mean density rho ~ M/R^3).
 
+Models with an equation of state and a ``pairing`` set replace C0 s_C T9 and
+L_MU s_L T9^8 by C(T) and L_nu(T) tabulated over the paired star
+(:func:`.star_cooling.paired_core_tables`: reduced heat capacity and
+emission, pair-breaking neutrinos), interpolated in log-log; the starting
+temperature then comes from int_T^inf C/L_nu dT = t_start.
+
 The equation is solved in log-time, y = ln T against x = ln t, with
 :func:`scipy.integrate.solve_ivp` (LSODA, stiff-capable), starting at the
 model's ``t_start_yr`` from the temperature an arbitrarily hot star reaches
@@ -63,11 +69,17 @@ class CoolingModel:
     parameter_set : ParameterSet
     eos : str or None
         An ``eos`` parameter set: C0 and L_MU are then integrated over the
-        TOV star of each mass (:mod:`.star_cooling`; unpaired npe core,
-        modified Urca and nucleon bremsstrahlung) and the radius follows from
-        the mass, instead of the reference-star scalings.
+        TOV star of each mass (:mod:`.star_cooling`; npe core, modified Urca
+        and nucleon bremsstrahlung; with ``pairing``, tables of C(T) and
+        L_nu(T) of the paired core) and the radius follows from the mass,
+        instead of the reference-star scalings.
     effective_mass_n, effective_mass_p : float
         Nucleon effective masses (units of the bare masses) for ``eos`` models.
+    pairing : str or None
+        A ``pairing`` parameter set for ``eos`` models (None: unpaired
+        nucleons); C(T) and L_nu(T) then come from tables over the star
+        (:func:`.star_cooling.paired_core_tables`).  Set with
+        :meth:`with_pairing`.
     """
 
     name: str
@@ -84,8 +96,9 @@ class CoolingModel:
     eos: str | None = None
     effective_mass_n: float = 0.8
     effective_mass_p: float = 0.8
+    pairing: str | None = None
 
-    _OPTIONAL = ("name", "parameter_set", "eos", "effective_mass_n", "effective_mass_p")
+    _OPTIONAL = ("name", "parameter_set", "eos", "effective_mass_n", "effective_mass_p", "pairing")
 
     @classmethod
     def resolve(cls, model, where="[ages] cooling_model"):
@@ -107,6 +120,39 @@ class CoolingModel:
             get("eos", eos, f"cooling model '{pset.name}' eos")
         return cls(name=pset.name, parameter_set=pset, eos=eos, **extra,
                    **{k: float(pset.values[k]) for k in names})
+
+    def with_pairing(self, pairing, where="[ages] pairing"):
+        """This model with a ``pairing`` parameter set (None: :data:`kinage.params.pairing.DEFAULT` for models with
+        an equation of state, unpaired otherwise; 'none': unpaired).
+
+        Raises
+        ------
+        InputError
+            Unknown set (naming ``where`` and the sets), or a paired set for a
+            model without an equation of state.
+        """
+        from dataclasses import replace
+
+        from ..params.pairing import DEFAULT
+
+        if pairing is None:
+            pairing = DEFAULT if self.eos is not None else "none"
+        pset = get("pairing", pairing, where)
+        name = None if pset.name == "none" else pset.name
+        if name is not None and self.eos is None:
+            raise InputError(where, f"pairing set '{pset.name}' needs a cooling model with an equation of state "
+                                    f"(npe-SLy, npe-APR4); '{self.name}' has none: use pairing = \"none\"")
+        return replace(self, pairing=name)
+
+    @property
+    def pairing_label(self):
+        """The pairing set's name, or 'none'."""
+        return self.pairing or "none"
+
+    @property
+    def display_name(self):
+        """The model's name with its pairing set, e.g. "npe-SLy, pairing SFB-TToa-CCDK"."""
+        return f"{self.name}, pairing {self.pairing}" if self.pairing else self.name
 
     def key(self):
         """Hashable identity of the coefficients (for caching)."""
@@ -199,6 +245,8 @@ class CoolingCurve:
     valid : ndarray of bool
     mass_msun, radius_km : float
     envelope, model : str
+    pairing : str
+        ``pairing`` parameter set of the curve ('none': unpaired).
     """
 
     t_yr: np.ndarray
@@ -211,6 +259,7 @@ class CoolingCurve:
     radius_km: float
     envelope: str
     model: str
+    pairing: str = "none"
 
     @property
     def label(self):
@@ -253,7 +302,8 @@ def _initial_temperature(c0, lmu, ldu, t_s):
     return 1e9 * np.exp(brentq(lambda u: elapsed(u) - t_s, -8.0, 5.0, xtol=1e-12))
 
 
-def cooling_curve(mass, radius, envelope="iron", times_yr=None, model="modified-urca", heating=None, *, check=True):
+def cooling_curve(mass, radius, envelope="iron", times_yr=None, model="modified-urca", heating=None, *, check=True,
+                  pairing=None):
     """Cooling curve of an isothermal-core neutron star.
 
     Parameters
@@ -272,6 +322,11 @@ def cooling_curve(mass, radius, envelope="iron", times_yr=None, model="modified-
         Redshifted heating rate H(t_yr) in erg/s (e.g. :func:`field_decay_heating`).
     check : bool
         Raise for times outside the model span.
+    pairing : str or None
+        ``pairing`` parameter set for a model with an equation of state
+        (None: :data:`kinage.params.pairing.DEFAULT` for those, unpaired
+        otherwise; 'none': unpaired).  A model already carrying a pairing
+        set (:meth:`CoolingModel.with_pairing`) keeps it when None.
 
     Returns
     -------
@@ -292,6 +347,8 @@ def cooling_curve(mass, radius, envelope="iron", times_yr=None, model="modified-
     if isinstance(times_yr, u.Quantity):
         times_yr = times_yr.to_value(u.yr)
     m = CoolingModel.resolve(model)
+    if pairing is not None or not isinstance(model, CoolingModel):
+        m = m.with_pairing(pairing)
     env = str(envelope).lower()
     envelope_relation(env)  # an unknown name is an InputError here, before any work
     times = default_times(m) if times_yr is None else np.atleast_1d(np.asarray(times_yr, float))
@@ -316,9 +373,37 @@ def _cached(mass, radius, env, key, times, m):
     return _solve(mass, radius, env, m, np.asarray(times), None)
 
 
+def _thermal(m, mass, radius):
+    """Heat capacity C(T) [erg/K], neutrino luminosity L_nu(T) [erg/s] of the redshifted core temperature T [K],
+    and the temperature [K] at the model's start time."""
+    t_start_s = m.t_start_yr * SECONDS_PER_YEAR
+    if m.pairing is None:
+        c0, lmu, ldu = m.coefficients(mass, radius)
+        return ((lambda temp: c0 * temp / 1e9), (lambda temp: lmu * (temp / 1e9) ** 8 + ldu * (temp / 1e9) ** 6),
+                _initial_temperature(c0, lmu, ldu, t_start_s))
+    from .star_cooling import paired_core_tables
+
+    lt, lc, ll = paired_core_tables(m.eos, mass, m.effective_mass_n, m.effective_mass_p, m.pairing)
+
+    def cap(temp):
+        return np.exp(np.interp(np.log(temp), lt, lc))
+
+    def lnu(temp):
+        return np.exp(np.interp(np.log(temp), lt, ll))
+
+    # time for an arbitrarily hot star to cool to T by neutrinos alone: int_T^inf C/L dT'; above the table every
+    # nucleon is normal (C ~ T, L ~ T^8), which gives the tail (C/L) T / 6
+    tt = np.exp(lt)
+    g = np.exp(lc - ll)
+    seg = 0.5 * (g[1:] + g[:-1]) * np.diff(tt)
+    elapsed = g[-1] * tt[-1] / 6 + np.concatenate([np.cumsum(seg[::-1])[::-1], [0.0]])
+    temp0 = float(np.exp(np.interp(np.log(t_start_s), np.log(elapsed[::-1]), lt[::-1])))
+    return cap, lnu, temp0
+
+
 def _solve(mass, radius, env, m, times, heating):
     st = star_structure(mass, radius)
-    c0, lmu, ldu = m.coefficients(mass, radius)
+    cap, lnu_of, temp0 = _thermal(m, mass, radius)
     relation = envelope_relation(env)
     red = st.redshift_factor
     area = 4.0 * np.pi * (radius * 1e5) ** 2 * red**2 * _SIGMA_SB
@@ -330,15 +415,12 @@ def _solve(mass, radius, env, m, times, heating):
     def rhs(x, y):
         t_yr = np.exp(x)
         temp = np.exp(y[0])
-        t9 = temp / 1e9
-        lnu = lmu * t9**8 + ldu * t9**6
         lg = photon(temp)[0]
         h = float(heating(t_yr)) if heating is not None else 0.0
-        dtdt = (-lnu - lg + h) / (c0 * t9)  # K/s
+        dtdt = (-lnu_of(temp) - lg + h) / cap(temp)  # K/s
         return [t_yr * SECONDS_PER_YEAR * dtdt / temp]
 
     t0 = m.t_start_yr
-    temp0 = _initial_temperature(c0, lmu, ldu, t0 * SECONDS_PER_YEAR)
     x_eval = np.log(times)
     span = (np.log(t0), max(x_eval[-1], np.log(t0)))
     sol = solve_ivp(rhs, span, [np.log(temp0)], method="LSODA", t_eval=x_eval, rtol=1e-8, atol=1e-10)
@@ -348,16 +430,16 @@ def _solve(mass, radius, env, m, times, heating):
     lg, ts = photon(temp)
     tb = temp / red
     valid = (ts >= TS_MIN_K) & (tb >= TB_MIN_K) & (tb <= TB_MAX_K)
-    t9 = temp / 1e9
     return CoolingCurve(
         t_yr=np.asarray(times, float),
         T_inf_K=np.where(valid, ts * red, np.nan),
         L_inf_erg_s=np.where(valid, lg, np.nan),
         T_core_K=temp,
-        L_nu_erg_s=lmu * t9**8 + ldu * t9**6,
+        L_nu_erg_s=lnu_of(temp),
         valid=valid,
         mass_msun=mass,
         radius_km=radius,
         envelope=env,
         model=m.name,
+        pairing=m.pairing_label,
     )

@@ -46,6 +46,8 @@ class CoolingAgeResult:
         combinations; ``median_min``/``median_max``: range of their medians.
     curves : list of CoolingCurve
     model : str
+    pairing : str
+        ``pairing`` parameter set of the curves ('none': unpaired nucleons).
     warnings : list of str
     """
 
@@ -60,6 +62,7 @@ class CoolingAgeResult:
     warnings: list = field(default_factory=list)
     samples: np.ndarray = field(default=None, repr=False)
     per_envelope: list = field(default_factory=list)
+    pairing: str = "none"
 
     def to_dict(self):
         """JSON-ready record."""
@@ -68,6 +71,7 @@ class CoolingAgeResult:
             "observed": self.observed,
             "observed_error": self.observed_error,
             "model": self.model,
+            "pairing": self.pairing,
             "cooling_age_yr": {k: self.pooled[k] for k in ("median", "lo68", "hi68", "lo95", "hi95")},
             "per_model": list(self.per_model),
             "per_envelope": list(self.per_envelope),
@@ -80,7 +84,7 @@ class CoolingAgeResult:
                luminosity_error_erg_s="erg/s", masses="solMass", radius_km="km")
 def cooling_age(temperature_K=None, temperature_error_K=None, *, luminosity_erg_s=None, luminosity_error_erg_s=None,
                 masses=(1.2, 1.4, 1.6), radius_km=12.0, envelopes=("iron", "accreted"), model="minimal",
-                samples=4000, rng=None, heating=None, where=None):
+                samples=4000, rng=None, heating=None, where=None, pairing=None):
     """Cooling age for a measured redshifted temperature (or luminosity).
 
     Parameters
@@ -107,6 +111,10 @@ def cooling_age(temperature_K=None, temperature_error_K=None, *, luminosity_erg_
     where : str, optional
         Field named in error messages (default ``[star] temperature`` or
         ``[star] luminosity``).
+    pairing : str or None
+        ``pairing`` parameter set (:meth:`.cooling.CoolingModel.with_pairing`:
+        None is the default set for models with an equation of state,
+        unpaired otherwise).
 
     Returns
     -------
@@ -141,6 +149,8 @@ def cooling_age(temperature_K=None, temperature_error_K=None, *, luminosity_erg_
     if not masses or not envelopes:
         raise InputError("[ages] masses", "need at least one mass and one envelope")
     m = CoolingModel.resolve(model)
+    if pairing is not None or not isinstance(model, CoolingModel):
+        m = m.with_pairing(pairing)
     rng = np.random.default_rng(rng)
     curves = [cooling_curve(mass, radius_km, env, model=m, heating=heating) for env in envelopes for mass in masses]
     radius_notes = _eos_radius_notes(m, masses, radius_km)
@@ -183,7 +193,7 @@ def cooling_age(temperature_K=None, temperature_error_K=None, *, luminosity_erg_
                          f"{lo:.3g}-{hi:.3g} K, kT = {lo * _EV_PER_K:.3g}-{hi * _EV_PER_K:.3g} eV,")
         else:
             got, span = f"{value:.3g} erg/s", f"{lo:.3g}-{hi:.3g} erg/s"
-        err = ModelRangeError(where, f"{got} is outside the range of cooling model '{m.name}' "
+        err = ModelRangeError(where, f"{got} is outside the range of cooling model '{m.display_name}' "
                               f"({span} between {m.t_start_yr:g} and {m.t_end_yr:g} yr for "
                               f"envelopes {', '.join(envelopes)} and masses {', '.join(f'{x:g}' for x in masses)} "
                               f"solMass)")
@@ -191,11 +201,11 @@ def cooling_age(temperature_K=None, temperature_error_K=None, *, luminosity_erg_
         err.model_span_yr = (m.t_start_yr, m.t_end_yr)
         if quantity == "temperature":
             word = "hotter" if err.side == "hot" else "colder"
-            short = (f"kT = {value * _EV_PER_K:.3g} eV is {word} than every curve of cooling model '{m.name}' "
+            short = (f"kT = {value * _EV_PER_K:.3g} eV is {word} than every curve of cooling model '{m.display_name}' "
                      f"(kT = {lo * _EV_PER_K:.3g}-{hi * _EV_PER_K:.3g} eV")
         else:
             word = "brighter" if err.side == "hot" else "fainter"
-            short = (f"L = {value:.3g} erg/s is {word} than every curve of cooling model '{m.name}' "
+            short = (f"L = {value:.3g} erg/s is {word} than every curve of cooling model '{m.display_name}' "
                      f"({lo:.3g}-{hi:.3g} erg/s")
         err.short = short + f" from {m.t_start_yr:g} to {m.t_end_yr:g} yr)"
         raise err
@@ -208,7 +218,8 @@ def cooling_age(temperature_K=None, temperature_error_K=None, *, luminosity_erg_
               "median_min": min(meds) if meds else None, "median_max": max(meds) if meds else None}
     return CoolingAgeResult(quantity=quantity, observed=value, observed_error=None if err is None else float(err),
                             pooled=interval(all_ages), per_model=per_model, range_yr=rng_yr, curves=curves,
-                            model=m.name, warnings=warnings, samples=all_ages, per_envelope=per_envelope)
+                            model=m.name, warnings=warnings, samples=all_ages, per_envelope=per_envelope,
+                            pairing=m.pairing_label)
 
 
 def _eos_radius_notes(m, masses, radius_km, tolerance_km=0.5):
@@ -255,7 +266,19 @@ def cooling_assumptions(s):
         return [f"Isothermal-core cooling from 100 yr, model '{s.cooling_model}': C ~ 1e39 T9 erg/K, "
                 "L_MU ~ 1e40 T9^8 erg/s, no superfluidity (Yakovlev & Pethick 2004, ARA&A 42, 169)", env,
                 f"One radius R = {s.radius_km:g} km for every mass; redshift sqrt(1 - 2GM/Rc^2)"]
+    from ..params.pairing import DEFAULT
+
+    pairing = get("pairing", getattr(s, "pairing", None) or DEFAULT)
+    if pairing.name == "none":
+        paired = "unpaired nucleons (pairing 'none')"
+    else:
+        v = pairing.values
+        paired = (f"nucleon pairing '{pairing.name}' (neutron 1S0 {v['neutron_singlet']}, neutron 3P2 "
+                  f"{v['neutron_triplet']}, proton 1S0 {v['proton_singlet']}; Ho et al. 2015 gap fits): heat capacity "
+                  "and modified Urca/bremsstrahlung reduction factors (Levenfish & Yakovlev 1994; Yakovlev et al. "
+                  "2001), pair breaking and formation with the vector current removed (Leinson & Perez 2006; Page "
+                  "et al. 2009); crust left out")
     return [f"Isothermal interior from 100 yr, model '{s.cooling_model}': TOV star of EOS {eos} for each mass, "
-            "heat capacity and modified Urca + nucleon bremsstrahlung of an unpaired npe core integrated over the "
-            "volume with redshift factors (Yakovlev et al. 2001, Phys. Rep. 354, 1); no superfluidity", env,
+            "heat capacity and modified Urca + nucleon bremsstrahlung of an npe core integrated over the "
+            f"volume with redshift factors (Yakovlev et al. 2001, Phys. Rep. 354, 1); {paired}", env,
             f"Radius from the EOS for each mass (the [ages] radius is not used); redshift sqrt(1 - 2GM/Rc^2)"]

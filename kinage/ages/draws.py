@@ -45,6 +45,7 @@ class AgesSettings:
     ohmic_timescale_yr: float | None
     samples: int
     shklovskii: bool
+    pairing: str | None = None
 
 
 def _ages_value(section, key, unit=None):
@@ -90,6 +91,9 @@ def read_settings(scenario):
         ohmic_timescale_yr=_ages_value(a, "ohmic_timescale", "yr"),
         samples=int(_ages_value(a, "samples")),
         shklovskii=bool(_ages_value(a, "shklovskii")),
+        # None: the schema default, which applies to models with an equation of state only; a set given in the
+        # scenario must suit the model (kinage.ages.cooling.CoolingModel.with_pairing)
+        pairing=str(a.value("pairing")) if a is not None and a.given("pairing") else None,
     )
     if not s.braking_index > 1:
         raise InputError("[ages] braking_index", f"must be greater than 1 (got {s.braking_index:g}); "

@@ -40,19 +40,26 @@ quadrature and interpolated (the type-B fit of the paper could not be
 consulted).  The fit coefficients above are quoted from memory (value from
 memory); the BCS limits and the defining integral are what the tests check.
 
-Not here yet: the reduction factors of modified Urca and bremsstrahlung, the
-emissivity normalisation of pair breaking with the suppressed vector current
-(Leinson & Perez 2006; Page et al. 2009, ApJ 707, 1131), critical-temperature
-profiles of published gap models, and a cooling model that uses them.
+Critical temperatures: :func:`critical_temperature` evaluates the gap fits
+of the ``pairing`` parameter sets (:mod:`kinage.params.pairing`) and turns
+the zero-temperature gap into T_c with the BCS ratios above (Delta(0) =
+1.764 k T_c for type A, 1.188 k T_c for the type-B amplitude).  The
+reduction factors of modified Urca and bremsstrahlung and the pair-breaking
+emissivity are in :mod:`.superfluid_neutrinos`.
 """
 
 from functools import lru_cache
 
 import numpy as np
 
-__all__ = ["gap_v", "heat_capacity_reduction", "pbf_control", "PAIRING_TYPES"]
+__all__ = ["gap_v", "heat_capacity_reduction", "pbf_control", "critical_temperature", "PAIRING_TYPES", "K_PER_MEV"]
 
 PAIRING_TYPES = ("A", "B")
+#: kelvin per MeV, 1 / k_B (CODATA 2018)
+K_PER_MEV = 1.160451812e10
+#: Delta(T = 0) / k_B T_c of BCS theory: isotropic gap, and the amplitude of the 3P2 m_J = 0 gap (the low-T limits
+#: of :func:`gap_v`)
+_GAP_OVER_TC = {"A": 1.764, "B": 1.188}
 
 
 def _type(kind):
@@ -124,3 +131,31 @@ def pbf_control(v, kind="A"):
     grid, fb = _fb_table()
     lf = np.interp(np.clip(v, grid[1], grid[-1]), grid[1:], np.log(np.maximum(fb[1:], 1e-300)))
     return np.where((v > 0) & (v <= grid[-1]), np.exp(lf), 0.0)
+
+
+def critical_temperature(kf_fm, gap, kind="A"):
+    """Critical temperature (K) at neutron or proton Fermi wave numbers ``kf_fm`` (fm^-1) for one gap fit.
+
+    Parameters
+    ----------
+    kf_fm : float or ndarray
+        Fermi wave number, fm^-1.
+    gap : sequence of 5 floats or None
+        (Delta_0 [MeV], k_0 [fm^-1], k_1 [fm^-2], k_2 [fm^-1], k_3 [fm^-2]) of
+        Delta(k_F) = Delta_0 (k_F - k_0)^2 / ((k_F - k_0)^2 + k_1) (k_F - k_2)^2 / ((k_F - k_2)^2 + k_3) for
+        k_0 < k_F < k_2, zero outside (Kaminker, Haensel & Yakovlev 2001; Ho et al. 2015, PRC 91, 015806);
+        None: no pairing in this channel.
+    kind : {'A', 'B'}
+        Singlet (T_c = Delta / 1.764 k_B) or triplet m_J = 0 (T_c = Delta / 1.188 k_B).
+
+    Returns
+    -------
+    float or ndarray
+        T_c in K (0 where the channel is closed).
+    """
+    kf = np.asarray(kf_fm, float)
+    if gap is None:
+        return np.zeros_like(kf)
+    d0, k0, k1, k2, k3 = (float(x) for x in gap)
+    delta = d0 * (kf - k0) ** 2 / ((kf - k0) ** 2 + k1) * (kf - k2) ** 2 / ((kf - k2) ** 2 + k3)
+    return np.where((kf > k0) & (kf < k2), delta, 0.0) * K_PER_MEV / _GAP_OVER_TC[_type(kind)]

@@ -226,7 +226,12 @@ _AGES = [
     Key("light_element_mass", "floats",
         doc="log10(Delta M/M) of light-element envelopes between iron and fully accreted (one value or a list); "
             "each adds an envelope 'light<value>' to the cooling age"),
-    Key("cooling_model", "str", default="modified-urca", doc="cooling model parameter set (kinage parameter-sets cooling_model)"),
+    Key("cooling_model", "str", default="npe-SLy",
+        doc="cooling model parameter set (kinage parameter-sets cooling_model); the default npe-SLy is a TOV star with "
+            "nucleon pairing ([ages] pairing), modified-urca the earlier reference-star model without pairing"),
+    Key("pairing", "str", default="SFB-EEHOr-CCDK",
+        doc="nucleon pairing parameter set (kinage parameter-sets pairing) of a cooling model with an equation of "
+            "state (npe-SLy, npe-APR4); 'none' for unpaired nucleons; models without one are unpaired"),
     Key("hall_timescale", "quantity", "yr", positive=True, doc="Hall timescale for the Ohm + Hall decay model"),
     Key("ohmic_timescale", "quantity", "yr", positive=True, doc="Ohmic timescale for the Ohm + Hall decay model"),
     Key("samples", "int", default=4000, positive=True, doc="Monte Carlo draws for age uncertainties"),
@@ -323,6 +328,7 @@ _RANGES = {
                                    reason="the partially accreted envelope relation of Potekhin, Chabrier & Yakovlev "
                                           "1997 spans log10(Delta M/M) from -17 (iron-like) to -7 (fully accreted)"),
         "cooling_model": dict(choices="param:cooling_model"),
+        "pairing": dict(choices="param:pairing"),
         "samples": dict(upper=1_000_000, reason="1e6 Monte Carlo draws already give sub-percent intervals"),
     },
 }

@@ -104,3 +104,4 @@ _builtin(ParameterSet(
 ))
 from . import cooling  # noqa: E402,F401
 from . import eos  # noqa: E402,F401
+from . import pairing  # noqa: E402,F401

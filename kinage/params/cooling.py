@@ -81,7 +81,10 @@ _builtin(ParameterSet(
 
 _NPE_REFS = (
     "Yakovlev, Kaminker, Gnedin & Haensel 2001, Phys. Rep. 354, 1 (modified Urca and nucleon bremsstrahlung "
-    "emissivities, Fermi-liquid heat capacity; coefficients from memory)",
+    "emissivities, Fermi-liquid heat capacity, superfluid reduction factors; coefficients from memory)",
+    "Levenfish & Yakovlev 1994, Astron. Rep. 38, 247; Yakovlev, Kaminker & Levenfish 1999, A&A 343, 650; "
+    "Leinson & Perez 2006, Phys. Lett. B 638, 114; Page, Lattimer, Prakash & Steiner 2009, ApJ 707, 1131 "
+    "(heat capacity of paired nucleons, pair breaking and formation; with a pairing set)",
     "Gnedin, Yakovlev & Potekhin 2001, MNRAS 324, 725 (isothermal interior after thermal relaxation)",
     "Read, Lackey, Owen & Friedman 2009, PRD 79, 124032 (equation of state; see the eos sets)",
     "Gudmundsson, Pethick & Epstein 1983, ApJ 272, 286; Potekhin, Chabrier & Yakovlev 1997, A&A 323, 415 (envelopes)",
@@ -94,7 +97,9 @@ for _eos in ("SLy", "APR4"):
         dict(_COMMON, direct_urca_erg_s=0.0, direct_urca_threshold_msun=0.0, direct_urca_width_msun=0.1,
              eos=_eos, effective_mass_n=0.8, effective_mass_p=0.8),
         references=_NPE_REFS,
-        description=(f"unpaired npe core of a TOV star ({_eos} EOS): heat capacity, modified Urca and nucleon "
-                     "bremsstrahlung integrated over the volume with redshift factors, radius from the EOS; no "
-                     "nucleon pairing, no direct Urca, no heating"),
+        description=(f"npe core of a TOV star ({_eos} EOS): heat capacity, modified Urca and nucleon "
+                     "bremsstrahlung integrated over the volume with redshift factors, radius from the EOS; nucleon "
+                     "pairing from the [ages] pairing set (default SFB-EEHOr-CCDK: reduced heat capacity and "
+                     "emission, pair breaking and formation; 'none' for unpaired nucleons); crust left out, no "
+                     "direct Urca, no heating"),
     ))

@@ -11,7 +11,7 @@ from ..errors import InputError
 
 __all__ = ["ParameterSet", "register", "KINDS"]
 
-KINDS = ("solar_parameters", "potential", "velocity_prior", "distance_prior", "cooling_model", "eos")
+KINDS = ("solar_parameters", "potential", "velocity_prior", "distance_prior", "cooling_model", "eos", "pairing")
 
 _REGISTRY = {kind: {} for kind in KINDS}
 
