@@ -329,7 +329,7 @@ def _catching(func, category, *args, stacklevel=5, **kwargs):
     return result, raised
 
 
-def forecast(scenario, *, progress=False, **kwargs):
+def forecast(scenario, *, progress=False, birthplace=False, outcomes=None, rng=None, **kwargs):
     """Forecast what a timing campaign measures (:func:`kinage.timing.forecast`).
 
     Parameters
@@ -338,6 +338,14 @@ def forecast(scenario, *, progress=False, **kwargs):
         Needs ``[star]`` ra, dec (and spin for photon TOA errors) and ``[campaign]``.
     progress : bool
         Show a progress bar (a widget in Jupyter).
+    birthplace : bool
+        Also forecast the birthplace probabilities after the campaign
+        (:func:`kinage.campaign.birthplace_forecast`; needs ``[trace]`` associations); the result's
+        ``birthplace`` attribute and ``to_dict()["birthplace"]``.
+    outcomes : int, optional
+        Simulated campaign outcomes (default ``[campaign] outcomes``, 200).
+    rng : numpy.random.Generator | int | None
+        Seed of the birthplace forecast (default ``[trace] seed``, else 1).
     **kwargs
         Passed on (e.g. ``method``).
 
@@ -347,7 +355,24 @@ def forecast(scenario, *, progress=False, **kwargs):
     """
     from .timing import forecast as _forecast
 
-    return _stage(_forecast, ForecastWarning, as_scenario(scenario), progress=progress, **kwargs)
+    scn = as_scenario(scenario)
+    if not birthplace:
+        return _stage(_forecast, ForecastWarning, scn, progress=progress, **kwargs)
+    from .campaign import birthplace_forecast, check_birthplace_inputs, check_outcomes
+
+    check_birthplace_inputs(scn, where="birthplace=True")
+    if outcomes is not None:
+        check_outcomes(outcomes, "outcomes")
+    if rng is not None:
+        _check_rng(rng)
+
+    def both(s):
+        res = _forecast(s, progress=progress, **kwargs)
+        res.birthplace = birthplace_forecast(s, res, outcomes=outcomes, rng=rng, progress=progress,
+                                             schedules=True)
+        return res
+
+    return _stage(both, ForecastWarning, scn)
 
 
 def simulate(scenario, *, rng=None, **kwargs):

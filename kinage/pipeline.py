@@ -101,6 +101,10 @@ def preflight(scenario, samples=None):
         # the fit's own checks of the star against the table: a spin period, TOA errors well below it
         freq, _, _ = spin_from_star(scenario.star, required=True, where="fitting TOAs")
         _check_errors_against_period(loaded["toas"], 1.0 / freq, str(scenario.campaign.toas))
+    if c is not None and c.get("birthplace_forecast"):
+        from .campaign import check_birthplace_inputs
+
+        check_birthplace_inputs(scenario, where="[campaign] birthplace_forecast")
     if "trace" in stages:
         from .associations import read_associations
 
@@ -210,13 +214,24 @@ def run_stage(name, scenario, done, *, seed, samples=None, progress=False, input
     if name == "forecast":
         from .timing import forecast
 
-        return forecast(scenario, progress=progress)
+        result = forecast(scenario, progress=progress)
+        if scenario.campaign.get("birthplace_forecast"):
+            from .campaign import birthplace_forecast
+
+            result.birthplace = birthplace_forecast(scenario, result, rng=stage_seed(seed, "trace"),
+                                                    samples=samples, progress=progress,
+                                                    associations=inputs.get("associations"), schedules=True)
+        return result
     if name == "fit":
         from .timing import fit_toas
 
         return fit_toas(inputs.get("toas", scenario.campaign.toas), scenario)
     if name == "trace":
         from .orbits import trace
+
+        bp = getattr(done.get("forecast"), "birthplace", None)
+        if bp is not None and done.get("fit") is None and getattr(bp, "trace_result", None) is not None:
+            return bp.trace_result  # the birthplace forecast traced the same astrometry with the same seed
 
         sol = solution_for_trace(scenario, done.get("fit"))
         return trace(scenario, solution=sol, rng=stage_seed(seed, "trace"), samples=samples, progress=progress,

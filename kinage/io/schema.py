@@ -136,6 +136,11 @@ _CAMPAIGN = [
     Key("ephemeris", "str", default="builtin",
         doc="solar-system ephemeris: 'builtin' (astropy's ERFA model) or the path of a JPL file read through astropy "
             "(needs jplephem); nothing downloads"),
+    Key("birthplace_forecast", "bool", default=False,
+        doc="forecast the birthplace probabilities after the campaign (needs [trace] associations; kinage run)"),
+    Key("outcomes", "int", default=200, lower=20, upper=100000,
+        reason="fewer than 20 outcomes say little about a distribution; more than 100,000 only cost time",
+        doc="simulated campaign outcomes of the birthplace forecast"),
 ]
 
 _TRACE = [

@@ -73,6 +73,8 @@ class ForecastResult(ResultDisplay):
     parameter_sets: list = field(default_factory=list)
     red_noise: bool = False
     schedules: dict | None = None
+    #: what the campaign will tell about the birthplace (kinage.campaign.BirthplaceForecast), when asked
+    birthplace: object = None
     assumptions: list = field(default_factory=lambda: list(TIMING_ASSUMPTIONS) + [
         "Fisher (Cramér–Rao) errors of the linearised model: reached by a fit only at high signal-to-noise",
         "photon-limited TOA error from the Cramér–Rao bound of the pulse phase (Ray et al. 2011, ApJS 194, 17)",
@@ -118,6 +120,8 @@ class ForecastResult(ResultDisplay):
         }
         if self.combined is not None:
             out["sigma_with_prior"] = self.combined.sigma_dict()
+        if self.birthplace is not None:
+            out["birthplace"] = self.birthplace.to_dict()
         return out
 
     def constrained(self):
@@ -135,7 +139,10 @@ class ForecastResult(ResultDisplay):
     def summary(self):
         from .forecast_words import forecast_summary
 
-        return forecast_summary(self)
+        text = forecast_summary(self)
+        if self.birthplace is not None:
+            text += " " + self.birthplace.sentence()
+        return text
 
     def sweep_table(self):
         """The baseline sweep as an astropy Table with units."""
@@ -181,4 +188,6 @@ class ForecastResult(ResultDisplay):
             paths.append(out / name)
         for name, draw in (("forecast_baseline.png", forecast_figure), ("forecast_plan.png", plan_figure)):
             paths.append(Path(save_figure(draw(self), out / name)))
+        if self.birthplace is not None:
+            paths += self.birthplace.write_products(out)
         return paths

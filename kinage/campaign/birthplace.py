@@ -1,0 +1,135 @@
+"""Front door of the birthplace forecast: trace today, simulate the campaign's outcomes, summarise.
+
+>>> from kinage.campaign import birthplace_forecast          # doctest: +SKIP
+>>> bf = birthplace_forecast(scenario, forecast_result)      # doctest: +SKIP
+>>> bf.to_dict()["decisive_probability"]                     # doctest: +SKIP
+"""
+
+import numpy as np
+
+from ..astrometry import AstrometricSolution
+from ..errors import InputError
+from .preposterior import DECISIVE, simulate_outcomes, to_today_epoch, today_state
+from .result import BirthplaceForecast
+from .sweep import dates_covariance, information_bits, length_covariances, sweep_lengths
+
+__all__ = ["birthplace_forecast", "check_birthplace_inputs", "check_outcomes", "OUTCOMES_RANGE",
+           "SWEEP_OUTCOMES"]
+
+#: allowed ``[campaign] outcomes``
+OUTCOMES_RANGE = (20, 100_000)
+#: outcomes per swept campaign length and per compared schedule (at most the main run's)
+SWEEP_OUTCOMES = 100
+
+
+def check_outcomes(value, where="[campaign] outcomes"):
+    """The number of outcomes as an int, or InputError unless a whole number in 20..100,000."""
+    lo, hi = OUTCOMES_RANGE
+    try:
+        n = int(value)
+        ok = float(value) == n
+    except (TypeError, ValueError):
+        ok = False
+    if not ok or not lo <= n <= hi:
+        raise InputError(where, f"must be a whole number from {lo} to {hi:,} (got {value!r})")
+    return n
+
+
+def check_birthplace_inputs(scenario, where="--birthplace"):
+    """InputError (one line, naming the missing table) unless the scenario has [campaign] and associations."""
+    if scenario.campaign is None:
+        raise InputError("[campaign]", f"{where} needs a [campaign] table (the planned timing campaign)")
+    if scenario.trace is None or scenario.trace.get("associations") is None:
+        raise InputError("[trace] associations", f"{where} needs candidate associations ([trace] associations)")
+    return check_outcomes(scenario.campaign.get("outcomes", 200))
+
+
+def birthplace_forecast(scenario, forecast_result, *, outcomes=None, rng=None, samples=None, trace_result=None,
+                        sweep=True, schedules=False, progress=False, associations=None):
+    """Distribution of the birthplace probabilities after the planned campaign.
+
+    Parameters
+    ----------
+    scenario : Scenario
+        With ``[star]``, ``[campaign]`` and ``[trace]`` (associations).
+    forecast_result : ForecastResult
+        The campaign's Fisher forecast (its 5x5 covariance is the measurement's).
+    outcomes : int, optional
+        Simulated outcomes (default ``[campaign] outcomes``, 200).
+    rng : numpy.random.Generator | int | None
+        Seed of the outcomes; the trace of today's data uses ``[trace] seed`` (1 when absent) when ``rng`` is
+        None or an int, as ``kinage trace`` does.
+    samples : int, optional
+        Overrides ``[trace] samples``.
+    trace_result : TraceResult, optional
+        Today's trace (made with ``[star]`` astrometry), when already at hand.
+    sweep : bool
+        Also the decisive probability against campaign length (1 yr to ``max_baseline``).
+    schedules : bool
+        Also each schedule's decisive probability and expected information.
+    progress : bool
+    associations : AssociationTable, optional
+
+    Returns
+    -------
+    BirthplaceForecast
+    """
+    n_default = check_birthplace_inputs(scenario, where="a birthplace forecast")
+    n_out = n_default if outcomes is None else check_outcomes(outcomes, "outcomes")
+    seed = scenario.trace.get("seed")
+    seed = 1 if seed is None else int(seed)
+    if isinstance(rng, (int, np.integer)):
+        seed = int(rng)
+    gen = np.random.default_rng(np.random.SeedSequence([seed, 21]) if rng is None or isinstance(rng, (int, np.integer))
+                                else rng)
+    today = AstrometricSolution.from_star(scenario.star)
+    if trace_result is None:
+        from ..orbits import trace
+
+        trace_result = trace(scenario, solution=today, rng=seed, samples=samples, progress=progress,
+                             associations=associations)
+    state = today_state(trace_result, today, scenario)
+    fsol = forecast_result.solution
+    covs = [to_today_epoch(fsol.covariance, fsol.epoch, today.epoch)]
+    counts = [n_out]
+    n_side = min(n_out, SWEEP_OUTCOMES)
+    lengths = []
+    if sweep:
+        lengths = sweep_lengths(forecast_result.max_baseline_yr, forecast_result.plan.span_yr)
+        for length, (cov, epoch) in zip(lengths, length_covariances(scenario, forecast_result, lengths)):
+            if cov is not None:
+                covs.append(to_today_epoch(cov, epoch, today.epoch))
+                counts.append(n_side)
+            else:
+                covs.append(None)
+    sched_names = []
+    if schedules and forecast_result.schedules:
+        for name, row in forecast_result.schedules.items():
+            if "mjd" in row:
+                cov, epoch = dates_covariance(scenario, forecast_result, row["mjd"])
+                covs.append(to_today_epoch(cov, epoch, today.epoch))
+                counts.append(n_side)
+                sched_names.append(name)
+    use = [c for c in covs if c is not None]
+    sets = simulate_outcomes(state, use, counts, gen)
+    it = iter(sets)
+    main = next(it)
+    per_cov = [next(it) if c is not None else None for c in covs[1:]]
+    sweep_rows = []
+    for length, s in zip(lengths, per_cov[:len(lengths)]):
+        sweep_rows.append({"length_yr": float(length),
+                           "decisive_probability": None if s is None else float(np.mean(s.probabilities.max(1) >= DECISIVE)),
+                           "n_outcomes": 0 if s is None else int(s.probabilities.shape[0]),
+                           "information_bits": None if s is None else information_bits(state.p_now, s.probabilities)})
+    sched = {}
+    for name, s in zip(sched_names, per_cov[len(lengths):]):
+        sched[name] = {"decisive_probability": float(np.mean(s.probabilities.max(1) >= DECISIVE)),
+                       "information_bits": information_bits(state.p_now, s.probabilities),
+                       "n_outcomes": int(s.probabilities.shape[0])}
+    ref = state.names[state.ref] if state.ref is not None else None
+    notes = ["chance rates (control draws with random directions of motion) do not depend on the measurement and "
+             "are kept fixed for every outcome",
+             f"campaign lengths and schedules: {n_side} outcomes each, same cadence and TOA errors"]
+    return BirthplaceForecast(state.names, state.p_now, main, sweep_rows, state.age_width_now_yr, ref,
+                              float(forecast_result.plan.span_yr), sched,
+                              information_bits(state.p_now, main.probabilities), notes, trace_result)

@@ -1,0 +1,452 @@
+"""Preposterior analysis: the birthplace probabilities a timing campaign may leave.
+
+Today's trace draws theta_i (position offsets, proper motion, true parallax,
+distance and radial velocity) sample p(theta | D0) under the field model, and
+kinage's probabilities are exact functions of kernel averages over them
+(:mod:`kinage.orbits.probability`): Lambda_j(D) = E[K_j | D] / c_j with the
+chance rate c_j from the control draws.  A campaign measures y, the five
+astrometric parameters, with the forecast covariance C (Fisher; position
+offsets in mas).  After it,
+
+    E[K_j | D0, y] = sum_i w_i K_ij / sum_i w_i,   w_i = N(y; theta_i, C),
+
+the importance-sampling estimate with today's draws as proposal (Owen 2013,
+Monte Carlo theory, methods and examples, ch. 9); no orbit is integrated
+again.  The chance rates c_j do not change: the control draws turn each
+draw's direction of motion at random, so they sample the field's
+directions, not the measurement; they enter every outcome as the same
+numbers (:func:`control_totals`).
+
+Outcomes (preposterior analysis, Raiffa & Schlaifer 1961, Applied
+Statistical Decision Theory).  y is drawn from today's predictive
+distribution p(y | D0) = integral N(y; theta, C) p(theta | D0) dtheta, where
+p(theta | D0) is the posterior mixed over all hypotheses: under H_j the
+state is the field posterior times K_j / E[K_j].  So the true state is today's
+draw i picked with probability proportional to
+
+    u_i = P_unrelated + sum_j P_j K_ij / <K_j> + sum_j P_near,j Kn_ij / <Kn_j>,
+
+and with this choice the mean over outcomes of every updated probability
+equals today's (conservation of expected belief, exact for the reweighted
+estimate up to the sampling of outcomes).  Picking the true state uniformly
+from the draws would instead favour the field.
+
+Where the weights collapse (effective sample size (sum w)^2 / sum w^2 below
+:data:`ESS_FLOOR`, Owen 2013 eq. 9.13), fresh draws come from the updated
+posterior: today's astrometry combined with y by inverse-variance weighting
+(:meth:`~kinage.astrometry.AstrometricSolution.combine`, as a fit is combined
+with ``[star]`` for tracing), with the trace's distance and velocity priors;
+they are integrated in one batch for all such outcomes.
+
+Units: mas, mas/yr, pc, Myr inside; yr for reported age widths.
+"""
+
+from dataclasses import dataclass, field
+
+import numpy as np
+
+from ..astrometry import AstrometricSolution
+from ..errors import InputError
+from ..kinematics import StarDraws, draw_star
+from ..orbits.chunks import chunk_rows, run_draws
+from ..orbits.control import usable_draws
+from ..orbits.probability import (birth_kernel, kernel_group_sums, neighbourhood_width,
+                                  posterior_from_sums, weighted_interval)
+from ..orbits.statistics import encounter_mask
+from ..orbits.trace import CHUNK_BYTES
+
+__all__ = ["TodayState", "OutcomeSet", "today_state", "draw_parameters", "simulate_outcomes", "ESS_FLOOR",
+           "FRESH_DRAWS", "DECISIVE", "control_totals", "probabilities_from_kernels", "to_today_epoch",
+           "combined_solution"]
+
+#: below this effective sample size an outcome's probabilities come from fresh draws (common practice, no
+#: source: a few tens of effective draws keep a kernel average to ~15%)
+ESS_FLOOR = 50.0
+#: fresh draws per outcome that needs them
+FRESH_DRAWS = 200
+#: a hypothesis "settles" the birthplace when its probability reaches this (the issue's definition)
+DECISIVE = 0.9
+_CONTROL_KEYS = ("control", "control_wide", "control_valid", "control_near", "control_near_wide")
+
+
+@dataclass
+class TodayState:
+    """What the preposterior needs of today's trace.
+
+    Attributes
+    ----------
+    names : list of str
+        Associations in the trace's table order; the hypotheses are these and "field".
+    theta : ndarray, shape (n, 5)
+        Each draw's ra offset (mas, along ra cos dec), dec offset (mas), proper motion (mas/yr), true
+        parallax (mas), relative to ``solution``'s reference position.
+    kernel, kernel_near, valid : ndarray, shape (N, n)
+        Birth kernels (width 1 and of the surroundings) and usable-draw flags.
+    control : dict
+        Control-draw kernel totals, arrays (N,) under the control keys of ``SUM_KEYS``.
+    p_now : ndarray, shape (N + 1,)
+        Today's probabilities (associations, then the field).
+    predictive : ndarray, shape (n,)
+        Probabilities of picking each draw as the true state (see module docstring).
+    ref : int or None
+        Association whose kinematic age is followed (favoured, else most probable today).
+    tau_ref_myr, enc_ref : ndarray (n,)
+        Its closest-approach times and encounter flags.
+    age_width_now_yr : float or None
+        Width of its 68% kinematic-age interval today.
+    """
+
+    names: list
+    theta: np.ndarray
+    kernel: np.ndarray
+    kernel_near: np.ndarray
+    valid: np.ndarray
+    control: dict
+    field_prior: float
+    share: float
+    p_now: np.ndarray
+    p_near_now: np.ndarray
+    predictive: np.ndarray
+    ref: int | None
+    tau_ref_myr: np.ndarray
+    enc_ref: np.ndarray
+    age_width_now_yr: float | None
+    solution: AstrometricSolution
+    trace_result: object = field(repr=False, default=None)
+    scenario: object = field(repr=False, default=None)
+
+    @property
+    def n(self):
+        return self.theta.shape[0]
+
+
+def draw_parameters(draws, solution):
+    """The five astrometric parameters of every draw, in the solution's parametrisation.
+
+    Parameters
+    ----------
+    draws : StarDraws
+    solution : AstrometricSolution
+        Gives the reference position (ra, dec in deg).
+
+    Returns
+    -------
+    ndarray, shape (n, 5)
+        ra offset and dec offset (mas; ra along ra cos dec, as :func:`kinage.kinematics.draw_star` makes
+        them), pm_ra_cosdec, pm_dec (mas/yr), true parallax 1000 / distance (mas).
+    """
+    dra = (np.asarray(draws.ra_deg) - solution.ra_deg + 180.0) % 360.0 - 180.0
+    ra_off = dra * 3.6e6 * np.cos(np.radians(draws.dec_deg))
+    dec_off = (np.asarray(draws.dec_deg) - solution.dec_deg) * 3.6e6
+    return np.column_stack([ra_off, dec_off, draws.pm_ra_cosdec, draws.pm_dec, 1000.0 / draws.distance_pc])
+
+
+def _split(x):
+    """Totals as two equal jackknife groups (the group sums :func:`posterior_from_sums` reads)."""
+    x = np.asarray(x, float)
+    return np.stack([0.5 * x, 0.5 * x], axis=-1)
+
+
+def control_totals(trace_result, cfg):
+    """Kernel totals of the control draws per association: the same for every outcome.
+
+    Returns
+    -------
+    dict
+        Arrays of shape (N,) under ``control``, ``control_wide``, ``control_valid``, ``control_near``,
+        ``control_near_wide``.
+    """
+    data = trace_result.data
+    ctrl, adraws, afailed = data["control"], data["adraws"], data["association_failed"]
+    out = {k: np.zeros(adraws.n_assoc) for k in _CONTROL_KEYS}
+    for j in range(adraws.n_assoc):
+        cv = usable_draws(ctrl, adraws, afailed, j)
+        ctup = (ctrl["dmin"][j].astype(float), ctrl["tau"][j].astype(float), ctrl["edge"][j], cv)
+        empty = (np.zeros(1), np.zeros(1), np.ones(1, bool), np.zeros(1, bool))
+        sums = kernel_group_sums(empty, ctup, adraws.radius_pc[j], adraws.age_myr[j], cfg["tolerance"],
+                                 cfg["neighbourhood_scale"])
+        for k in _CONTROL_KEYS:
+            out[k][j] = float(np.sum(sums[k]))
+    return out
+
+
+def probabilities_from_kernels(state_control, field_prior, share, main, main_valid, near):
+    """Probabilities (associations, then field) and surroundings' probabilities from kernel totals.
+
+    Parameters
+    ----------
+    state_control : dict
+        From :func:`control_totals`.
+    field_prior, share : float
+        ``[trace] field_prior`` and ``neighbourhood_share``.
+    main, main_valid, near : ndarray, shape (N,)
+        Summed (weighted) birth kernels of the star draws, summed weights of usable draws, summed kernels
+        of the surroundings.
+
+    Returns
+    -------
+    (ndarray (N + 1,), ndarray (N,))
+    """
+    sums = {"main": _split(main), "main_valid": _split(main_valid), "near": _split(near)}
+    sums.update({k: _split(v) for k, v in state_control.items()})
+    res = posterior_from_sums(sums, field_prior, share)
+    return (np.append(np.asarray(res["probability"], float), float(res["field_probability"])),
+            np.asarray(res["neighbourhood_probability"], float))
+
+
+def _kernels(adraws, afailed, results, cfg, j):
+    valid = usable_draws(results, adraws, afailed, j)
+    d, t, e = results["dmin"][j].astype(float), results["tau"][j].astype(float), results["edge"][j]
+    r, a = adraws.radius_pc[j], adraws.age_myr[j]
+    k1 = birth_kernel(d, t, e, valid, r, a, cfg["tolerance"])
+    kn = birth_kernel(d, t, e, valid, r, a, cfg["tolerance"], width=neighbourhood_width(r, cfg["neighbourhood_scale"]))
+    enc = encounter_mask(d, t, e, valid, r, a, cfg["factor"], cfg["tolerance"])
+    return k1, kn, valid, t, enc
+
+
+def today_state(trace_result, solution, scenario=None):
+    """Collect today's draws, kernels and probabilities from a finished trace.
+
+    Parameters
+    ----------
+    trace_result : TraceResult
+        Made with control draws (``[trace] control_runs`` > 0).
+    solution : AstrometricSolution
+        The astrometry the trace used.
+    scenario : Scenario, optional
+        Kept for fresh draws.
+
+    Returns
+    -------
+    TodayState
+    """
+    data = trace_result.data
+    if data.get("control") is None:
+        raise InputError("[trace] control_runs", "a birthplace forecast needs probabilities, hence control draws "
+                         "(control_runs > 0)")
+    cfg, adraws, afailed, main = data["cfg"], data["adraws"], data["association_failed"], data["main"]
+    na = adraws.n_assoc
+    per = [_kernels(adraws, afailed, main, cfg, j) for j in range(na)]
+    k1 = np.array([p[0] for p in per])
+    kn = np.array([p[1] for p in per])
+    valid = np.array([p[2] for p in per], float)
+    ctrl = control_totals(trace_result, cfg)
+    p_now, pn_now = probabilities_from_kernels(ctrl, cfg["field_prior"], cfg["neighbourhood_share"],
+                                               k1.sum(1), valid.sum(1), kn.sum(1))
+    # predictive mixture over the hypotheses (module docstring)
+    nv = np.maximum(valid.sum(1), 1.0)
+    mean1, meann = k1.sum(1) / nv, kn.sum(1) / nv
+    u = np.full(k1.shape[1], p_now[-1] - pn_now.sum())
+    for j in range(na):
+        if mean1[j] > 0:
+            u += p_now[j] * k1[j] / mean1[j]
+        if meann[j] > 0:
+            u += pn_now[j] * kn[j] / meann[j]
+    u = np.clip(u, 0.0, None)
+    u /= u.sum()
+    best = trace_result.best()
+    ref = None if best is None else trace_result.data["index"][best["name"]]
+    iv = best.get("age_yr", {}) if best else {}
+    width_now = (iv["hi68"] - iv["lo68"]) if iv.get("hi68") is not None and iv.get("lo68") is not None else None
+    tau_ref = per[ref][3] if ref is not None else np.zeros(k1.shape[1])
+    enc_ref = per[ref][4] if ref is not None else np.zeros(k1.shape[1], bool)
+    return TodayState(list(adraws.names), draw_parameters(data["draws"], solution), k1, kn, valid, ctrl,
+                      cfg["field_prior"], cfg["neighbourhood_share"], p_now, pn_now, u, ref, tau_ref, enc_ref,
+                      width_now, solution, trace_result, scenario)
+
+
+@dataclass
+class OutcomeSet:
+    """Simulated outcomes of one campaign (one covariance).
+
+    Attributes
+    ----------
+    probabilities : ndarray, shape (n_outcomes, N + 1)
+        After the campaign: each association, then the field.
+    method : list of str
+        'reweight' or 'fresh' per outcome.
+    ess : ndarray
+        Effective sample size of each outcome's weights (Kish; Owen 2013, ch. 9).
+    age_width_yr : ndarray
+        68% width of the followed association's kinematic age after each outcome (NaN: no encounter).
+    truth : ndarray of int
+        Index of the draw taken as the true state.
+    measured : ndarray, shape (n_outcomes, 5)
+        Simulated measurements (NaN where the campaign does not measure the parameter).
+    covariance : ndarray (5, 5)
+        Campaign covariance in today's parametrisation.
+    """
+
+    probabilities: np.ndarray
+    method: list
+    ess: np.ndarray
+    age_width_yr: np.ndarray
+    truth: np.ndarray
+    measured: np.ndarray
+    covariance: np.ndarray
+
+
+def _whitener(cov):
+    """(measured index, whitening matrix W with W^T C W = I, square-root factor S with S S^T = C)."""
+    cov = np.asarray(cov, float)
+    m = np.flatnonzero(np.isfinite(np.diag(cov)) & (np.nan_to_num(np.diag(cov)) > 0))
+    if m.size == 0:
+        raise InputError("[campaign]", "the campaign's forecast measures none of the five astrometric parameters")
+    c = cov[np.ix_(m, m)]
+    c = 0.5 * (c + c.T)
+    lam, vec = np.linalg.eigh(c)
+    keep = lam > lam.max() * 1e-14
+    return m, vec[:, keep] / np.sqrt(lam[keep]), vec[:, keep] * np.sqrt(lam[keep])
+
+
+def _weights(theta_w, y_w):
+    """Normalised likelihood weights (rows: outcomes), from whitened draws and measurements."""
+    chi2 = (np.sum(theta_w**2, axis=1)[None, :] - 2.0 * y_w @ theta_w.T)  # |y|^2 is constant per row
+    logw = -0.5 * chi2
+    logw -= logw.max(axis=1, keepdims=True)
+    w = np.exp(logw)
+    return w / w.sum(axis=1, keepdims=True)
+
+
+def _age_width(tau_myr, w):
+    iv = weighted_interval(tau_myr * 1e6, w)
+    return np.nan if iv["hi68"] is None else iv["hi68"] - iv["lo68"]
+
+
+def simulate_outcomes(state, covariances, n_outcomes, rng, *, ess_floor=ESS_FLOOR, fresh_draws=FRESH_DRAWS,
+                      allow_fresh=True):
+    """Simulate outcomes of one or more campaigns and the probabilities each leaves.
+
+    Parameters
+    ----------
+    state : TodayState
+    covariances : list of ndarray (5, 5)
+        Campaign covariances in today's parametrisation (mas, mas/yr; see :func:`to_today_epoch`).
+    n_outcomes : int or list of int
+        Outcomes per campaign.
+    rng : numpy.random.Generator | int | None
+    ess_floor : float
+        Below this effective sample size an outcome uses fresh draws.
+    fresh_draws : int
+        Draws per such outcome.
+    allow_fresh : bool
+        False keeps every outcome on the reweighted draws (tests of the reweighting).
+
+    Returns
+    -------
+    list of OutcomeSet
+    """
+    rng = np.random.default_rng(rng)
+    if np.isscalar(n_outcomes):
+        n_outcomes = [int(n_outcomes)] * len(covariances)
+    sets, pending = [], []
+    vw = state.valid
+    for c_idx, (cov, n_out) in enumerate(zip(covariances, n_outcomes)):
+        m, wmat, smat = _whitener(cov)
+        truth = rng.choice(state.n, size=n_out, p=state.predictive)
+        theta_m = state.theta[:, m]
+        y = theta_m[truth] + rng.standard_normal((n_out, smat.shape[1])) @ smat.T
+        w = _weights(theta_m @ wmat, y @ wmat)
+        ess = 1.0 / np.sum(w**2, axis=1)
+        probs = np.full((n_out, len(state.names) + 1), np.nan)
+        widths = np.full(n_out, np.nan)
+        method = ["reweight"] * n_out
+        for o in range(n_out):
+            if allow_fresh and ess[o] < ess_floor:
+                method[o] = "fresh"
+                pending.append((c_idx, o))
+                continue
+            wo = w[o] * state.n  # weights summing to the number of draws (the trace's normalisation)
+            probs[o], _ = probabilities_from_kernels(state.control, state.field_prior, state.share,
+                                                     state.kernel @ wo, vw @ wo, state.kernel_near @ wo)
+            if state.ref is not None and state.enc_ref.any():
+                widths[o] = _age_width(state.tau_ref_myr[state.enc_ref], wo[state.enc_ref])
+        meas = np.full((n_out, 5), np.nan)
+        meas[:, m] = y
+        full = np.full((5, 5), np.nan)
+        full[np.ix_(m, m)] = np.asarray(cov, float)[np.ix_(m, m)]
+        sets.append(OutcomeSet(probs, method, ess, widths, truth, meas, full))
+    if pending:
+        _fresh_outcomes(state, sets, pending, rng, fresh_draws)
+    return sets
+
+
+def to_today_epoch(cov, epoch_campaign, epoch_today):
+    """A campaign covariance moved to today's reference epoch (positions carried back by the proper motion).
+
+    Parameters
+    ----------
+    cov : ndarray (5, 5)
+        mas, mas/yr at ``epoch_campaign``.
+    epoch_campaign, epoch_today : astropy.time.Time
+
+    Returns
+    -------
+    ndarray (5, 5)
+        J C J^T with position(today) = position(campaign) - pm (t_campaign - t_today).
+    """
+    dt = float((epoch_campaign.tdb.jd - epoch_today.tdb.jd) / 365.25)
+    jac = np.eye(5)
+    jac[0, 2] = jac[1, 3] = -dt
+    c = np.nan_to_num(np.asarray(cov, float), nan=0.0)
+    out = jac @ c @ jac.T
+    bad = ~np.isfinite(np.diag(np.asarray(cov, float)))
+    out[bad, :] = np.nan
+    out[:, bad] = np.nan
+    return out
+
+
+def combined_solution(solution, measured, cov):
+    """Today's astrometry combined with one simulated measurement (inverse-variance, full covariance).
+
+    Parameters
+    ----------
+    solution : AstrometricSolution
+    measured : ndarray (5,)
+        NaN where not measured.
+    cov : ndarray (5, 5)
+
+    Returns
+    -------
+    AstrometricSolution
+    """
+    meas = AstrometricSolution(solution.epoch, solution.ra_deg, solution.dec_deg, measured, cov, source="campaign")
+    return solution.combine(meas, source=f"{solution.source}+campaign")
+
+
+def _fresh_outcomes(state, sets, pending, rng, fresh_draws):
+    """Probabilities of the collapsed outcomes from fresh draws, integrated in one batch."""
+    tr = state.trace_result
+    data = tr.data
+    cfg, frame, adraws, afailed = data["cfg"], data["frame"], data["adraws"], data["association_failed"]
+    star = state.scenario.star
+    parts = []
+    for c_idx, o in pending:
+        s = sets[c_idx]
+        sol = combined_solution(state.solution, s.measured[o], s.covariance)
+        parts.append(draw_star(sol, fresh_draws, rng, frame=frame, velocity_prior=cfg["velocity_prior"],
+                               distance_prior=cfg["distance_prior"], distance_pc=star.value("distance", "pc"),
+                               distance_error_pc=star.value("distance_error", "pc"),
+                               radial_velocity=star.value("radial_velocity", "km/s"),
+                               radial_velocity_error=star.value("radial_velocity_error", "km/s")))
+    allp = StarDraws(*(np.concatenate([getattr(p, k) for p in parts]) for k in
+                       ("ra_deg", "dec_deg", "distance_pc", "pm_ra_cosdec", "pm_dec", "radial_velocity")),
+                     parts[0].distance_source, parts[0].rv_source)
+    run = dict(data["run"])
+    run["rows_cap"] = chunk_rows(allp.n, len(run["times"]), cfg["chunk_size"], CHUNK_BYTES, run["cores"])
+    pos, vel = allp.galactocentric(frame)
+    res = run_draws(pos, vel, assoc=data["assoc"], adraws=adraws, **run)
+    per = [_kernels(adraws, afailed, res, cfg, j) for j in range(adraws.n_assoc)]
+    k1 = np.array([p[0] for p in per])
+    kn = np.array([p[1] for p in per])
+    valid = np.array([p[2] for p in per], float)
+    for b, (c_idx, o) in enumerate(pending):
+        sl = slice(b * fresh_draws, (b + 1) * fresh_draws)
+        s = sets[c_idx]
+        s.probabilities[o], _ = probabilities_from_kernels(state.control, state.field_prior, state.share,
+                                                           k1[:, sl].sum(1), valid[:, sl].sum(1), kn[:, sl].sum(1))
+        if state.ref is not None:
+            enc = per[state.ref][4][sl]
+            if enc.any():
+                s.age_width_yr[o] = _age_width(per[state.ref][3][sl][enc], np.ones(enc.sum()))
+
