@@ -12,10 +12,14 @@ offsets in mas).  After it,
 
 the importance-sampling estimate with today's draws as proposal (Owen 2013,
 Monte Carlo theory, methods and examples, ch. 9); no orbit is integrated
-again.  The chance rates c_j do not change: the control draws turn each
-draw's direction of motion at random, so they sample the field's
-directions, not the measurement; they enter every outcome as the same
-numbers (:func:`control_totals`).
+again.  The chance rates c_j are recomputed the same way: a control draw is
+star draw (i mod n) with its direction of motion turned at random, so its
+direction does not depend on the measurement but its speed, distance and
+position do; a trace made after the campaign would turn the updated draws.
+Control draw i therefore takes star draw (i mod n)'s weight.  (Kept fixed,
+``control="fixed"``, the chance rates would make the reweighted
+probabilities a fixed Bayesian model in which conservation below is exact;
+reweighted, they follow what a new trace gives.  Both are tested.)
 
 Outcomes (preposterior analysis, Raiffa & Schlaifer 1961, Applied
 Statistical Decision Theory).  y is drawn from today's predictive
@@ -50,7 +54,7 @@ from ..errors import InputError
 from ..kinematics import StarDraws, draw_star
 from ..orbits.chunks import chunk_rows, run_draws
 from ..orbits.control import usable_draws
-from ..orbits.probability import (birth_kernel, kernel_group_sums, neighbourhood_width,
+from ..orbits.probability import (CONTROL_WIDTH, birth_kernel, kernel_group_sums, neighbourhood_width,
                                   posterior_from_sums, weighted_interval)
 from ..orbits.statistics import encounter_mask
 from ..orbits.trace import CHUNK_BYTES
@@ -84,6 +88,10 @@ class TodayState:
         Birth kernels (width 1 and of the surroundings) and usable-draw flags.
     control : dict
         Control-draw kernel totals, arrays (N,) under the control keys of ``SUM_KEYS``.
+    control_kernels : dict
+        The same per control draw, arrays (N, n_control) (float32), for reweighting.
+    control_map : ndarray of int (n_control,)
+        The star draw each control draw was turned from (i mod n).
     p_now : ndarray, shape (N + 1,)
         Today's probabilities (associations, then the field).
     predictive : ndarray, shape (n,)
@@ -102,6 +110,8 @@ class TodayState:
     kernel_near: np.ndarray
     valid: np.ndarray
     control: dict
+    control_kernels: dict
+    control_map: np.ndarray
     field_prior: float
     share: float
     p_now: np.ndarray
@@ -148,7 +158,7 @@ def _split(x):
 
 
 def control_totals(trace_result, cfg):
-    """Kernel totals of the control draws per association: the same for every outcome.
+    """Kernel totals of the control draws per association, as the trace sums them.
 
     Returns
     -------
@@ -167,6 +177,24 @@ def control_totals(trace_result, cfg):
                                  cfg["neighbourhood_scale"])
         for k in _CONTROL_KEYS:
             out[k][j] = float(np.sum(sums[k]))
+    return out
+
+
+def control_kernels(trace_result, cfg):
+    """Per-control-draw kernels (the terms of :func:`control_totals`), arrays (N, n_control), float32."""
+    data = trace_result.data
+    ctrl, adraws, afailed = data["control"], data["adraws"], data["association_failed"]
+    nc = ctrl["dmin"].shape[1]
+    out = {k: np.zeros((adraws.n_assoc, nc), np.float32) for k in _CONTROL_KEYS}
+    for j in range(adraws.n_assoc):
+        cv = usable_draws(ctrl, adraws, afailed, j)
+        d, t, e = ctrl["dmin"][j].astype(float), ctrl["tau"][j].astype(float), ctrl["edge"][j]
+        r, a = adraws.radius_pc[j], adraws.age_myr[j]
+        wn = neighbourhood_width(r, cfg["neighbourhood_scale"])
+        for key, w in (("control", 1.0), ("control_wide", CONTROL_WIDTH), ("control_near", wn),
+                       ("control_near_wide", wn * CONTROL_WIDTH)):
+            out[key][j] = birth_kernel(d, t, e, cv, r, a, cfg["tolerance"], width=w)
+        out["control_valid"][j] = cv
     return out
 
 
@@ -231,6 +259,8 @@ def today_state(trace_result, solution, scenario=None):
     kn = np.array([p[1] for p in per])
     valid = np.array([p[2] for p in per], float)
     ctrl = control_totals(trace_result, cfg)
+    ck = control_kernels(trace_result, cfg)
+    cmap = np.arange(ck["control"].shape[1]) % k1.shape[1]
     p_now, pn_now = probabilities_from_kernels(ctrl, cfg["field_prior"], cfg["neighbourhood_share"],
                                                k1.sum(1), valid.sum(1), kn.sum(1))
     # predictive mixture over the hypotheses (module docstring)
@@ -250,7 +280,7 @@ def today_state(trace_result, solution, scenario=None):
     width_now = (iv["hi68"] - iv["lo68"]) if iv.get("hi68") is not None and iv.get("lo68") is not None else None
     tau_ref = per[ref][3] if ref is not None else np.zeros(k1.shape[1])
     enc_ref = per[ref][4] if ref is not None else np.zeros(k1.shape[1], bool)
-    return TodayState(list(adraws.names), draw_parameters(data["draws"], solution), k1, kn, valid, ctrl,
+    return TodayState(list(adraws.names), draw_parameters(data["draws"], solution), k1, kn, valid, ctrl, ck, cmap,
                       cfg["field_prior"], cfg["neighbourhood_share"], p_now, pn_now, u, ref, tau_ref, enc_ref,
                       width_now, solution, trace_result, scenario)
 
@@ -313,8 +343,31 @@ def _age_width(tau_myr, w):
     return np.nan if iv["hi68"] is None else iv["hi68"] - iv["lo68"]
 
 
+def _tempered(theta_w, y_w, floor):
+    """Weights of the same measurement with its covariance inflated (x 1 .. 1e8) until the ESS reaches ``floor``.
+
+    Used for the chance rates of outcomes that take fresh draws: the chance rate depends smoothly on the
+    star's speed and distance, so weights from a slightly less precise measurement give it with a usable
+    number of control draws.
+    """
+    for scale in np.geomspace(1.0, 1e8, 33):
+        w = _weights(theta_w / np.sqrt(scale), y_w / np.sqrt(scale))[0]
+        if 1.0 / np.sum(w**2) >= floor:
+            return w
+    return np.full(theta_w.shape[0], 1.0 / theta_w.shape[0])
+
+
+def _control_sums(state, w, control):
+    """Control totals for star-draw weights ``w`` (normalised to sum 1): fixed, or each control draw weighted
+    by the weight of the star draw it was turned from."""
+    if control == "fixed":
+        return state.control
+    wc = (w * state.n)[state.control_map]
+    return {k: v @ wc for k, v in state.control_kernels.items()}
+
+
 def simulate_outcomes(state, covariances, n_outcomes, rng, *, ess_floor=ESS_FLOOR, fresh_draws=FRESH_DRAWS,
-                      allow_fresh=True):
+                      allow_fresh=True, control="reweight"):
     """Simulate outcomes of one or more campaigns and the probabilities each leaves.
 
     Parameters
@@ -331,11 +384,15 @@ def simulate_outcomes(state, covariances, n_outcomes, rng, *, ess_floor=ESS_FLOO
         Draws per such outcome.
     allow_fresh : bool
         False keeps every outcome on the reweighted draws (tests of the reweighting).
+    control : {'reweight', 'fixed'}
+        Chance rates from the reweighted control draws (what a new trace gives), or today's unchanged.
 
     Returns
     -------
     list of OutcomeSet
     """
+    if control not in ("reweight", "fixed"):
+        raise InputError("control", f"expected 'reweight' or 'fixed' (got {control!r})")
     rng = np.random.default_rng(rng)
     if np.isscalar(n_outcomes):
         n_outcomes = [int(n_outcomes)] * len(covariances)
@@ -346,7 +403,8 @@ def simulate_outcomes(state, covariances, n_outcomes, rng, *, ess_floor=ESS_FLOO
         truth = rng.choice(state.n, size=n_out, p=state.predictive)
         theta_m = state.theta[:, m]
         y = theta_m[truth] + rng.standard_normal((n_out, smat.shape[1])) @ smat.T
-        w = _weights(theta_m @ wmat, y @ wmat)
+        theta_w, y_w = theta_m @ wmat, y @ wmat
+        w = _weights(theta_w, y_w)
         ess = 1.0 / np.sum(w**2, axis=1)
         probs = np.full((n_out, len(state.names) + 1), np.nan)
         widths = np.full(n_out, np.nan)
@@ -354,11 +412,13 @@ def simulate_outcomes(state, covariances, n_outcomes, rng, *, ess_floor=ESS_FLOO
         for o in range(n_out):
             if allow_fresh and ess[o] < ess_floor:
                 method[o] = "fresh"
-                pending.append((c_idx, o))
+                wt = w[o] if control == "fixed" else _tempered(theta_w, y_w[o:o + 1], ess_floor)
+                pending.append((c_idx, o, _control_sums(state, wt, control)))
                 continue
             wo = w[o] * state.n  # weights summing to the number of draws (the trace's normalisation)
-            probs[o], _ = probabilities_from_kernels(state.control, state.field_prior, state.share,
-                                                     state.kernel @ wo, vw @ wo, state.kernel_near @ wo)
+            probs[o], _ = probabilities_from_kernels(_control_sums(state, w[o], control), state.field_prior,
+                                                     state.share, state.kernel @ wo, vw @ wo,
+                                                     state.kernel_near @ wo)
             if state.ref is not None and state.enc_ref.any():
                 widths[o] = _age_width(state.tau_ref_myr[state.enc_ref], wo[state.enc_ref])
         meas = np.full((n_out, 5), np.nan)
@@ -421,7 +481,7 @@ def _fresh_outcomes(state, sets, pending, rng, fresh_draws):
     cfg, frame, adraws, afailed = data["cfg"], data["frame"], data["adraws"], data["association_failed"]
     star = state.scenario.star
     parts = []
-    for c_idx, o in pending:
+    for c_idx, o, _ in pending:
         s = sets[c_idx]
         sol = combined_solution(state.solution, s.measured[o], s.covariance)
         parts.append(draw_star(sol, fresh_draws, rng, frame=frame, velocity_prior=cfg["velocity_prior"],
@@ -440,10 +500,10 @@ def _fresh_outcomes(state, sets, pending, rng, fresh_draws):
     k1 = np.array([p[0] for p in per])
     kn = np.array([p[1] for p in per])
     valid = np.array([p[2] for p in per], float)
-    for b, (c_idx, o) in enumerate(pending):
+    for b, (c_idx, o, ctrl_sums) in enumerate(pending):
         sl = slice(b * fresh_draws, (b + 1) * fresh_draws)
         s = sets[c_idx]
-        s.probabilities[o], _ = probabilities_from_kernels(state.control, state.field_prior, state.share,
+        s.probabilities[o], _ = probabilities_from_kernels(ctrl_sums, state.field_prior, state.share,
                                                            k1[:, sl].sum(1), valid[:, sl].sum(1), kn[:, sl].sum(1))
         if state.ref is not None:
             enc = per[state.ref][4][sl]
