@@ -358,21 +358,15 @@ def forecast(scenario, *, progress=False, birthplace=False, outcomes=None, rng=N
     scn = as_scenario(scenario)
     if not birthplace:
         return _stage(_forecast, ForecastWarning, scn, progress=progress, **kwargs)
-    from .campaign import birthplace_forecast, check_birthplace_inputs, check_outcomes
+    from .campaign import check_birthplace_inputs, check_outcomes, forecast_with_birthplace
 
     check_birthplace_inputs(scn, where="birthplace=True")
     if outcomes is not None:
         check_outcomes(outcomes, "outcomes")
     if rng is not None:
         _check_rng(rng)
-
-    def both(s):
-        res = _forecast(s, progress=progress, **kwargs)
-        res.birthplace = birthplace_forecast(s, res, outcomes=outcomes, rng=rng, progress=progress,
-                                             schedules=True)
-        return res
-
-    return _stage(both, ForecastWarning, scn)
+    return _stage(forecast_with_birthplace, ForecastWarning, scn, outcomes=outcomes, rng=rng, progress=progress,
+                  **kwargs)
 
 
 def simulate(scenario, *, rng=None, **kwargs):

@@ -69,17 +69,17 @@ def cmd_forecast(args):
     elif getattr(args, "outcomes", None) is not None or getattr(args, "samples", None) is not None:
         raise InputError("--outcomes" if getattr(args, "outcomes", None) is not None else "--samples",
                          "only used with --birthplace")
-    result = forecast(scenario, progress=_progress(args))
+    if birthplace:
+        from .campaign import forecast_with_birthplace
+
+        result = forecast_with_birthplace(scenario, outcomes=getattr(args, "outcomes", None), rng=seed,
+                                          samples=getattr(args, "samples", None), progress=_progress(args),
+                                          schedules=getattr(args, "compare_schedules", False))
+    else:
+        result = forecast(scenario, progress=_progress(args))
     if getattr(args, "compare_schedules", False) and result.schedules is None:
         raise InputError("--compare-schedules", "needs a plan from [campaign] start, baseline and visits_per_year "
                          "(this one has explicit dates or a TOA table)")
-    if birthplace:
-        from .campaign import birthplace_forecast
-
-        result.birthplace = birthplace_forecast(scenario, result, outcomes=getattr(args, "outcomes", None),
-                                                rng=seed, samples=getattr(args, "samples", None),
-                                                progress=_progress(args),
-                                                schedules=getattr(args, "compare_schedules", False))
     status = _finish(args, result, scenario, "forecast", seed=seed)
     if getattr(args, "compare_schedules", False):
         print(_schedule_table(result))

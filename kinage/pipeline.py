@@ -105,6 +105,9 @@ def preflight(scenario, samples=None):
         from .campaign import check_birthplace_inputs
 
         check_birthplace_inputs(scenario, where="[campaign] birthplace_forecast")
+    elif c is not None and str(c.get("schedule") or "").lower() == "birthplace":
+        raise InputError("[campaign] schedule", "'birthplace' is chosen by the birthplace forecast: set [campaign] "
+                         "birthplace_forecast = true")
     if "trace" in stages:
         from .associations import read_associations
 
@@ -214,14 +217,12 @@ def run_stage(name, scenario, done, *, seed, samples=None, progress=False, input
     if name == "forecast":
         from .timing import forecast
 
-        result = forecast(scenario, progress=progress)
         if scenario.campaign.get("birthplace_forecast"):
-            from .campaign import birthplace_forecast
+            from .campaign import forecast_with_birthplace
 
-            result.birthplace = birthplace_forecast(scenario, result, rng=stage_seed(seed, "trace"),
-                                                    samples=samples, progress=progress,
-                                                    associations=inputs.get("associations"), schedules=True)
-        return result
+            return forecast_with_birthplace(scenario, rng=stage_seed(seed, "trace"), samples=samples,
+                                            progress=progress, associations=inputs.get("associations"))
+        return forecast(scenario, progress=progress)
     if name == "fit":
         from .timing import fit_toas
 

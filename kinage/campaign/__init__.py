@@ -4,7 +4,7 @@ Above timing (the forecast's covariance) and orbits (the trace's draws and kerne
 (``kinage forecast --birthplace``, ``kinage.forecast(..., birthplace=True)``, ``[campaign] birthplace_forecast``).
 """
 
-from .birthplace import birthplace_forecast, check_birthplace_inputs, check_outcomes
+from .birthplace import birthplace_forecast, check_birthplace_inputs, check_outcomes, forecast_with_birthplace
 from .result import BirthplaceForecast
 
-__all__ = ["birthplace_forecast", "check_birthplace_inputs", "check_outcomes", "BirthplaceForecast"]
+__all__ = ["birthplace_forecast", "forecast_with_birthplace", "check_birthplace_inputs", "check_outcomes", "BirthplaceForecast"]

@@ -13,7 +13,7 @@ from .preposterior import DECISIVE, simulate_outcomes, to_today_epoch, today_sta
 from .result import BirthplaceForecast
 from .sweep import dates_covariance, information_bits, length_covariances, sweep_lengths
 
-__all__ = ["birthplace_forecast", "check_birthplace_inputs", "check_outcomes", "OUTCOMES_RANGE",
+__all__ = ["birthplace_forecast", "forecast_with_birthplace", "check_birthplace_inputs", "check_outcomes", "OUTCOMES_RANGE",
            "SWEEP_OUTCOMES"]
 
 #: allowed ``[campaign] outcomes``
@@ -133,3 +133,56 @@ def birthplace_forecast(scenario, forecast_result, *, outcomes=None, rng=None, s
     return BirthplaceForecast(state.names, state.p_now, main, sweep_rows, state.age_width_now_yr, ref,
                               float(forecast_result.plan.span_yr), sched,
                               information_bits(state.p_now, main.probabilities), notes, trace_result)
+
+
+def forecast_with_birthplace(scenario, *, outcomes=None, rng=None, samples=None, progress=False, associations=None,
+                             schedules=True, **kwargs):
+    """The timing forecast with its birthplace forecast attached (``result.birthplace``).
+
+    With ``[campaign] schedule = "birthplace"`` the 'even', 'parallax' and 'motion' schedules (same visits)
+    are compared by their expected information about the birthplace (Lindley 1956: expected reduction of the
+    entropy of the hypothesis probabilities) and the forecast is made with the best.
+
+    Parameters
+    ----------
+    scenario : Scenario
+    outcomes, rng, samples, progress, associations :
+        As for :func:`birthplace_forecast`.
+    schedules : bool
+        Also compare the schedules' decisive probability and information.
+    **kwargs
+        Passed to :func:`kinage.timing.forecast` (e.g. ``method``).
+
+    Returns
+    -------
+    ForecastResult
+    """
+    from ..timing import forecast
+
+    check_birthplace_inputs(scenario)
+    if outcomes is not None:
+        check_outcomes(outcomes, "outcomes")
+    c = scenario.campaign
+    choose = str(c.get("schedule") or "even").strip().lower() == "birthplace"
+    kw = dict(outcomes=outcomes, rng=rng, samples=samples, progress=progress, associations=associations)
+    if not choose:
+        res = forecast(scenario, progress=progress, **kwargs)
+        res.birthplace = birthplace_forecast(scenario, res, schedules=schedules, **kw)
+        return res
+    if c.get("dates") is not None or c.get("toas") is not None and c.get("start") is None:
+        raise InputError("[campaign] schedule", "'birthplace' places the visits itself: it needs start, baseline "
+                         "and visits_per_year, not explicit dates or a TOA table")
+    even = scenario.replace(campaign=c.replace(schedule="even"))
+    res = forecast(even, progress=progress, **kwargs)
+    first = birthplace_forecast(even, res, schedules=True, sweep=False, **kw)
+    info = {k: v["information_bits"] for k, v in first.schedules.items()}
+    best = max(info, key=lambda k: (info[k], k == "even"))
+    chosen = scenario.replace(campaign=c.replace(schedule=best))
+    if best != "even":
+        res = forecast(chosen, progress=progress, **kwargs)
+    res.birthplace = birthplace_forecast(chosen, res, trace_result=first.trace_result, schedules=schedules, **kw)
+    res.birthplace.chosen_schedule = best
+    res.birthplace.notes.append(
+        f"schedule 'birthplace' chose '{best}': expected information about the birthplace "
+        + ", ".join(f"{k} {v:.2f} bits" for k, v in info.items()))
+    return res

@@ -63,6 +63,7 @@ class BirthplaceForecast:
     information_bits: float = float("nan")
     notes: list = field(default_factory=list)
     trace_result: object = field(default=None, repr=False)
+    chosen_schedule: str | None = None
 
     @property
     def n_outcomes(self):
@@ -97,6 +98,7 @@ class BirthplaceForecast:
             "baseline_yr": self.baseline_yr,
             "sweep": list(self.sweep),
             "schedules": dict(self.schedules),
+            "chosen_schedule": self.chosen_schedule,
             "notes": list(self.notes),
         }
 

@@ -99,9 +99,11 @@ _CAMPAIGN = [
     Key("baseline", "quantity", "yr", positive=True, doc="time from the first to the last visit"),
     Key("visits_per_year", "float", positive=True, doc="visits per year, evenly spaced"),
     Key("dates", "times", doc="explicit visit dates instead of start/baseline/visits_per_year"),
-    Key("schedule", "str", default="even", choices=("even", "parallax", "motion"),
+    Key("schedule", "str", default="even", choices=("even", "parallax", "motion", "birthplace"),
         doc="where the visits go: 'even' (regular cadence), 'parallax' (minimum parallax error) or 'motion' "
-            "(minimum proper-motion error along the expected motion); same visits per year, Sun-allowed days only"),
+            "(minimum proper-motion error along the expected motion); same visits per year, Sun-allowed days only; "
+            "'birthplace' picks among these the one with the most expected information about the birthplace "
+            "(with the birthplace forecast)"),
     Key("exposure", "quantity", "s", positive=True, doc="exposure per visit ('20 ks' works)"),
     Key("sun_avoidance", "quantity", "deg", default=45.0, nonnegative=True, upper=180, doc="no visit while the source is closer than this to the Sun"),
     Key("source_rate", "quantity", "1/s", positive=True, doc="source count rate (counts/s)"),

@@ -42,7 +42,10 @@ def association_table(radius_pc=6.0, age_myr=4.0):
 
 
 def raw_scenario(tmp_path, toa_error="200 us", samples=600, outcomes=200, **trace):
-    """Scenario tables (a dict for kinage.scenario_from_dict); the association table is written to tmp_path."""
+    """Scenario tables (a dict for kinage.scenario_from_dict); the association table is written to tmp_path.
+
+    ``trace`` overrides ``[trace]`` keys (e.g. potential, time_steps).
+    """
     path = tmp_path / "invented_associations.ecsv"
     association_table().write(path, format="ascii.ecsv", overwrite=True)
     tr = {"associations": str(path), "samples": samples, "association_samples": 20, "max_age": "3 Myr",

@@ -109,3 +109,24 @@ def test_run_with_birthplace_forecast_key(tmp_path):
     assert d["trace"]["field_probability"] == pytest.approx(d["forecast"]["birthplace"]["hypotheses"][-1]
                                                             ["probability_now"])
     assert (tmp_path / "run" / "forecast" / "forecast_birthplace.png").exists()
+
+
+def test_schedule_birthplace_picks_the_most_informative(tmp_path, capsys):
+    # [campaign] schedule = "birthplace": the schedule with the largest expected information about the
+    # birthplace (Lindley 1956: expected entropy reduction) among the same visits placed 'even', 'parallax'
+    # and 'motion'; the forecast is then made with it
+    path = write_scenario(tmp_path, toa_error="10 us", samples=300, outcomes=20)
+    text = path.read_text().replace("[campaign]\n", '[campaign]\nschedule = "birthplace"\n')
+    path.write_text(text)
+    assert main(["forecast", str(path), "--birthplace", "--compare-schedules", "--quiet", "--json",
+                 str(tmp_path / "f.json")]) == 0
+    table = capsys.readouterr().out
+    assert "expected information (bits)" in table
+    d = json.loads((tmp_path / "f.json").read_text())
+    chosen = d["birthplace"]["chosen_schedule"]
+    assert chosen in ("even", "parallax", "motion") and d["schedule"] == chosen
+    assert any(chosen in note and "bits" in note for note in d["birthplace"]["notes"])
+    # without the birthplace forecast the schedule cannot be chosen: one line naming the key
+    assert main(["forecast", str(path), "--json", str(tmp_path / "g.json")]) == 2
+    err = capsys.readouterr().err.strip().splitlines()
+    assert len(err) == 1 and "[campaign] schedule" in err[0] and not (tmp_path / "g.json").exists()
