@@ -9,7 +9,7 @@ import numpy as np
 
 from ..astrometry import AstrometricSolution
 from ..errors import InputError
-from .preposterior import DECISIVE, simulate_outcomes, to_today_epoch, today_state
+from .preposterior import DECISIVE, FRESH_DRAWS, simulate_outcomes, to_today_epoch, today_state
 from .result import BirthplaceForecast
 from .sweep import dates_covariance, information_bits, length_covariances, sweep_lengths
 
@@ -91,44 +91,45 @@ def birthplace_forecast(scenario, forecast_result, *, outcomes=None, rng=None, s
     state = today_state(trace_result, today, scenario)
     fsol = forecast_result.solution
     covs = [to_today_epoch(fsol.covariance, fsol.epoch, today.epoch)]
-    counts = [n_out]
     n_side = min(n_out, SWEEP_OUTCOMES)
-    lengths = []
+    own = float(forecast_result.plan.span_yr)
+    jobs = []  # (kind, key, covariance | "main" | None): the scenario's own length and schedule reuse the main set
     if sweep:
-        lengths = sweep_lengths(forecast_result.max_baseline_yr, forecast_result.plan.span_yr)
+        lengths = sweep_lengths(forecast_result.max_baseline_yr, own)
         for length, (cov, epoch) in zip(lengths, length_covariances(scenario, forecast_result, lengths)):
-            if cov is not None:
-                covs.append(to_today_epoch(cov, epoch, today.epoch))
-                counts.append(n_side)
-            else:
-                covs.append(None)
-    sched_names = []
+            same = abs(length - own) < 0.01 and forecast_result.plan.schedule == "even"
+            jobs.append(("length", float(length), "main" if same else
+                         None if cov is None else to_today_epoch(cov, epoch, today.epoch)))
     if schedules and forecast_result.schedules:
         for name, row in forecast_result.schedules.items():
-            if "mjd" in row:
-                cov, epoch = dates_covariance(scenario, forecast_result, row["mjd"])
-                covs.append(to_today_epoch(cov, epoch, today.epoch))
-                counts.append(n_side)
-                sched_names.append(name)
-    use = [c for c in covs if c is not None]
-    sets = simulate_outcomes(state, use, counts, gen)
-    it = iter(sets)
-    main = next(it)
-    per_cov = [next(it) if c is not None else None for c in covs[1:]]
-    sweep_rows = []
-    for length, s in zip(lengths, per_cov[:len(lengths)]):
-        sweep_rows.append({"length_yr": float(length),
-                           "decisive_probability": None if s is None else float(np.mean(s.probabilities.max(1) >= DECISIVE)),
-                           "n_outcomes": 0 if s is None else int(s.probabilities.shape[0]),
-                           "information_bits": None if s is None else information_bits(state.p_now, s.probabilities)})
-    sched = {}
-    for name, s in zip(sched_names, per_cov[len(lengths):]):
-        sched[name] = {"decisive_probability": float(np.mean(s.probabilities.max(1) >= DECISIVE)),
-                       "information_bits": information_bits(state.p_now, s.probabilities),
-                       "n_outcomes": int(s.probabilities.shape[0])}
+            if "mjd" not in row:
+                continue
+            if name == forecast_result.plan.schedule:
+                jobs.append(("schedule", name, "main"))
+                continue
+            cov, epoch = dates_covariance(scenario, forecast_result, row["mjd"])
+            jobs.append(("schedule", name, to_today_epoch(cov, epoch, today.epoch)))
+    side = [j for j in jobs if isinstance(j[2], np.ndarray)]
+    # the main campaign: FRESH_DRAWS per collapsed outcome; lengths and schedules, which give one number each
+    # (a share of outcomes), half as many
+    sets = simulate_outcomes(state, covs + [j[2] for j in side], [n_out] + [n_side] * len(side), gen,
+                             fresh_draws=[FRESH_DRAWS] + [FRESH_DRAWS // 2] * len(side))
+    main = sets[0]
+    found = {id(j): s for j, s in zip(side, sets[1:])}
+
+    def numbers(job):
+        s = main if isinstance(job[2], str) else found.get(id(job))
+        if s is None:
+            return {"decisive_probability": None, "information_bits": None, "n_outcomes": 0}
+        return {"decisive_probability": float(np.mean(s.probabilities.max(1) >= DECISIVE)),
+                "information_bits": information_bits(state.p_now, s.probabilities),
+                "n_outcomes": int(s.probabilities.shape[0])}
+
+    sweep_rows = [{"length_yr": j[1], **numbers(j)} for j in jobs if j[0] == "length"]
+    sched = {j[1]: numbers(j) for j in jobs if j[0] == "schedule"}
     ref = state.names[state.ref] if state.ref is not None else None
-    notes = ["chance rates (control draws with random directions of motion) do not depend on the measurement and "
-             "are kept fixed for every outcome",
+    notes = ["chance rates recomputed for every outcome from the control draws, each weighted like the star draw "
+             "it was turned from (its direction is random, its speed and distance follow the measurement)",
              f"campaign lengths and schedules: {n_side} outcomes each, same cadence and TOA errors"]
     return BirthplaceForecast(state.names, state.p_now, main, sweep_rows, state.age_width_now_yr, ref,
                               float(forecast_result.plan.span_yr), sched,

@@ -380,8 +380,8 @@ def simulate_outcomes(state, covariances, n_outcomes, rng, *, ess_floor=ESS_FLOO
     rng : numpy.random.Generator | int | None
     ess_floor : float
         Below this effective sample size an outcome uses fresh draws.
-    fresh_draws : int
-        Draws per such outcome.
+    fresh_draws : int or list of int
+        Draws per such outcome (one number per campaign, or the same for all).
     allow_fresh : bool
         False keeps every outcome on the reweighted draws (tests of the reweighting).
     control : {'reweight', 'fixed'}
@@ -396,6 +396,8 @@ def simulate_outcomes(state, covariances, n_outcomes, rng, *, ess_floor=ESS_FLOO
     rng = np.random.default_rng(rng)
     if np.isscalar(n_outcomes):
         n_outcomes = [int(n_outcomes)] * len(covariances)
+    if np.isscalar(fresh_draws):
+        fresh_draws = [int(fresh_draws)] * len(covariances)
     sets, pending = [], []
     vw = state.valid
     for c_idx, (cov, n_out) in enumerate(zip(covariances, n_outcomes)):
@@ -413,7 +415,7 @@ def simulate_outcomes(state, covariances, n_outcomes, rng, *, ess_floor=ESS_FLOO
             if allow_fresh and ess[o] < ess_floor:
                 method[o] = "fresh"
                 wt = w[o] if control == "fixed" else _tempered(theta_w, y_w[o:o + 1], ess_floor)
-                pending.append((c_idx, o, _control_sums(state, wt, control)))
+                pending.append((c_idx, o, _control_sums(state, wt, control), int(fresh_draws[c_idx])))
                 continue
             wo = w[o] * state.n  # weights summing to the number of draws (the trace's normalisation)
             probs[o], _ = probabilities_from_kernels(_control_sums(state, w[o], control), state.field_prior,
@@ -427,7 +429,7 @@ def simulate_outcomes(state, covariances, n_outcomes, rng, *, ess_floor=ESS_FLOO
         full[np.ix_(m, m)] = np.asarray(cov, float)[np.ix_(m, m)]
         sets.append(OutcomeSet(probs, method, ess, widths, truth, meas, full))
     if pending:
-        _fresh_outcomes(state, sets, pending, rng, fresh_draws)
+        _fresh_outcomes(state, sets, pending, rng)
     return sets
 
 
@@ -474,17 +476,17 @@ def combined_solution(solution, measured, cov):
     return solution.combine(meas, source=f"{solution.source}+campaign")
 
 
-def _fresh_outcomes(state, sets, pending, rng, fresh_draws):
+def _fresh_outcomes(state, sets, pending, rng):
     """Probabilities of the collapsed outcomes from fresh draws, integrated in one batch."""
     tr = state.trace_result
     data = tr.data
     cfg, frame, adraws, afailed = data["cfg"], data["frame"], data["adraws"], data["association_failed"]
     star = state.scenario.star
     parts = []
-    for c_idx, o, _ in pending:
+    for c_idx, o, _, nf in pending:
         s = sets[c_idx]
         sol = combined_solution(state.solution, s.measured[o], s.covariance)
-        parts.append(draw_star(sol, fresh_draws, rng, frame=frame, velocity_prior=cfg["velocity_prior"],
+        parts.append(draw_star(sol, nf, rng, frame=frame, velocity_prior=cfg["velocity_prior"],
                                distance_prior=cfg["distance_prior"], distance_pc=star.value("distance", "pc"),
                                distance_error_pc=star.value("distance_error", "pc"),
                                radial_velocity=star.value("radial_velocity", "km/s"),
@@ -500,8 +502,9 @@ def _fresh_outcomes(state, sets, pending, rng, fresh_draws):
     k1 = np.array([p[0] for p in per])
     kn = np.array([p[1] for p in per])
     valid = np.array([p[2] for p in per], float)
-    for b, (c_idx, o, ctrl_sums) in enumerate(pending):
-        sl = slice(b * fresh_draws, (b + 1) * fresh_draws)
+    ends = np.cumsum([p[3] for p in pending])
+    for b, (c_idx, o, ctrl_sums, nf) in enumerate(pending):
+        sl = slice(int(ends[b] - nf), int(ends[b]))
         s = sets[c_idx]
         s.probabilities[o], _ = probabilities_from_kernels(ctrl_sums, state.field_prior, state.share,
                                                            k1[:, sl].sum(1), valid[:, sl].sum(1), kn[:, sl].sum(1))
