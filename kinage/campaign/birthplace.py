@@ -41,6 +41,9 @@ def check_birthplace_inputs(scenario, where="--birthplace"):
         raise InputError("[campaign]", f"{where} needs a [campaign] table (the planned timing campaign)")
     if scenario.trace is None or scenario.trace.get("associations") is None:
         raise InputError("[trace] associations", f"{where} needs candidate associations ([trace] associations)")
+    if scenario.trace.get("control_runs") is not None and int(scenario.trace.get("control_runs")) < 1:
+        raise InputError("[trace] control_runs", f"{where} needs the birth probabilities, hence control draws "
+                         "(control_runs >= 1)")
     return check_outcomes(scenario.campaign.get("outcomes", 200))
 
 
