@@ -51,17 +51,10 @@ import numpy as np
 
 from ..astrometry import AstrometricSolution
 from ..errors import InputError
-from ..kinematics import StarDraws, draw_star
-from ..orbits.chunks import chunk_rows, run_draws
-from ..orbits.control import usable_draws
-from ..orbits.probability import (CONTROL_WIDTH, birth_kernel, kernel_group_sums, neighbourhood_width,
-                                  posterior_from_sums, weighted_interval)
-from ..orbits.statistics import encounter_mask
-from ..orbits.trace import CHUNK_BYTES
+from .kernels import (age_width, association_kernels, control_kernels, control_totals, draw_parameters,
+                      probabilities_from_kernels)
 
-__all__ = ["TodayState", "OutcomeSet", "today_state", "draw_parameters", "simulate_outcomes", "ESS_FLOOR",
-           "FRESH_DRAWS", "DECISIVE", "control_totals", "probabilities_from_kernels", "to_today_epoch",
-           "combined_solution"]
+__all__ = ["TodayState", "OutcomeSet", "today_state", "simulate_outcomes", "ESS_FLOOR", "FRESH_DRAWS", "DECISIVE"]
 
 #: below this effective sample size an outcome's probabilities come from fresh draws (common practice, no
 #: source: a few tens of effective draws keep a kernel average to ~15%)
@@ -70,7 +63,6 @@ ESS_FLOOR = 50.0
 FRESH_DRAWS = 200
 #: a hypothesis "settles" the birthplace when its probability reaches this (the issue's definition)
 DECISIVE = 0.9
-_CONTROL_KEYS = ("control", "control_wide", "control_valid", "control_near", "control_near_wide")
 
 
 @dataclass
@@ -130,108 +122,6 @@ class TodayState:
         return self.theta.shape[0]
 
 
-def draw_parameters(draws, solution):
-    """The five astrometric parameters of every draw, in the solution's parametrisation.
-
-    Parameters
-    ----------
-    draws : StarDraws
-    solution : AstrometricSolution
-        Gives the reference position (ra, dec in deg).
-
-    Returns
-    -------
-    ndarray, shape (n, 5)
-        ra offset and dec offset (mas; ra along ra cos dec, as :func:`kinage.kinematics.draw_star` makes
-        them), pm_ra_cosdec, pm_dec (mas/yr), true parallax 1000 / distance (mas).
-    """
-    dra = (np.asarray(draws.ra_deg) - solution.ra_deg + 180.0) % 360.0 - 180.0
-    ra_off = dra * 3.6e6 * np.cos(np.radians(draws.dec_deg))
-    dec_off = (np.asarray(draws.dec_deg) - solution.dec_deg) * 3.6e6
-    return np.column_stack([ra_off, dec_off, draws.pm_ra_cosdec, draws.pm_dec, 1000.0 / draws.distance_pc])
-
-
-def _split(x):
-    """Totals as two equal jackknife groups (the group sums :func:`posterior_from_sums` reads)."""
-    x = np.asarray(x, float)
-    return np.stack([0.5 * x, 0.5 * x], axis=-1)
-
-
-def control_totals(trace_result, cfg):
-    """Kernel totals of the control draws per association, as the trace sums them.
-
-    Returns
-    -------
-    dict
-        Arrays of shape (N,) under ``control``, ``control_wide``, ``control_valid``, ``control_near``,
-        ``control_near_wide``.
-    """
-    data = trace_result.data
-    ctrl, adraws, afailed = data["control"], data["adraws"], data["association_failed"]
-    out = {k: np.zeros(adraws.n_assoc) for k in _CONTROL_KEYS}
-    for j in range(adraws.n_assoc):
-        cv = usable_draws(ctrl, adraws, afailed, j)
-        ctup = (ctrl["dmin"][j].astype(float), ctrl["tau"][j].astype(float), ctrl["edge"][j], cv)
-        empty = (np.zeros(1), np.zeros(1), np.ones(1, bool), np.zeros(1, bool))
-        sums = kernel_group_sums(empty, ctup, adraws.radius_pc[j], adraws.age_myr[j], cfg["tolerance"],
-                                 cfg["neighbourhood_scale"])
-        for k in _CONTROL_KEYS:
-            out[k][j] = float(np.sum(sums[k]))
-    return out
-
-
-def control_kernels(trace_result, cfg):
-    """Per-control-draw kernels (the terms of :func:`control_totals`), arrays (N, n_control), float32."""
-    data = trace_result.data
-    ctrl, adraws, afailed = data["control"], data["adraws"], data["association_failed"]
-    nc = ctrl["dmin"].shape[1]
-    out = {k: np.zeros((adraws.n_assoc, nc), np.float32) for k in _CONTROL_KEYS}
-    for j in range(adraws.n_assoc):
-        cv = usable_draws(ctrl, adraws, afailed, j)
-        d, t, e = ctrl["dmin"][j].astype(float), ctrl["tau"][j].astype(float), ctrl["edge"][j]
-        r, a = adraws.radius_pc[j], adraws.age_myr[j]
-        wn = neighbourhood_width(r, cfg["neighbourhood_scale"])
-        for key, w in (("control", 1.0), ("control_wide", CONTROL_WIDTH), ("control_near", wn),
-                       ("control_near_wide", wn * CONTROL_WIDTH)):
-            out[key][j] = birth_kernel(d, t, e, cv, r, a, cfg["tolerance"], width=w)
-        out["control_valid"][j] = cv
-    return out
-
-
-def probabilities_from_kernels(state_control, field_prior, share, main, main_valid, near):
-    """Probabilities (associations, then field) and surroundings' probabilities from kernel totals.
-
-    Parameters
-    ----------
-    state_control : dict
-        From :func:`control_totals`.
-    field_prior, share : float
-        ``[trace] field_prior`` and ``neighbourhood_share``.
-    main, main_valid, near : ndarray, shape (N,)
-        Summed (weighted) birth kernels of the star draws, summed weights of usable draws, summed kernels
-        of the surroundings.
-
-    Returns
-    -------
-    (ndarray (N + 1,), ndarray (N,))
-    """
-    sums = {"main": _split(main), "main_valid": _split(main_valid), "near": _split(near)}
-    sums.update({k: _split(v) for k, v in state_control.items()})
-    res = posterior_from_sums(sums, field_prior, share)
-    return (np.append(np.asarray(res["probability"], float), float(res["field_probability"])),
-            np.asarray(res["neighbourhood_probability"], float))
-
-
-def _kernels(adraws, afailed, results, cfg, j):
-    valid = usable_draws(results, adraws, afailed, j)
-    d, t, e = results["dmin"][j].astype(float), results["tau"][j].astype(float), results["edge"][j]
-    r, a = adraws.radius_pc[j], adraws.age_myr[j]
-    k1 = birth_kernel(d, t, e, valid, r, a, cfg["tolerance"])
-    kn = birth_kernel(d, t, e, valid, r, a, cfg["tolerance"], width=neighbourhood_width(r, cfg["neighbourhood_scale"]))
-    enc = encounter_mask(d, t, e, valid, r, a, cfg["factor"], cfg["tolerance"])
-    return k1, kn, valid, t, enc
-
-
 def today_state(trace_result, solution, scenario=None):
     """Collect today's draws, kernels and probabilities from a finished trace.
 
@@ -254,7 +144,7 @@ def today_state(trace_result, solution, scenario=None):
                          "(control_runs > 0)")
     cfg, adraws, afailed, main = data["cfg"], data["adraws"], data["association_failed"], data["main"]
     na = adraws.n_assoc
-    per = [_kernels(adraws, afailed, main, cfg, j) for j in range(na)]
+    per = [association_kernels(adraws, afailed, main, cfg, j) for j in range(na)]
     k1 = np.array([p[0] for p in per])
     kn = np.array([p[1] for p in per])
     valid = np.array([p[2] for p in per], float)
@@ -338,11 +228,6 @@ def _weights(theta_w, y_w):
     return w / w.sum(axis=1, keepdims=True)
 
 
-def _age_width(tau_myr, w):
-    iv = weighted_interval(tau_myr * 1e6, w)
-    return np.nan if iv["hi68"] is None else iv["hi68"] - iv["lo68"]
-
-
 def _tempered(theta_w, y_w, floor):
     """Weights of the same measurement with its covariance inflated (x 1 .. 1e8) until the ESS reaches ``floor``.
 
@@ -374,7 +259,8 @@ def simulate_outcomes(state, covariances, n_outcomes, rng, *, ess_floor=ESS_FLOO
     ----------
     state : TodayState
     covariances : list of ndarray (5, 5)
-        Campaign covariances in today's parametrisation (mas, mas/yr; see :func:`to_today_epoch`).
+        Campaign covariances in today's parametrisation (mas, mas/yr; see
+        :func:`kinage.campaign.sweep.to_today_epoch`).
     n_outcomes : int or list of int
         Outcomes per campaign.
     rng : numpy.random.Generator | int | None
@@ -422,94 +308,14 @@ def simulate_outcomes(state, covariances, n_outcomes, rng, *, ess_floor=ESS_FLOO
                                                      state.share, state.kernel @ wo, vw @ wo,
                                                      state.kernel_near @ wo)
             if state.ref is not None and state.enc_ref.any():
-                widths[o] = _age_width(state.tau_ref_myr[state.enc_ref], wo[state.enc_ref])
+                widths[o] = age_width(state.tau_ref_myr[state.enc_ref], wo[state.enc_ref])
         meas = np.full((n_out, 5), np.nan)
         meas[:, m] = y
         full = np.full((5, 5), np.nan)
         full[np.ix_(m, m)] = np.asarray(cov, float)[np.ix_(m, m)]
         sets.append(OutcomeSet(probs, method, ess, widths, truth, meas, full))
     if pending:
-        _fresh_outcomes(state, sets, pending, rng)
+        from .fresh import fresh_outcomes
+
+        fresh_outcomes(state, sets, pending, rng)
     return sets
-
-
-def to_today_epoch(cov, epoch_campaign, epoch_today):
-    """A campaign covariance moved to today's reference epoch (positions carried back by the proper motion).
-
-    Parameters
-    ----------
-    cov : ndarray (5, 5)
-        mas, mas/yr at ``epoch_campaign``.
-    epoch_campaign, epoch_today : astropy.time.Time
-
-    Returns
-    -------
-    ndarray (5, 5)
-        J C J^T with position(today) = position(campaign) - pm (t_campaign - t_today).
-    """
-    dt = float((epoch_campaign.tdb.jd - epoch_today.tdb.jd) / 365.25)
-    jac = np.eye(5)
-    jac[0, 2] = jac[1, 3] = -dt
-    c = np.nan_to_num(np.asarray(cov, float), nan=0.0)
-    out = jac @ c @ jac.T
-    bad = ~np.isfinite(np.diag(np.asarray(cov, float)))
-    out[bad, :] = np.nan
-    out[:, bad] = np.nan
-    return out
-
-
-def combined_solution(solution, measured, cov):
-    """Today's astrometry combined with one simulated measurement (inverse-variance, full covariance).
-
-    Parameters
-    ----------
-    solution : AstrometricSolution
-    measured : ndarray (5,)
-        NaN where not measured.
-    cov : ndarray (5, 5)
-
-    Returns
-    -------
-    AstrometricSolution
-    """
-    meas = AstrometricSolution(solution.epoch, solution.ra_deg, solution.dec_deg, measured, cov, source="campaign")
-    return solution.combine(meas, source=f"{solution.source}+campaign")
-
-
-def _fresh_outcomes(state, sets, pending, rng):
-    """Probabilities of the collapsed outcomes from fresh draws, integrated in one batch."""
-    tr = state.trace_result
-    data = tr.data
-    cfg, frame, adraws, afailed = data["cfg"], data["frame"], data["adraws"], data["association_failed"]
-    star = state.scenario.star
-    parts = []
-    for c_idx, o, _, nf in pending:
-        s = sets[c_idx]
-        sol = combined_solution(state.solution, s.measured[o], s.covariance)
-        parts.append(draw_star(sol, nf, rng, frame=frame, velocity_prior=cfg["velocity_prior"],
-                               distance_prior=cfg["distance_prior"], distance_pc=star.value("distance", "pc"),
-                               distance_error_pc=star.value("distance_error", "pc"),
-                               radial_velocity=star.value("radial_velocity", "km/s"),
-                               radial_velocity_error=star.value("radial_velocity_error", "km/s")))
-    allp = StarDraws(*(np.concatenate([getattr(p, k) for p in parts]) for k in
-                       ("ra_deg", "dec_deg", "distance_pc", "pm_ra_cosdec", "pm_dec", "radial_velocity")),
-                     parts[0].distance_source, parts[0].rv_source)
-    run = dict(data["run"])
-    run["rows_cap"] = chunk_rows(allp.n, len(run["times"]), cfg["chunk_size"], CHUNK_BYTES, run["cores"])
-    pos, vel = allp.galactocentric(frame)
-    res = run_draws(pos, vel, assoc=data["assoc"], adraws=adraws, **run)
-    per = [_kernels(adraws, afailed, res, cfg, j) for j in range(adraws.n_assoc)]
-    k1 = np.array([p[0] for p in per])
-    kn = np.array([p[1] for p in per])
-    valid = np.array([p[2] for p in per], float)
-    ends = np.cumsum([p[3] for p in pending])
-    for b, (c_idx, o, ctrl_sums, nf) in enumerate(pending):
-        sl = slice(int(ends[b] - nf), int(ends[b]))
-        s = sets[c_idx]
-        s.probabilities[o], _ = probabilities_from_kernels(ctrl_sums, state.field_prior, state.share,
-                                                           k1[:, sl].sum(1), valid[:, sl].sum(1), kn[:, sl].sum(1))
-        if state.ref is not None:
-            enc = per[state.ref][4][sl]
-            if enc.any():
-                s.age_width_yr[o] = _age_width(per[state.ref][3][sl][enc], np.ones(enc.sum()))
-

@@ -14,7 +14,8 @@ from ..timing.forecast import astrometric_covariance
 from ..timing.model import TimeGrid, TimingModel
 from ..timing.plan import SunWindow, regular_epochs
 
-__all__ = ["sweep_lengths", "length_covariances", "dates_covariance", "information_bits", "entropy_bits"]
+__all__ = ["sweep_lengths", "length_covariances", "to_today_epoch", "dates_covariance", "information_bits",
+           "entropy_bits"]
 
 _YEAR_D = 365.25
 #: campaign lengths swept besides the scenario's own (log-spaced from 1 yr to max_baseline)
@@ -120,3 +121,28 @@ def information_bits(p_now, p_after):
     reduction of the entropy of the quantity of interest (here the hypothesis probabilities).
     """
     return float(entropy_bits(p_now) - np.mean(entropy_bits(p_after)))
+
+
+def to_today_epoch(cov, epoch_campaign, epoch_today):
+    """A campaign covariance moved to today's reference epoch (positions carried back by the proper motion).
+
+    Parameters
+    ----------
+    cov : ndarray (5, 5)
+        mas, mas/yr at ``epoch_campaign``.
+    epoch_campaign, epoch_today : astropy.time.Time
+
+    Returns
+    -------
+    ndarray (5, 5)
+        J C J^T with position(today) = position(campaign) - pm (t_campaign - t_today).
+    """
+    dt = float((epoch_campaign.tdb.jd - epoch_today.tdb.jd) / 365.25)
+    jac = np.eye(5)
+    jac[0, 2] = jac[1, 3] = -dt
+    c = np.nan_to_num(np.asarray(cov, float), nan=0.0)
+    out = jac @ c @ jac.T
+    bad = ~np.isfinite(np.diag(np.asarray(cov, float)))
+    out[bad, :] = np.nan
+    out[:, bad] = np.nan
+    return out

@@ -20,9 +20,9 @@ from campaign_helpers import raw_scenario  # noqa: E402
 
 import kinage  # noqa: E402
 from kinage.astrometry import AstrometricSolution  # noqa: E402
-from kinage.campaign.preposterior import (combined_solution, simulate_outcomes, to_today_epoch,  # noqa: E402
-                                          today_state)
-from kinage.campaign.sweep import entropy_bits, information_bits  # noqa: E402
+from kinage.campaign.fresh import combined_solution  # noqa: E402
+from kinage.campaign.preposterior import simulate_outcomes, today_state  # noqa: E402
+from kinage.campaign.sweep import entropy_bits, information_bits, to_today_epoch  # noqa: E402
 
 pytestmark = pytest.mark.filterwarnings("ignore")
 
