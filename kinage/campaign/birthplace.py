@@ -132,7 +132,8 @@ def birthplace_forecast(scenario, forecast_result, *, outcomes=None, rng=None, s
     sched = {j[1]: numbers(j) for j in jobs if j[0] == "schedule"}
     ref = state.names[state.ref] if state.ref is not None else None
     notes = ["chance rates recomputed for every outcome from the control draws, each weighted like the star draw "
-             "it was turned from (its direction is random, its speed and distance follow the measurement)",
+             "it was turned from (its direction is random, its speed and distance follow the measurement; weights "
+             "tempered to keep 20% of the draws effective)",
              f"campaign lengths and schedules: {n_side} outcomes each, same cadence and TOA errors"]
     return BirthplaceForecast(state.names, state.p_now, main, sweep_rows, state.age_width_now_yr, ref,
                               float(forecast_result.plan.span_yr), sched,

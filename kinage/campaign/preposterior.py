@@ -16,10 +16,13 @@ again.  The chance rates c_j are recomputed the same way: a control draw is
 star draw (i mod n) with its direction of motion turned at random, so its
 direction does not depend on the measurement but its speed, distance and
 position do; a trace made after the campaign would turn the updated draws.
-Control draw i therefore takes star draw (i mod n)'s weight.  (Kept fixed,
-``control="fixed"``, the chance rates would make the reweighted
-probabilities a fixed Bayesian model in which conservation below is exact;
-reweighted, they follow what a new trace gives.  Both are tested.)
+Control draw i therefore takes star draw (i mod n)'s weight, computed with
+the measurement's covariance inflated just enough that at least
+:data:`CONTROL_SHARE` of the draws stay effective (the chance passages are
+rare: the exact weights would leave a handful of them).  Kept fixed
+(``control="fixed"``) the chance rates make the reweighted probabilities a
+fixed Bayesian model in which conservation below is exact; reweighted they
+follow the measured speed and distance, as a new trace would.  Both are tested.
 
 Outcomes (preposterior analysis, Raiffa & Schlaifer 1961, Applied
 Statistical Decision Theory).  y is drawn from today's predictive
@@ -54,11 +57,15 @@ from ..errors import InputError
 from .kernels import (age_width, association_kernels, control_kernels, control_totals, draw_parameters,
                       probabilities_from_kernels)
 
-__all__ = ["TodayState", "OutcomeSet", "today_state", "simulate_outcomes", "ESS_FLOOR", "FRESH_DRAWS", "DECISIVE"]
+__all__ = ["TodayState", "OutcomeSet", "today_state", "simulate_outcomes", "ESS_FLOOR", "FRESH_DRAWS", "DECISIVE",
+           "CONTROL_SHARE"]
 
 #: below this effective sample size an outcome's probabilities come from fresh draws (common practice, no
 #: source: a few tens of effective draws keep a kernel average to ~15%)
 ESS_FLOOR = 50.0
+#: the chance rates' weights keep at least this share of the draws effective (common practice, no source:
+#: the chance passages are rare, so fewer effective draws would leave a handful of them; see :func:`_tempered`)
+CONTROL_SHARE = 0.2
 #: fresh draws per outcome that needs them
 FRESH_DRAWS = 200
 #: a hypothesis "settles" the birthplace when its probability reaches this (the issue's definition)
@@ -231,11 +238,14 @@ def _weights(theta_w, y_w):
 def _tempered(theta_w, y_w, floor):
     """Weights of the same measurement with its covariance inflated (x 1 .. 1e8) until the ESS reaches ``floor``.
 
-    Used for the chance rates of outcomes that take fresh draws: the chance rate depends smoothly on the
-    star's speed and distance, so weights from a slightly less precise measurement give it with a usable
-    number of control draws.
+    For the chance rates: they are averages over rare chance passages of the control draws and depend on the
+    star's speed and distance only smoothly, so weights from a less precise measurement follow the measured
+    speed and distance without resting on the few control draws of a handful of star draws.
     """
-    for scale in np.geomspace(1.0, 1e8, 33):
+    w = _weights(theta_w, y_w)[0]
+    if 1.0 / np.sum(w**2) >= floor:
+        return w
+    for scale in np.geomspace(2.0, 1e8, 27):
         w = _weights(theta_w / np.sqrt(scale), y_w / np.sqrt(scale))[0]
         if 1.0 / np.sum(w**2) >= floor:
             return w
@@ -297,14 +307,15 @@ def simulate_outcomes(state, covariances, n_outcomes, rng, *, ess_floor=ESS_FLOO
         probs = np.full((n_out, len(state.names) + 1), np.nan)
         widths = np.full(n_out, np.nan)
         method = ["reweight"] * n_out
+        control_floor = max(ess_floor, CONTROL_SHARE * state.n)
         for o in range(n_out):
+            wt = w[o] if control == "fixed" else _tempered(theta_w, y_w[o:o + 1], control_floor)
             if allow_fresh and ess[o] < ess_floor:
                 method[o] = "fresh"
-                wt = w[o] if control == "fixed" else _tempered(theta_w, y_w[o:o + 1], ess_floor)
                 pending.append((c_idx, o, _control_sums(state, wt, control), int(fresh_draws[c_idx])))
                 continue
             wo = w[o] * state.n  # weights summing to the number of draws (the trace's normalisation)
-            probs[o], _ = probabilities_from_kernels(_control_sums(state, w[o], control), state.field_prior,
+            probs[o], _ = probabilities_from_kernels(_control_sums(state, wt, control), state.field_prior,
                                                      state.share, state.kernel @ wo, vw @ wo,
                                                      state.kernel_near @ wo)
             if state.ref is not None and state.enc_ref.any():
