@@ -235,15 +235,14 @@ def _weights(theta_w, y_w):
     return w / w.sum(axis=1, keepdims=True)
 
 
-def _tempered(theta_w, y_w, floor):
+def _tempered(theta_w, y_w, floor, w):
     """Weights of the same measurement with its covariance inflated (x 1 .. 1e8) until the ESS reaches ``floor``.
 
     For the chance rates: they are averages over rare chance passages of the control draws and depend on the
     star's speed and distance only smoothly, so weights from a less precise measurement follow the measured
     speed and distance without resting on the few control draws of a handful of star draws.
     """
-    w = _weights(theta_w, y_w)[0]
-    if 1.0 / np.sum(w**2) >= floor:
+    if 1.0 / np.sum(w**2) >= floor:  # the exact weights (``w``) are spread enough
         return w
     for scale in np.geomspace(2.0, 1e8, 27):
         w = _weights(theta_w / np.sqrt(scale), y_w / np.sqrt(scale))[0]
@@ -302,19 +301,20 @@ def simulate_outcomes(state, covariances, n_outcomes, rng, *, ess_floor=ESS_FLOO
         theta_m = state.theta[:, m]
         y = theta_m[truth] + rng.standard_normal((n_out, smat.shape[1])) @ smat.T
         theta_w, y_w = theta_m @ wmat, y @ wmat
-        w = _weights(theta_w, y_w)
-        ess = 1.0 / np.sum(w**2, axis=1)
+        ess = np.empty(n_out)
         probs = np.full((n_out, len(state.names) + 1), np.nan)
         widths = np.full(n_out, np.nan)
         method = ["reweight"] * n_out
         control_floor = max(ess_floor, CONTROL_SHARE * state.n)
-        for o in range(n_out):
-            wt = w[o] if control == "fixed" else _tempered(theta_w, y_w[o:o + 1], control_floor)
+        for o in range(n_out):  # one outcome at a time: memory O(draws), whatever the number of outcomes
+            w = _weights(theta_w, y_w[o:o + 1])[0]
+            ess[o] = 1.0 / np.sum(w**2)
+            wt = w if control == "fixed" else _tempered(theta_w, y_w[o:o + 1], control_floor, w)
             if allow_fresh and ess[o] < ess_floor:
                 method[o] = "fresh"
                 pending.append((c_idx, o, _control_sums(state, wt, control), int(fresh_draws[c_idx])))
                 continue
-            wo = w[o] * state.n  # weights summing to the number of draws (the trace's normalisation)
+            wo = w * state.n  # weights summing to the number of draws (the trace's normalisation)
             probs[o], _ = probabilities_from_kernels(_control_sums(state, wt, control), state.field_prior,
                                                      state.share, state.kernel @ wo, vw @ wo,
                                                      state.kernel_near @ wo)
