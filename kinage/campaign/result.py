@@ -107,7 +107,8 @@ class BirthplaceForecast:
         order = np.argsort(-self.p_now)
         labels = list(self.names) + ["field"]
         today = ", ".join(f"{labels[k]} {self.p_now[k]:.2f}" for k in order[:2])
-        text = (f"{_years(self.baseline_yr)} of timing give a {_percent(self.decisive_probability)} chance of "
+        chance = _percent(self.decisive_probability)
+        text = (f"{_years(self.baseline_yr)} of timing give {_article(chance)} {chance} chance of "
                 f"settling the birthplace (a probability >= {DECISIVE:g} for one hypothesis; today: {today})")
         reach = [s for s in self.sweep if s["decisive_probability"] is not None and s["decisive_probability"] >= 0.5]
         if reach and reach[0]["length_yr"] != self.baseline_yr:
@@ -156,3 +157,9 @@ def _percent(p):
     if p >= 1.0:
         return "> 99%"
     return f"{100 * p:.0f}%"
+
+
+def _article(number_text):
+    """'an' before a number read with a vowel sound (8, 11, 18, 80-89), else 'a'."""
+    digits = number_text.lstrip("<> ").rstrip("%")
+    return "an" if digits.startswith("8") or digits in ("11", "18") else "a"

@@ -143,3 +143,18 @@ def test_entropy_of_certainty_and_of_even_odds():
     # Shannon entropy: 0 bits for certainty, log2(k) bits for k equal hypotheses (Lindley 1956 uses it)
     assert entropy_bits([1.0, 0.0, 0.0]) == pytest.approx(0.0)
     assert entropy_bits([0.25] * 4) == pytest.approx(2.0)
+
+
+def test_length_covariances_match_the_forecast_sweep(tmp_path):
+    # closure: the full covariances rebuilt for other campaign lengths give the errors of the forecast's own
+    # baseline sweep (same cadence, Sun window, TOA errors and reference epoch)
+    from kinage.campaign.sweep import length_covariances
+    from kinage.timing import forecast
+
+    scn = kinage.scenario_from_dict(raw_scenario(tmp_path, toa_error="20 us"))
+    fr = forecast(scn)
+    rows = [i for i, b in enumerate(fr.sweep["baseline_yr"]) if min(abs(b - x) for x in (2, 4, 6, 8)) < 1e-6]
+    assert len(rows) >= 3
+    covs = length_covariances(scn, fr, fr.sweep["baseline_yr"][rows])
+    for i, (cov, _) in zip(rows, covs):
+        assert np.sqrt(cov[4, 4]) == pytest.approx(fr.sweep["parallax_error_mas"][i], rel=1e-6)
