@@ -7,4 +7,5 @@ Above timing (the forecast's covariance) and orbits (the trace's draws and kerne
 from .birthplace import birthplace_forecast, check_birthplace_inputs, check_outcomes, forecast_with_birthplace
 from .result import BirthplaceForecast
 
-__all__ = ["birthplace_forecast", "forecast_with_birthplace", "check_birthplace_inputs", "check_outcomes", "BirthplaceForecast"]
+__all__ = ["birthplace_forecast", "forecast_with_birthplace", "check_birthplace_inputs", "check_outcomes",
+           "BirthplaceForecast"]

@@ -13,7 +13,8 @@ from .preposterior import DECISIVE, FRESH_DRAWS, simulate_outcomes, today_state
 from .result import BirthplaceForecast
 from .sweep import dates_covariance, information_bits, length_covariances, sweep_lengths, to_today_epoch
 
-__all__ = ["birthplace_forecast", "forecast_with_birthplace", "check_birthplace_inputs", "check_outcomes", "OUTCOMES_RANGE",
+__all__ = ["birthplace_forecast", "forecast_with_birthplace", "check_birthplace_inputs", "check_outcomes",
+           "OUTCOMES_RANGE",
            "SWEEP_OUTCOMES"]
 
 #: allowed ``[campaign] outcomes``

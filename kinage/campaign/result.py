@@ -130,7 +130,8 @@ class BirthplaceForecast:
         out.mkdir(parents=True, exist_ok=True)
         with atomic_path(out / "forecast_birthplace.ecsv") as tmp:
             self.table().write(tmp, format="ascii.ecsv", overwrite=True)
-        return [out / "forecast_birthplace.ecsv", Path(save_figure(birthplace_figure(self), out / "forecast_birthplace.png"))]
+        png = save_figure(birthplace_figure(self), out / "forecast_birthplace.png")
+        return [out / "forecast_birthplace.ecsv", Path(png)]
 
     def plot(self, ax=None):
         """The two-panel figure (:func:`kinage.campaign.plots.birthplace_figure`)."""
