@@ -9,7 +9,7 @@ import numpy as np
 
 from ..astrometry import AstrometricSolution
 from ..errors import InputError
-from .preposterior import DECISIVE, FRESH_DRAWS, simulate_outcomes, today_state
+from .preposterior import DECISIVE, FRESH_BUDGET, FRESH_DRAWS, simulate_outcomes, today_state
 from .result import BirthplaceForecast
 from .sweep import dates_covariance, information_bits, length_covariances, sweep_lengths, to_today_epoch
 
@@ -115,9 +115,9 @@ def birthplace_forecast(scenario, forecast_result, *, outcomes=None, rng=None, s
             jobs.append(("schedule", name, to_today_epoch(cov, epoch, today.epoch)))
     side = [j for j in jobs if isinstance(j[2], np.ndarray)]
     # the main campaign: FRESH_DRAWS per collapsed outcome; lengths and schedules, which give one number each
-    # (a share of outcomes), half as many
+    # (a share of outcomes), half as many; all within FRESH_BUDGET times today's draws
     sets = simulate_outcomes(state, covs + [j[2] for j in side], [n_out] + [n_side] * len(side), gen,
-                             fresh_draws=[FRESH_DRAWS] + [FRESH_DRAWS // 2] * len(side))
+                             fresh_draws=[FRESH_DRAWS] + [FRESH_DRAWS // 2] * len(side), fresh_budget=FRESH_BUDGET)
     main = sets[0]
     found = {id(j): s for j, s in zip(side, sets[1:])}
 

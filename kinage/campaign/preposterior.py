@@ -58,6 +58,7 @@ from .kernels import (age_width, association_kernels, control_kernels, control_t
                       probabilities_from_kernels)
 
 __all__ = ["TodayState", "OutcomeSet", "today_state", "simulate_outcomes", "ESS_FLOOR", "FRESH_DRAWS", "DECISIVE",
+           "FRESH_MIN", "FRESH_BUDGET",
            "CONTROL_SHARE"]
 
 #: below this effective sample size an outcome's probabilities come from fresh draws (common practice, no
@@ -66,8 +67,14 @@ ESS_FLOOR = 50.0
 #: the chance rates' weights keep at least this share of the draws effective (common practice, no source:
 #: the chance passages are rare, so fewer effective draws would leave a handful of them; see :func:`_tempered`)
 CONTROL_SHARE = 0.2
-#: fresh draws per outcome that needs them
+#: fresh draws per outcome that needs them (at most) ...
 FRESH_DRAWS = 200
+#: ... and at least, when the fresh draws of all outcomes together would exceed the budget
+FRESH_MIN = 50
+#: budget of fresh draws for all outcomes together, in units of the trace's star draws (common practice, no
+#: source: after a collapse of the weights the updated posterior is much narrower than today's, so its kernel
+#: averages need fewer draws; this keeps a precise campaign's forecast within a few traces' time)
+FRESH_BUDGET = 8.0
 #: a hypothesis "settles" the birthplace when its probability reaches this (the issue's definition)
 DECISIVE = 0.9
 
@@ -202,6 +209,8 @@ class OutcomeSet:
         Simulated measurements (NaN where the campaign does not measure the parameter).
     covariance : ndarray (5, 5)
         Campaign covariance in today's parametrisation.
+    fresh_draws : ndarray of int
+        Fresh draws each outcome used (0: reweighted).
     """
 
     probabilities: np.ndarray
@@ -211,6 +220,11 @@ class OutcomeSet:
     truth: np.ndarray
     measured: np.ndarray
     covariance: np.ndarray
+    fresh_draws: np.ndarray = None
+
+    def __post_init__(self):
+        if self.fresh_draws is None:
+            self.fresh_draws = np.zeros(len(self.method), int)
 
 
 def _whitener(cov):
@@ -261,7 +275,7 @@ def _control_sums(state, w, control):
 
 
 def simulate_outcomes(state, covariances, n_outcomes, rng, *, ess_floor=ESS_FLOOR, fresh_draws=FRESH_DRAWS,
-                      allow_fresh=True, control="reweight"):
+                      allow_fresh=True, control="reweight", fresh_budget=None):
     """Simulate outcomes of one or more campaigns and the probabilities each leaves.
 
     Parameters
@@ -281,6 +295,9 @@ def simulate_outcomes(state, covariances, n_outcomes, rng, *, ess_floor=ESS_FLOO
         False keeps every outcome on the reweighted draws (tests of the reweighting).
     control : {'reweight', 'fixed'}
         Chance rates from the reweighted control draws (what a new trace gives), or today's unchanged.
+    fresh_budget : float, optional
+        Most fresh draws in all, in units of today's draws; each outcome's share scaled down to fit (not
+        below :data:`FRESH_MIN`).  None: no limit.
 
     Returns
     -------
@@ -325,6 +342,12 @@ def simulate_outcomes(state, covariances, n_outcomes, rng, *, ess_floor=ESS_FLOO
         full = np.full((5, 5), np.nan)
         full[np.ix_(m, m)] = np.asarray(cov, float)[np.ix_(m, m)]
         sets.append(OutcomeSet(probs, method, ess, widths, truth, meas, full))
+    if pending and fresh_budget is not None:
+        total = sum(p[3] for p in pending)
+        scale = min(1.0, fresh_budget * state.n / total)
+        pending = [(c, o, cs, max(FRESH_MIN, int(round(nf * scale)))) for c, o, cs, nf in pending]
+    for c_idx, o, _, nf in pending:
+        sets[c_idx].fresh_draws[o] = nf
     if pending:
         from .fresh import fresh_outcomes
 

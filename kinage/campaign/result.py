@@ -93,6 +93,7 @@ class BirthplaceForecast:
             "methods": {"reweight": methods.count("reweight"), "fresh": methods.count("fresh")},
             "outcome_methods": methods,
             "smallest_effective_sample_size": float(np.min(o.ess)),
+            "fresh_draws_per_outcome": int(np.max(o.fresh_draws)) if np.any(o.fresh_draws) else None,
             "effective_sample_size_floor": ESS_FLOOR,
             "information_bits": self.information_bits,
             "baseline_yr": self.baseline_yr,
