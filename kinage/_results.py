@@ -373,7 +373,8 @@ def _ages_table(r):
 
 #: result class name -> kind -> drawing function ("module:function" or "adapter:name"); first kind is the default
 PLOTS = {
-    "ForecastResult": {"baseline": "kinage.timing.plots:forecast_figure", "plan": "kinage.timing.plots:plan_figure"},
+    "ForecastResult": {"baseline": "kinage.timing.plots:forecast_figure", "plan": "kinage.timing.plots:plan_figure",
+                       "birthplace": "kinage.campaign.plots:forecast_birthplace_figure"},
     "FitResult": {"residuals": "kinage.timing.plots:residual_figure"},
     "TraceResult": {"sky": "kinage.orbits.trace_figures:plot_sky",
                     "dmin_tau": "kinage.orbits.trace_figures:plot_dmin_tau",
@@ -384,7 +385,8 @@ PLOTS = {
     "AgesResult": {"ladder": "adapter:ages_ladder", "cooling": "adapter:ages_cooling"},
 }
 #: (result class name, kind) -> predicate: the figure needs something the result may lack (plot_kinds leaves it out)
-NEEDS = {("AgesResult", "cooling"): lambda r: r.cooling is not None}
+NEEDS = {("AgesResult", "cooling"): lambda r: r.cooling is not None,
+         ("ForecastResult", "birthplace"): lambda r: getattr(r, "birthplace", None) is not None}
 KEY_NUMBERS = {"ForecastResult": _forecast_numbers, "FitResult": _fit_numbers, "SimulationResult": _simulation_numbers,
                "TraceResult": _trace_numbers, "AgesResult": _ages_numbers}
 TABLES = {"ForecastResult": lambda r: r.sweep_table(), "FitResult": lambda r: r.residual_table(),

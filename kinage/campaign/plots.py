@@ -5,7 +5,7 @@ matplotlib is imported only when a figure is drawn; nothing here saves (``write_
 
 import numpy as np
 
-__all__ = ["birthplace_figure"]
+__all__ = ["birthplace_figure", "forecast_birthplace_figure"]
 
 
 def birthplace_figure(bf, ax=None):
@@ -64,3 +64,8 @@ def birthplace_figure(bf, ax=None):
             a_len.set_ylim(-0.02, 1.02)
             a_len.legend(loc="upper left", fontsize="small")
     return fig
+
+
+def forecast_birthplace_figure(result, ax=None):
+    """:func:`birthplace_figure` of a forecast made with the birthplace forecast (``ForecastResult.plot``)."""
+    return birthplace_figure(result.birthplace, ax=ax)

@@ -91,6 +91,7 @@ def test_python_front_door(tmp_path):
         assert h["probability_after_q95"] == pytest.approx(h["probability_now"], abs=0.08)
     assert set(d["schedules"]) == {"even", "parallax", "motion"}
     assert "settling the birthplace" in res.summary()
+    assert "birthplace" in res.plot_kinds() and res.plot("birthplace").axes
     with pytest.raises(InputError, match="outcomes"):
         kinage.forecast(scn, birthplace=True, outcomes=3)
     bare = kinage.scenario_from_dict({k: v for k, v in raw_scenario(tmp_path).items() if k != "trace"})
