@@ -285,7 +285,14 @@ def _forecast_numbers(r):
              f"not constrained by timing (formal {sig['pm_ra_cosdec_masyr']:.2g} / {sig['pm_dec_masyr']:.2g} mas/yr)"),
             ("sigma_parallax", px if ok["parallax"] or px is None else f"not constrained by timing (formal {px})"),
             ("pm significance", fmt(r.pm_significance, "sigma", 2)),
-            ("baseline needed", fmt(r.baseline_needed_yr, "yr"))]
+            ("baseline needed", fmt(r.baseline_needed_yr, "yr"))] + _birthplace_numbers(getattr(r, "birthplace", None))
+
+
+def _birthplace_numbers(bp):
+    """The chance that the campaign settles the birthplace, when the forecast carries a birthplace forecast."""
+    if bp is None:
+        return []
+    return [("birthplace settled", f"{100 * bp.decisive_probability:.0f}% of {bp.n_outcomes} simulated outcomes")]
 
 
 def _with_error(value, error, unit):
