@@ -72,7 +72,9 @@ def length_covariances(scenario, forecast_result, lengths_yr):
     vpy_sweep = min(vpy, 120.0)  # as the forecast's sweep: fewer visits with proportionally smaller errors
     top = float(np.max(lengths_yr))
     ra, dec = star.value("ra", "deg"), star.value("dec", "deg")
-    window = SunWindow.compute(ra, dec, c.value("sun_avoidance", "deg", 45.0), start, start + top * _YEAR_D)
+    window = getattr(forecast_result, "sun_window", None)
+    if window is None or window.mjd[-1] < start + top * _YEAR_D:  # the forecast's own window, when it reaches
+        window = SunWindow.compute(ra, dec, c.value("sun_avoidance", "deg", 45.0), start, start + top * _YEAR_D)
     nominal = regular_epochs(start, top, vpy_sweep)
     mjd_all = window.shift(nominal)
     err = float(np.median(forecast_result.toa_errors)) * np.sqrt(vpy_sweep / vpy)

@@ -75,6 +75,8 @@ class ForecastResult(ResultDisplay):
     schedules: dict | None = None
     #: what the campaign will tell about the birthplace (kinage.campaign.BirthplaceForecast), when asked
     birthplace: object = None
+    #: the Sun window the plan and sweep were made on (reused for other campaign lengths)
+    sun_window: object = field(default=None, repr=False, compare=False)
     assumptions: list = field(default_factory=lambda: list(TIMING_ASSUMPTIONS) + [
         "Fisher (Cramér–Rao) errors of the linearised model: reached by a fit only at high signal-to-noise",
         "photon-limited TOA error from the Cramér–Rao bound of the pulse phase (Ray et al. 2011, ApJS 194, 17)",
