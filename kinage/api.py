@@ -96,7 +96,7 @@ def _catching(func, category, *args, stacklevel=5, **kwargs):
     return result, raised
 
 
-def forecast(scenario, *, progress=False, **kwargs):
+def forecast(scenario, *, progress=False, birthplace=False, outcomes=None, rng=None, **kwargs):
     """Forecast what a timing campaign measures (:func:`kinage.timing.forecast`).
 
     Parameters
@@ -105,6 +105,14 @@ def forecast(scenario, *, progress=False, **kwargs):
         Needs ``[star]`` ra, dec (and spin for photon TOA errors) and ``[campaign]``.
     progress : bool
         Show a progress bar (a widget in Jupyter).
+    birthplace : bool
+        Also forecast the birthplace probabilities after the campaign
+        (:func:`kinage.campaign.birthplace_forecast`; needs ``[trace]`` associations); the result's
+        ``birthplace`` attribute and ``to_dict()["birthplace"]``.
+    outcomes : int, optional
+        Simulated campaign outcomes (default ``[campaign] outcomes``, 200).
+    rng : numpy.random.Generator | int | None
+        Seed of the birthplace forecast (default ``[trace] seed``, else 1).
     **kwargs
         Passed on (e.g. ``method``).
 
@@ -114,7 +122,18 @@ def forecast(scenario, *, progress=False, **kwargs):
     """
     from .timing import forecast as _forecast
 
-    return _stage(_forecast, ForecastWarning, as_scenario(scenario), progress=progress, **kwargs)
+    scn = as_scenario(scenario)
+    if not birthplace:
+        return _stage(_forecast, ForecastWarning, scn, progress=progress, **kwargs)
+    from .campaign import check_birthplace_inputs, check_outcomes, forecast_with_birthplace
+
+    check_birthplace_inputs(scn, where="birthplace=True")
+    if outcomes is not None:
+        check_outcomes(outcomes, "outcomes")
+    if rng is not None:
+        _check_rng(rng)
+    return _stage(forecast_with_birthplace, ForecastWarning, scn, outcomes=outcomes, rng=rng, progress=progress,
+                  **kwargs)
 
 
 def simulate(scenario, *, rng=None, **kwargs):

@@ -88,6 +88,12 @@ def build_parser():
     p.add_argument("--compare-schedules", action="store_true",
                    help="also print the parallax and proper-motion errors of the 'even', 'parallax' and 'motion' "
                         "schedules with the same visits")
+    p.add_argument("--birthplace", action="store_true",
+                   help="also forecast the birthplace probabilities after the campaign (needs [trace] associations)")
+    p.add_argument("--outcomes", type=int, metavar="N",
+                   help="simulated campaign outcomes for --birthplace (overrides [campaign] outcomes; 20 to 100000)")
+    p.add_argument("--samples", type=int, metavar="N",
+                   help="Monte Carlo draws of the star for --birthplace (overrides [trace] samples)")
     _common(p)
 
     p = verb("simulate")

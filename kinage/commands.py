@@ -54,11 +54,35 @@ def cmd_forecast(args):
     _require_table(scenario, "campaign", "forecast")
     from .timing import forecast
 
-    result = forecast(scenario, progress=_progress(args))
+    birthplace = getattr(args, "birthplace", False)
+    seed = args.seed
+    if birthplace:  # every input checked before any work or output
+        from .campaign import check_birthplace_inputs, check_outcomes
+        from .io.limits import check_resources
+        from .pipeline import scenario_seed
+
+        check_birthplace_inputs(scenario)
+        if getattr(args, "outcomes", None) is not None:
+            check_outcomes(args.outcomes, "--outcomes")
+        if getattr(args, "samples", None) is not None and args.samples < 1:
+            raise InputError("--samples", f"must be a positive whole number (got {args.samples})")
+        check_resources(scenario, samples=getattr(args, "samples", None))
+        seed = scenario_seed(scenario, args.seed)
+    elif getattr(args, "outcomes", None) is not None or getattr(args, "samples", None) is not None:
+        raise InputError("--outcomes" if getattr(args, "outcomes", None) is not None else "--samples",
+                         "only used with --birthplace")
+    if birthplace:
+        from .campaign import forecast_with_birthplace
+
+        result = forecast_with_birthplace(scenario, outcomes=getattr(args, "outcomes", None), rng=seed,
+                                          samples=getattr(args, "samples", None), progress=_progress(args),
+                                          schedules=getattr(args, "compare_schedules", False))
+    else:
+        result = forecast(scenario, progress=_progress(args))
     if getattr(args, "compare_schedules", False) and result.schedules is None:
         raise InputError("--compare-schedules", "needs a plan from [campaign] start, baseline and visits_per_year "
                          "(this one has explicit dates or a TOA table)")
-    status = _finish(args, result, scenario, "forecast", seed=args.seed)
+    status = _finish(args, result, scenario, "forecast", seed=seed)
     if getattr(args, "compare_schedules", False):
         print(_schedule_table(result))
     return status
@@ -79,6 +103,15 @@ def _schedule_table(result):
         lines.append(f"{name + mark:<10} {num(row['parallax_error_mas']):>21} "
                      f"{num(row['pm_error_along_motion_masyr']):>31} {num(row['pm_significance']):>16}")
     lines.append(f"(* this scenario's schedule; {result.plan.n_visits} visits each, same TOA errors)")
+    bp = getattr(result, "birthplace", None)
+    if bp is not None and bp.schedules:
+        lines.append("")
+        lines.append(f"{'schedule':<10} {'chance of settling the birthplace':>34} {'expected information (bits)':>28}")
+        for name, row in bp.schedules.items():
+            mark = " *" if name == result.plan.schedule else ""
+            lines.append(f"{name + mark:<10} {row['decisive_probability']:>34.2f} {row['information_bits']:>28.2f}")
+        lines.append(f"({bp.schedules[next(iter(bp.schedules))]['n_outcomes']} simulated outcomes each; settling = "
+                     "one hypothesis at probability >= 0.9)")
     return "\n".join(lines)
 
 

@@ -107,6 +107,13 @@ def preflight(scenario, samples=None):
         # the star's distance inputs (parallax of any sign, distance estimate, their errors, the prior's range)
         # through the same posterior the trace and the Shklovskii term use: an input problem, found here
         check_star_distance(scenario, trace="trace" in stages, fitted="fit" in stages)
+    if c is not None and c.get("birthplace_forecast"):
+        from .campaign import check_birthplace_inputs
+
+        check_birthplace_inputs(scenario, where="[campaign] birthplace_forecast")
+    elif c is not None and str(c.get("schedule") or "").lower() == "birthplace":
+        raise InputError("[campaign] schedule", "'birthplace' is chosen by the birthplace forecast: set [campaign] "
+                         "birthplace_forecast = true")
     if "trace" in stages:
         from .associations import read_associations
 
@@ -229,6 +236,11 @@ def run_stage(name, scenario, done, *, seed, samples=None, progress=False, input
     if name == "forecast":
         from .timing import forecast
 
+        if scenario.campaign.get("birthplace_forecast"):
+            from .campaign import forecast_with_birthplace
+
+            return forecast_with_birthplace(scenario, rng=stage_seed(seed, "trace"), samples=samples,
+                                            progress=progress, associations=inputs.get("associations"))
         return forecast(scenario, progress=progress)
     if name == "fit":
         from .timing import fit_toas
@@ -236,6 +248,10 @@ def run_stage(name, scenario, done, *, seed, samples=None, progress=False, input
         return fit_toas(inputs.get("toas", scenario.campaign.toas), scenario)
     if name == "trace":
         from .orbits import trace
+
+        bp = getattr(done.get("forecast"), "birthplace", None)
+        if bp is not None and done.get("fit") is None and getattr(bp, "trace_result", None) is not None:
+            return bp.trace_result  # the birthplace forecast traced the same astrometry with the same seed
 
         sol = solution_for_trace(scenario, done.get("fit"))
         return trace(scenario, solution=sol, rng=stage_seed(seed, "trace"), samples=samples, progress=progress,

@@ -122,9 +122,11 @@ _CAMPAIGN = [
     Key("baseline", "quantity", "yr", positive=True, doc="time from the first to the last visit"),
     Key("visits_per_year", "float", positive=True, doc="visits per year, evenly spaced"),
     Key("dates", "times", doc="explicit visit dates instead of start/baseline/visits_per_year"),
-    Key("schedule", "str", default="even", choices=("even", "parallax", "motion"),
+    Key("schedule", "str", default="even", choices=("even", "parallax", "motion", "birthplace"),
         doc="where the visits go: 'even' (regular cadence), 'parallax' (minimum parallax error) or 'motion' "
-            "(minimum proper-motion error along the expected motion); same visits per year, Sun-allowed days only"),
+            "(minimum proper-motion error along the expected motion); same visits per year, Sun-allowed days only; "
+            "'birthplace' picks among these the one with the most expected information about the birthplace "
+            "(with the birthplace forecast)"),
     Key("exposure", "quantity", "s", positive=True, doc="exposure per visit ('20 ks' works)"),
     Key("band", "str", choices=("xray", "radio", "optical"),
         doc="observing band: sets band defaults (sun_avoidance 45 deg for 'xray' and 'optical', 10 deg for "
@@ -163,6 +165,11 @@ _CAMPAIGN = [
     Key("ephemeris", "str", default="builtin",
         doc="solar-system ephemeris: 'builtin' (astropy's ERFA model) or the path of a JPL file read through astropy "
             "(needs jplephem); nothing downloads"),
+    Key("birthplace_forecast", "bool", default=False,
+        doc="forecast the birthplace probabilities after the campaign (needs [trace] associations; kinage run)"),
+    Key("outcomes", "int", default=200, lower=20, upper=100000,
+        reason="fewer than 20 outcomes say little about a distribution; more than 100,000 only cost time",
+        doc="simulated campaign outcomes of the birthplace forecast"),
 ]
 
 _TRACE = [

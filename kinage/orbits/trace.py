@@ -220,7 +220,10 @@ def trace(scenario, *, solution=None, rng=None, samples=None, potential=None, pr
         field=field,
         failed=failed, main=main, assoc=assoc, times=times, cols=cols, n_control=n_control, solution=solution,
         precision=precision)
-    result.data["control"] = None if ctrl is None else {"dmin": ctrl["dmin"], "tau": ctrl["tau"]}  # for figures
+    # for figures, and for re-weighting the draws (kinage.campaign): edges, failures and the integration set-up
+    result.data["control"] = None if ctrl is None else {"dmin": ctrl["dmin"], "tau": ctrl["tau"],
+                                                        "edge": ctrl["edge"], "failed": ctrl["failed"]}
+    result.data.update(association_failed=afailed, cfg=cfg, run=run)
     return result
 
 

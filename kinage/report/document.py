@@ -37,6 +37,9 @@ CAPTIONS = {
                          "the significance of the expected motion crosses the target.",
     "forecast_schedules": "Compare the proper-motion and parallax errors of the visit schedules with the same "
                           "number of visits.",
+    "forecast_birthplace": "Compare each candidate's probability today (diamond) with its spread over the campaign's "
+                           "simulated outcomes, and see how the chance of settling the birthplace grows with years "
+                           "of timing.",
     "forecast_plan": "See when the visits fall against the yearly parallax and the growing proper-motion "
                      "signatures: visits near the extremes measure them best.",
     "fit_residuals": "Check that the post-fit residuals (bottom) scatter within their errors and that the fitted "

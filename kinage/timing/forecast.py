@@ -227,6 +227,7 @@ def forecast(scenario, *, progress=False, method="woodbury"):
         max_baseline_yr=max_b, baseline_needed_yr=needed, sweep=sweep, reverse=reverse,
         phase_connection=conn, combined=combined, warnings=warnings, schedules=schedules,
         parameter_sets=list(motion.parameter_sets), red_noise=c.value("red_noise_amplitude", None, 0.0) > 0,
+        sun_window=window,
     )
 
 

@@ -43,7 +43,14 @@ def _forecast_numbers(r):
              f"not constrained by timing (formal {sig['pm_ra_cosdec_masyr']:.2g} / {sig['pm_dec_masyr']:.2g} mas/yr)"),
             ("sigma_parallax", px if ok["parallax"] or px is None else f"not constrained by timing (formal {px})"),
             ("pm significance", fmt(r.pm_significance, "sigma", 2)),
-            ("baseline needed", fmt(r.baseline_needed_yr, "yr"))]
+            ("baseline needed", fmt(r.baseline_needed_yr, "yr"))] + _birthplace_numbers(getattr(r, "birthplace", None))
+
+
+def _birthplace_numbers(bp):
+    """The chance that the campaign settles the birthplace, when the forecast carries a birthplace forecast."""
+    if bp is None:
+        return []
+    return [("birthplace settled", f"{100 * bp.decisive_probability:.0f}% of {bp.n_outcomes} simulated outcomes")]
 
 
 @dataclass(repr=False)
@@ -75,7 +82,9 @@ class ForecastResult(ResultDisplay):
         (:func:`kinage.timing.forecast.compare_schedules`); None for explicit dates or a TOA table.
     """
 
-    PLOTS = {"baseline": "kinage.timing.plots:forecast_figure", "plan": "kinage.timing.plots:plan_figure"}
+    PLOTS = {"baseline": "kinage.timing.plots:forecast_figure", "plan": "kinage.timing.plots:plan_figure",
+             "birthplace": "kinage.campaign.plots:forecast_birthplace_figure"}
+    PLOT_NEEDS = {"birthplace": lambda r: getattr(r, "birthplace", None) is not None}
     KEY_NUMBERS = _forecast_numbers
     TABLE = lambda r: r.sweep_table()  # noqa: E731
 
@@ -97,6 +106,10 @@ class ForecastResult(ResultDisplay):
     parameter_sets: list = field(default_factory=list)
     red_noise: bool = False
     schedules: dict | None = None
+    #: what the campaign will tell about the birthplace (kinage.campaign.BirthplaceForecast), when asked
+    birthplace: object = None
+    #: the Sun window the plan and sweep were made on (reused for other campaign lengths)
+    sun_window: object = field(default=None, repr=False, compare=False)
     assumptions: list = field(default_factory=lambda: list(TIMING_ASSUMPTIONS) + [
         "Fisher (Cramér–Rao) errors of the linearised model: reached by a fit only at high signal-to-noise",
         "photon-limited TOA error from the Cramér–Rao bound of the pulse phase (Ray et al. 2011, ApJS 194, 17)",
@@ -144,6 +157,8 @@ class ForecastResult(ResultDisplay):
         }
         if self.combined is not None:
             out["sigma_with_prior"] = self.combined.sigma_dict()
+        if self.birthplace is not None:
+            out["birthplace"] = self.birthplace.to_dict()
         return out
 
     def constrained(self):
@@ -167,7 +182,10 @@ class ForecastResult(ResultDisplay):
     def summary(self):
         from .forecast_words import forecast_summary
 
-        return forecast_summary(self)
+        text = forecast_summary(self)
+        if self.birthplace is not None:
+            text += " " + self.birthplace.sentence()
+        return text
 
     def sweep_table(self):
         """The baseline sweep as an astropy Table with units."""
@@ -213,4 +231,6 @@ class ForecastResult(ResultDisplay):
             paths.append(out / name)
         for name, draw in (("forecast_baseline.png", forecast_figure), ("forecast_plan.png", plan_figure)):
             paths.append(Path(save_figure(draw(self), out / name)))
+        if self.birthplace is not None:
+            paths += self.birthplace.write_products(out)
         return paths

@@ -245,6 +245,10 @@ def schedule_of(campaign):
     """The ``[campaign] schedule`` name, checked (InputError naming the key otherwise)."""
     name = campaign.get("schedule") or "even"
     name = str(name).strip().lower()
+    if name == "birthplace":
+        raise InputError("[campaign] schedule", "'birthplace' is chosen by the birthplace forecast: use kinage "
+                         "forecast --birthplace, kinage.forecast(..., birthplace=True) or [campaign] "
+                         "birthplace_forecast = true")
     if name not in SCHEDULES:
         raise InputError("[campaign] schedule", f"expected one of {', '.join(repr(n) for n in SCHEDULES)} "
                          f"(got {campaign.get('schedule')!r})")

@@ -37,6 +37,7 @@ LAYERS = [
     ("display", ("kinage.display", "kinage._results")),
     ("stages", ("kinage.timing", "kinage.astrometry", "kinage.kinematics", "kinage.associations", "kinage.orbits",
                 "kinage.ages")),
+    ("campaign", ("kinage.campaign",)),  # joins timing and orbits: what a campaign does to the birthplace answer
     ("report", ("kinage.report",)),
     ("pipeline", ("kinage.pipeline",)),
     ("front", ("kinage.api", "kinage.api_scenario", "kinage.commands", "kinage.batch", "kinage.demo")),
