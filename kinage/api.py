@@ -553,7 +553,7 @@ def run(scenario, out_dir, *, seed=None, samples=None, progress=False, report=Tr
 
     scn = as_scenario(scenario)
     out_dir = check_output_dir(out_dir, "out_dir")  # a file in the way is an InputError naming out_dir, not an OSError
-    check_replaceable(out_dir, "out_dir")
+    check_replaceable(out_dir, "out_dir", inputs=scn.input_files())
     result, raised = _catching(run_pipeline, KinageWarning, scn, out_dir, stacklevel=4, seed=seed, samples=samples,
                                progress=progress, report=report, products=products, log=log or logger.info)
     for stage, res in result.stages.items():

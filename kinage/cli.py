@@ -115,6 +115,9 @@ def build_parser():
     p = verb("run")
     p.add_argument("scenario", type=Path, help="scenario file")
     p.add_argument("--samples", type=int, metavar="N", help="Monte Carlo draws of the star for tracing")
+    p.add_argument("--force", action="store_true",
+                   help="--out may hold files kinage did not write: keep them and write the results beside them "
+                        "(only an earlier run's own files are replaced; nothing else is deleted)")
     _common(p)
 
     p = verb("demo")

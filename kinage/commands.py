@@ -31,7 +31,8 @@ def _finish(args, result, scenario, verb, seed=None, extra_files=()):
         from .io.rundir import output_lock, staged_files
 
         # one writer at a time per folder (the lock), and an interrupted write leaves --out as it was
-        with output_lock(args.out), staged_files(args.out) as work:
+        inputs = list(scenario.input_files()) + [Path(f) for f in extra_files if f is not None]
+        with output_lock(args.out), staged_files(args.out, verb=verb, inputs=inputs) as work:
             files = result.write_products(work)
         _say(args, f"wrote {len(files)} files to {args.out}")
     if getattr(args, "json", None):
@@ -210,7 +211,7 @@ def _run_and_report(args, scenario, out):
 
     t0 = time.perf_counter()
     run = run_pipeline(scenario, out, seed=args.seed, samples=getattr(args, "samples", None),
-                       progress=_progress(args), log=lambda line: _say(args, line))
+                       progress=_progress(args), log=lambda line: _say(args, line), force=getattr(args, "force", False))
     if getattr(args, "json", None):
         run.write_json(args.json)
     _say(args, f"finished in {time.perf_counter() - t0:.1f} s; report: {Path(out) / 'report.html'}")

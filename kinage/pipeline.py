@@ -240,7 +240,7 @@ def scenario_seed(scenario, seed=None):
 
 
 def run_pipeline(scenario, out_dir, *, seed=None, samples=None, progress=False, report=True, products=True,
-                 log=None, isolate=True):
+                 log=None, isolate=True, force=False):
     """Run every stage the scenario asks for and write results, figures and a report.
 
     Parameters
@@ -266,7 +266,13 @@ def run_pipeline(scenario, out_dir, *, seed=None, samples=None, progress=False, 
         completes (a failed stage completes the run; results.json names it).
         An interrupted run leaves the previous ``out_dir`` untouched.
         ``False`` writes straight into ``out_dir`` (batch tasks, which stage
-        each star themselves).
+        each star themselves).  Only files an earlier run wrote are replaced
+        (the folder's manifest, :mod:`kinage.io.ownership`); a folder holding
+        anything else (a user's files, another verb's results, the run's own
+        inputs) is refused with an InputError naming them, unless ``force``.
+    force : bool
+        Write the results beside what kinage did not write in ``out_dir``,
+        keeping it (inputs are never deleted).
 
     Returns
     -------
@@ -287,8 +293,9 @@ def run_pipeline(scenario, out_dir, *, seed=None, samples=None, progress=False, 
                          products=products, log=log)
     from .io.rundir import check_replaceable, output_lock, staged_folder
 
-    check_replaceable(out_dir)
-    with output_lock(out_dir), staged_folder(out_dir) as work:
+    own_inputs = scenario.input_files()
+    check_replaceable(out_dir, inputs=own_inputs, force=force)
+    with output_lock(out_dir), staged_folder(out_dir, inputs=own_inputs, force=force) as work:
         run = _run_into(scenario, work, inputs, seed=seed, samples=samples, progress=progress, report=report,
                         products=products, log=log)
     final = Path(out_dir).absolute()
