@@ -186,9 +186,13 @@ def read_associations(path):
     path = Path(path)
     if not path.is_file():
         raise InputError("[trace] associations", f"file not found: {path}")
+    from ..io.readonce import read_input, table_source
+
     fmt = "ascii.ecsv" if path.suffix.lower() == ".ecsv" else "ascii.csv"
+    # read once (rows counted while reading: a huge file is refused before parsing); its hash is recorded
+    data = read_input(path, str(path.name), max_rows=_MAX_ROWS, what="associations")
     try:
-        table = Table.read(path, format=fmt)
+        table = Table.read(table_source(data), format=fmt)
     except Exception as exc:  # noqa: BLE001 - any parse error becomes an input error
         raise InputError(str(path.name), f"could not read as {fmt.split('.')[1].upper()} ({exc})") from None
     return associations_from_table(table, source=path.name)

@@ -58,8 +58,11 @@ def read_star_rows(path):
     path = Path(path)
     if not path.is_file():
         raise InputError("stars table", f"file not found: {path}")
+    from ..io.readonce import read_input, table_source
+
+    data = read_input(path, f"stars table {path.name}")  # read once; the hash of these bytes is recorded
     try:
-        tab = Table.read(path, format="ascii.ecsv" if path.suffix.lower() == ".ecsv" else "ascii.csv")
+        tab = Table.read(table_source(data), format="ascii.ecsv" if path.suffix.lower() == ".ecsv" else "ascii.csv")
     except Exception as exc:  # noqa: BLE001 - any reader failure is an input problem
         raise InputError(f"stars table {path.name}", f"cannot read it as ECSV/CSV ({exc})") from None
     if "name" not in tab.colnames:
