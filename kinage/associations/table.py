@@ -194,7 +194,9 @@ def read_associations(path):
     try:
         table = Table.read(table_source(data), format=fmt)
     except Exception as exc:  # noqa: BLE001 - any parse error becomes an input error
-        raise InputError(str(path.name), f"could not read as {fmt.split('.')[1].upper()} ({exc})") from None
+        from ..io.readonce import parse_problem
+
+        raise InputError(str(path.name), f"could not read as {fmt.split('.')[1].upper()} ({parse_problem(exc)})") from None
     return associations_from_table(table, source=path.name)
 
 

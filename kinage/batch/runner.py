@@ -243,8 +243,11 @@ def _client(scheduler=None, workers=2):
 
         if not 1 <= workers <= max_workers():
             raise InputError("--workers", f"must be from 1 to {max_workers()} (got {workers})")
-        cluster = LocalCluster(n_workers=workers, threads_per_worker=1, processes=True, dashboard_address=None,
-                               silence_logs=logging.ERROR)
+        # no dashboard; the scheduler's small HTTP server (status routes, no authentication) listens on this
+        # machine only, on a free port, never on every interface at :8787
+        cluster = LocalCluster(n_workers=workers, threads_per_worker=1, processes=True, host="127.0.0.1",
+                               dashboard_address=None, silence_logs=logging.ERROR,
+                               scheduler_kwargs={"dashboard": False, "dashboard_address": "127.0.0.1:0"})
         client = Client(cluster)
     try:
         yield client

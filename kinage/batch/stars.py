@@ -42,6 +42,12 @@ def safe_name(name):
     return s or "star"
 
 
+def _shown(names):
+    from ..io.readonce import shown_columns
+
+    return shown_columns(names)
+
+
 def read_star_rows(path):
     """Read the star table into a list of ``{key: value}`` dicts (raw scenario values).
 
@@ -64,13 +70,16 @@ def read_star_rows(path):
     try:
         tab = Table.read(table_source(data), format="ascii.ecsv" if path.suffix.lower() == ".ecsv" else "ascii.csv")
     except Exception as exc:  # noqa: BLE001 - any reader failure is an input problem
-        raise InputError(f"stars table {path.name}", f"cannot read it as ECSV/CSV ({exc})") from None
+        from ..io.readonce import parse_problem
+
+        raise InputError(f"stars table {path.name}", f"cannot read it as ECSV/CSV ({parse_problem(exc)})") from None
     if "name" not in tab.colnames:
         raise InputError(f"stars table {path.name}", "needs a 'name' column")
     unknown = [c for c in tab.colnames if c not in _STAR_COLUMNS]
     if unknown:
         raise InputError(f"stars table {path.name}",
-                         f"unknown columns {unknown}; columns are named like [star] keys (see 'kinage keys star')")
+                         f"unknown columns ({_shown(unknown)}); columns are named like [star] keys (see 'kinage "
+                         "keys star')")
     if len(tab) == 0:
         raise InputError(f"stars table {path.name}", "the table has no rows (one row per star)")
     _check_column_units(tab, path.name)

@@ -29,9 +29,12 @@ _BYTES_PER_POINT = 6 * 8 * 4  # 6 phase-space floats, float64, ~4 working copies
 CGROUP_MEMORY_FILES = ("/sys/fs/cgroup/memory.max", "/sys/fs/cgroup/memory/memory.limit_in_bytes")
 
 
-def cgroup_memory_bytes(files=CGROUP_MEMORY_FILES):
-    """The container's memory limit from its cgroup, bytes (None when there is none: 'max' or absurdly large)."""
-    for f in files:
+def cgroup_memory_bytes(files=None):
+    """The container's memory limit from its cgroup, bytes (None when there is none: 'max' or absurdly large).
+
+    ``files``: the cgroup files to read (default :data:`CGROUP_MEMORY_FILES`).
+    """
+    for f in (CGROUP_MEMORY_FILES if files is None else files):
         try:
             with open(f, encoding="ascii") as fh:
                 text = fh.read().strip()

@@ -11,11 +11,12 @@ the content the run used.
 import hashlib
 import io
 import os
+import re
 import threading
 
 from ..errors import InputError
 
-__all__ = ["read_input", "recorded_sha256", "record_sha256", "table_source"]
+__all__ = ["read_input", "recorded_sha256", "record_sha256", "table_source", "shown_columns", "parse_problem"]
 
 _BLOCK = 1 << 20
 _LOCK = threading.Lock()
@@ -93,3 +94,36 @@ def _data_lines(block, at_line_start):
 def table_source(data):
     """A binary stream over ``data`` for astropy's table readers (``Table.read(table_source(data), format=...)``)."""
     return io.BytesIO(data)
+
+
+_NAME = re.compile(r"^[A-Za-z_][A-Za-z0-9_ .()/-]{0,40}$")
+
+
+def shown_columns(names, limit=12):
+    """Column names for a message, or words saying they are not shown.
+
+    A file that is not a table at all (a link to some other file) must not have
+    its first line echoed into a message: names are shown only when every one
+    looks like a column name.
+    """
+    names = [str(n) for n in names]
+    if not names:
+        return "none"
+    if not all(_NAME.match(n) for n in names):
+        return "the first line does not look like column names; not shown"
+    return ", ".join(names[:limit]) + (", ..." if len(names) > limit else "")
+
+
+def parse_problem(exc, limit=160):
+    """A table reader's complaint without the file's content.
+
+    astropy's messages may append the offending lines (``Header values: [...]
+    Data values: [...]``); only the complaint itself is kept, cut at ``limit``
+    characters.
+    """
+    text = " ".join(str(exc).split())
+    for marker in (" Header values:", " Data values:", " Line:", " line:"):
+        if marker in text:
+            text = text.split(marker)[0]
+    text = re.sub(r"'[^']{40,}'|\"[^\"]{40,}\"", "'...'", text)
+    return text if len(text) <= limit else text[:limit].rstrip() + " ..."

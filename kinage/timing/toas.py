@@ -96,7 +96,9 @@ def read_toas(path):
     except Exception as exc:  # noqa: BLE001 - any parse failure is an input problem
         if path.suffix.lower() == ".ecsv":
             _locate_ecsv_problem(data, where)  # a row and column when the data lines show one
-        raise InputError(where, f"could not read the TOA table ({exc})") from None
+        from ..io.readonce import parse_problem
+
+        raise InputError(where, f"could not read the TOA table ({parse_problem(exc)})") from None
     return validate_toas(tab, where)
 
 
@@ -118,7 +120,9 @@ def validate_toas(tab, where="TOA table"):
     """Validate a TOA table and return it in canonical form (see :func:`read_toas`)."""
     for col in ("mjd", "error"):
         if col not in tab.colnames:
-            raise InputError(where, f"missing column '{col}' (columns found: {', '.join(tab.colnames) or 'none'})")
+            from ..io.readonce import shown_columns
+
+            raise InputError(where, f"missing column '{col}' (columns found: {shown_columns(tab.colnames)})")
     if len(tab) == 0:
         raise InputError(where, "the table has no rows")
     scale = str(tab.meta.get("time_scale", "tdb")).lower()
