@@ -365,7 +365,6 @@ def record_inputs(plan, say):
 
 def _run_batch_locked(args, plan, as_completed, write_summary):
     say = (lambda s: None) if args.quiet else print
-    record_inputs(plan, say)
     previous = signal.signal(signal.SIGTERM, _sigterm_as_interrupt)
     records = list(plan.done)
     timing = {"n_run": len(plan.todo), "workers": None if args.scheduler else args.workers}
@@ -373,10 +372,12 @@ def _run_batch_locked(args, plan, as_completed, write_summary):
     try:
         if not plan.todo:
             prepare_folders(plan.out_dir)
+            record_inputs(plan, say)
             say(f"{len(plan.done)} stars: {len(plan.done)} already done, 0 to run")
         if plan.todo:
             with _client(args.scheduler, args.workers) as client:
                 prepare_folders(plan.out_dir)  # only once the cluster answers
+                record_inputs(plan, say)
                 say(f"{len(plan.done) + len(plan.todo)} stars: {len(plan.done)} already done, "
                     f"{len(plan.todo)} to run")
                 t_submit = time.perf_counter()
