@@ -535,7 +535,8 @@ def compare_ages(scenario, trace_result=None, *, trace=None, kinematic_age=None,
                   **kwargs)
 
 
-def run(scenario, out_dir, *, seed=None, samples=None, progress=False, report=True, products=True, log=None):
+def run(scenario, out_dir, *, seed=None, samples=None, progress=False, report=True, products=True, log=None,
+        force=False):
     """Run every stage the scenario asks for and write results, figures and a report.
 
     Parameters
@@ -552,6 +553,10 @@ def run(scenario, out_dir, *, seed=None, samples=None, progress=False, report=Tr
         Write the report / each stage's tables and figures.
     log : callable, optional
         Called with one line per stage (default: the ``kinage`` logger).
+    force : bool
+        ``out_dir`` may hold files kinage did not write (notes, other results,
+        the inputs): keep them and write the results beside them.  Without it
+        such a folder is an InputError naming them.
 
     Returns
     -------
@@ -566,9 +571,10 @@ def run(scenario, out_dir, *, seed=None, samples=None, progress=False, report=Tr
 
     scn = as_scenario(scenario)
     out_dir = check_output_dir(out_dir, "out_dir")  # a file in the way is an InputError naming out_dir, not an OSError
-    check_replaceable(out_dir, "out_dir", inputs=scn.input_files())
+    check_replaceable(out_dir, "out_dir", inputs=scn.input_files(), force=force)
     result, raised = _catching(run_pipeline, KinageWarning, scn, out_dir, stacklevel=4, seed=seed, samples=samples,
-                               progress=progress, report=report, products=products, log=log or logger.info)
+                               progress=progress, report=report, products=products, log=log or logger.info,
+                               force=force)
     for stage, res in result.stages.items():
         category = {"forecast": ForecastWarning, "fit": FitWarning, "trace": TraceWarning,
                     "ages": AgesWarning}.get(stage, KinageWarning)

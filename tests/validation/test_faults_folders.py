@@ -176,3 +176,44 @@ def test_single_stage_out_keeps_user_files_and_refuses_a_clash(tmp_path, capsys,
     status, _, err = run_cli([verb, scn, "--out", out, "--quiet"], capsys)
     assert_one_line_error(status, err, "--out", "kinage did not write", written[0].split("/")[0])
     assert _snapshot(out) == before
+
+
+def test_results_record_the_hash_of_the_table_the_run_read(tmp_path, capsys, monkeypatch):
+    import hashlib
+    import json
+
+    scn = write_case(tmp_path / "in", scenario_dict(tables=("trace",), trace={"samples": 30,
+                                                                               "association_samples": 5}))
+    assoc = tmp_path / "in" / "associations.ecsv"
+    used = hashlib.sha256(assoc.read_bytes()).hexdigest()
+    import kinage.pipeline as pipeline
+
+    real = pipeline.run_stage
+
+    def changed_on_disk(name, *a, **k):  # someone edits the table after kinage read it
+        lines = assoc.read_text().splitlines()
+        assoc.write_text("\n".join(lines[:-1]) + "\n")
+        return real(name, *a, **k)
+
+    monkeypatch.setattr(pipeline, "run_stage", changed_on_disk)
+    out = tmp_path / "out"
+    status, _, err = run_cli(["run", scn, "--out", out, "--quiet"], capsys)
+    assert status == 0, err
+    data = json.loads((out / "results.json").read_text())
+    recorded = {Path(k).name: v for k, v in data["provenance"]["input_sha256"].items()}
+    assert recorded["associations.ecsv"] == used != hashlib.sha256(assoc.read_bytes()).hexdigest()
+    assert len(data["trace"]["associations"]) == 8  # the content read, all 8 demo associations
+
+
+def test_python_run_force_keeps_user_files(tmp_path):
+    import kinage
+
+    scn, out = _star_only(tmp_path / "in"), tmp_path / "out"
+    kinage.run(scn, out)
+    (out / "notes.txt").write_text("mine\n")
+    from kinage.errors import InputError
+
+    with pytest.raises(InputError, match="notes.txt"):
+        kinage.run(scn, out)
+    kinage.run(scn, out, force=True)
+    assert (out / "notes.txt").read_text() == "mine\n"
