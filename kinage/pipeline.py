@@ -287,16 +287,16 @@ def run_pipeline(scenario, out_dir, *, seed=None, samples=None, progress=False, 
     samples = check_samples(samples)
     out_dir = expand_path(out_dir, "out_dir")  # a path (not a number or None), ~ expanded
     inputs = preflight(scenario, samples=samples)  # a bad table stops the run here, before any stage or output
-    from .io.faults import check_free_space, run_output_bytes
-
-    trace_draws = (samples or scenario.trace.get("samples") or 2000) if scenario.trace is not None else 0
-    check_free_space(out_dir, run_output_bytes(len(plan_stages(scenario)), trace_draws,
-                                               len(inputs.get("associations") or ())))
     if not isolate:
         out_dir.mkdir(parents=True, exist_ok=True)
         return _run_into(scenario, out_dir, inputs, seed=seed, samples=samples, progress=progress, report=report,
                          products=products, log=log)
+    from .io.faults import check_free_space, run_output_bytes
     from .io.rundir import check_replaceable, output_lock, staged_folder
+
+    trace_draws = (samples or scenario.trace.get("samples") or 2000) if scenario.trace is not None else 0
+    check_free_space(out_dir, run_output_bytes(len(plan_stages(scenario)), trace_draws,
+                                               len(inputs.get("associations") or ())))  # before any stage runs
 
     own_inputs = scenario.input_files()
     check_replaceable(out_dir, inputs=own_inputs, force=force)

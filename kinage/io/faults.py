@@ -45,7 +45,8 @@ def output_error(exc, where=None):
     return OutputError(place, f"{what}; {todo} (nothing incomplete was kept)", errno=exc.errno)
 
 
-#: what a run writes without a trace, bytes (results.json, reports, figures: measured ~1-3 MB; generous)
+#: what a run of four stages writes besides the trace's draws, bytes (an upper bound: forecast + trace with 2,000
+#: draws x 8 associations + ages, with the report, measured 2.2 MB in all on 2026-12-05)
 _BASE_BYTES = 10e6
 #: per draw and association in the trace's tables (float64 columns: distance, time, flags), bytes
 _TRACE_BYTES_PER_DRAW_ASSOC = 40

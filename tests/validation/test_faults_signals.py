@@ -15,6 +15,8 @@ import textwrap
 import time
 from pathlib import Path
 
+import pytest
+
 from .conftest import files_under, scenario_dict, write_case
 
 ROOT = Path(__file__).resolve().parents[2]
@@ -122,3 +124,30 @@ def test_sigint_after_the_integration_stops_the_run_and_keeps_previous_results(t
     assert proc.returncode == 130, err
     assert "interrupted" in err and "Traceback" not in err
     assert _snapshot(out) == before
+
+
+@pytest.mark.slow
+def test_one_ctrl_c_during_a_long_trace_stops_it(tmp_path):
+    scn = write_case(tmp_path / "in", scenario_dict(tables=("trace",), trace={
+        "samples": 4000, "control_runs": 2, "max_age": "400 Myr", "association_samples": 100}))
+    out = tmp_path / "out"
+    proc = subprocess.Popen([sys.executable, "-m", "kinage", "run", str(scn), "--out", str(out), "--quiet"],
+                            stdout=subprocess.PIPE, stderr=subprocess.PIPE, text=True,
+                            env=dict(_env(), OMP_NUM_THREADS="2"), cwd=tmp_path)
+    try:
+        t0 = time.time()
+        while not list(tmp_path.glob(".out.staging-*")):  # the run has started (the trace integrates next)
+            assert proc.poll() is None, proc.communicate()
+            assert time.time() - t0 < 120
+            time.sleep(0.2)
+        time.sleep(3.0)
+        t1 = time.time()
+        proc.send_signal(signal.SIGINT)
+        _, err = proc.communicate(timeout=120)
+    finally:
+        if proc.poll() is None:
+            proc.kill()
+    assert proc.returncode == 130, err
+    assert time.time() - t1 < 30, "a single Ctrl-C took too long"
+    assert "interrupted" in err and "Traceback" not in err
+    assert not out.exists()
