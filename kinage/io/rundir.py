@@ -189,6 +189,13 @@ def _merge(staging, folder, verb, inputs):
     shutil.rmtree(staging, ignore_errors=True)
 
 
+def _is_cwd(folder):
+    try:
+        return os.path.samefile(folder, os.getcwd())
+    except OSError:
+        return False
+
+
 @contextlib.contextmanager
 def staged_folder(folder, *, verb="run", inputs=(), force=False, where="--out"):
     """Yield a fresh staging folder whose results replace ``folder``'s when the block ends normally.
@@ -216,8 +223,8 @@ def staged_folder(folder, *, verb="run", inputs=(), force=False, where="--out"):
     try:
         yield staging
         write_manifest(staging, manifest_entries(staging, verb))
-        if folder.is_dir() and foreign_entries(folder, verb, inputs):
-            _merge(staging, folder, verb, inputs)
+        if folder.is_dir() and (foreign_entries(folder, verb, inputs) or _is_cwd(folder)):
+            _merge(staging, folder, verb, inputs)  # (the working folder itself is never renamed away)
         else:
             _swap(staging, folder)
     except BaseException:

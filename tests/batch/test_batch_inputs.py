@@ -70,3 +70,21 @@ def test_rerun_with_a_smaller_star_table_says_so_and_lists_only_its_stars(tmp_pa
     assert json.loads((out / "batch.json").read_text())["n_stars"] == 2
     recorded = json.loads((out / "batch-inputs.json").read_text())
     assert recorded["complete"] and recorded["settings"]["stars_table"]["rows"] == 2
+
+
+def test_a_full_disk_while_a_star_is_written_leaves_no_temporary_folder(tmp_path, monkeypatch):
+    import errno
+
+    import kinage.batch.runner as runner
+
+    stars, template = _inputs(tmp_path / "in", 1)
+    plan = runner.plan_batch(stars, template, tmp_path / "out")
+    (tmp_path / "out" / "stars").mkdir(parents=True)
+
+    def full(path, data):  # POSIX ENOSPC, errno(3)
+        raise OSError(errno.ENOSPC, "No space left on device")
+
+    monkeypatch.setattr(runner, "atomic_write", full)
+    rec = runner.run_one_star(**plan.todo[0])
+    assert rec["status"] == "failed" and rec["disk_errno"] == errno.ENOSPC
+    assert list((tmp_path / "out" / "stars").iterdir()) == []  # no .tmp-* folder left filling the disk

@@ -217,3 +217,16 @@ def test_python_run_force_keeps_user_files(tmp_path):
         kinage.run(scn, out)
     kinage.run(scn, out, force=True)
     assert (out / "notes.txt").read_text() == "mine\n"
+
+
+def test_out_dot_never_renames_the_working_folder(tmp_path, capsys, monkeypatch):
+    scn = _star_only(tmp_path / "in")
+    work = tmp_path / "work"
+    work.mkdir()
+    monkeypatch.chdir(work)
+    inode = os.stat(work).st_ino
+    for seed in ("1", "2"):
+        status, _, err = run_cli(["run", scn, "--out", ".", "--quiet", "--seed", seed], capsys)
+        assert status == 0, err
+        assert os.stat(work).st_ino == inode  # the shell's working folder is still this folder
+        assert f'"seed": {seed}' in (work / "results.json").read_text()
