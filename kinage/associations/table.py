@@ -196,7 +196,8 @@ def read_associations(path):
     except Exception as exc:  # noqa: BLE001 - any parse error becomes an input error
         from ..io.readonce import parse_problem
 
-        raise InputError(str(path.name), f"could not read as {fmt.split('.')[1].upper()} ({parse_problem(exc)})") from None
+        kind = fmt.split(".")[1].upper()
+        raise InputError(str(path.name), f"could not read as {kind} ({parse_problem(exc)})") from None
     return associations_from_table(table, source=path.name)
 
 

@@ -31,7 +31,8 @@ from ..errors import InputError
 from ..io.schema import SCHEMA
 from ..io.scenario import file_sha256, scenario_from_dict
 
-__all__ = ["read_star_rows", "load_template", "star_scenario", "star_input_hash", "template_file_hashes", "safe_name", "star_seed"]
+__all__ = ["read_star_rows", "load_template", "star_scenario", "star_input_hash", "template_file_hashes", "safe_name",
+           "star_seed"]
 
 _STAR_COLUMNS = set(SCHEMA["star"]) | {f"{k}_error" for k, v in SCHEMA["star"].items() if v.error}
 

@@ -37,7 +37,8 @@ def test_completed_run_replaces_previous_results_as_a_whole(tmp_path, capsys):
     from kinage.io.ownership import manifest_entries, read_manifest, write_manifest
 
     # as if the earlier run had written it: listed in the folder's manifest
-    write_manifest(out, {**read_manifest(out), **manifest_entries(out, "run", [out / "forecast" / "stale_from_old_run.png"])})
+    stale = out / "forecast" / "stale_from_old_run.png"
+    write_manifest(out, {**read_manifest(out), **manifest_entries(out, "run", [stale])})
     status, _, err = run_cli(["run", _star_only(tmp_path), "--out", out, "--quiet"], capsys)
     assert status == 0, err
     assert not (out / "forecast").exists()
