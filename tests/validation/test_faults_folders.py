@@ -230,3 +230,20 @@ def test_out_dot_never_renames_the_working_folder(tmp_path, capsys, monkeypatch)
         assert status == 0, err
         assert os.stat(work).st_ino == inode  # the shell's working folder is still this folder
         assert f'"seed": {seed}' in (work / "results.json").read_text()
+
+
+def test_a_folder_of_the_previous_version_keeps_the_users_files(tmp_path, capsys):
+    # kinage 0.2 marked its run folders with an empty '.kinage-run' file and kept no manifest
+    scn = _star_only(tmp_path / "in")
+    out = tmp_path / "out"
+    (out / "trace").mkdir(parents=True)
+    for name in (".kinage-run", "results.json", "report.md", "trace/summary.ecsv"):
+        (out / name).write_text("old\n")
+    (out / "notes.txt").write_text("mine\n")
+    status, _, err = run_cli(["run", scn, "--out", out, "--quiet"], capsys)
+    line = assert_one_line_error(status, err, "--out", "notes.txt")
+    assert "results.json" not in line and "trace/" not in line
+    (out / "notes.txt").unlink()
+    status, _, err = run_cli(["run", scn, "--out", out, "--quiet"], capsys)
+    assert status == 0, err
+    assert (out / "results.json").read_text() != "old\n" and not (out / "trace").exists()
