@@ -78,8 +78,8 @@ def _limit_words():
     return "half this machine's RAM, at most 16 GB"
 
 
-#: peak memory of a timing fit per TOA, bytes: 6,000,000 TOAs peaked at 8.9 GB (measured on the development
-#: machine, 2026-12), i.e. ~1.5 kB per TOA (times in double-double, observer geometry, design matrix, residuals)
+#: peak memory of a timing fit per TOA, bytes: a fit of 6,000,000 TOAs peaked at 8.9 GB in the project's fault
+#: trial (2026-12), i.e. ~1.5 kB per TOA (times in double-double, observer geometry, design matrix, residuals)
 FIT_BYTES_PER_TOA = 1500
 
 

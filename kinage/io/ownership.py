@@ -8,9 +8,10 @@ other entry (a user's ``notes.txt`` or ``my_analysis/``, another verb's
 results, a file kinage wrote and the user edited since, the run's own input
 tables) is *foreign* and is never deleted.
 
-Folders written by kinage 0.2 hold only the marker file ``.kinage-run``;
-there the names ``kinage run`` writes (``results.json``, the reports and the
-stage folders) count as its own and everything else as foreign.
+Folders written by kinage 0.2 hold no manifest, only the marker file
+``.kinage-run`` (or, older still, just ``results.json``); there the names
+``kinage run`` writes (``results.json``, the reports and the stage folders)
+count as its own and everything else as foreign.
 """
 
 import hashlib
@@ -56,7 +57,7 @@ def read_manifest(folder):
         except (OSError, ValueError):
             pass
         return {}
-    if (folder / LEGACY_MARKER).is_file():
+    if (folder / LEGACY_MARKER).is_file() or (folder / "results.json").is_file():  # written before manifests
         out = {}
         for p in _walk(folder):
             rel = p.relative_to(folder)
