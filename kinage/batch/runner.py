@@ -202,6 +202,12 @@ def run_one_star(row, template_raw, base_dir, seed, samples, final_dir, input_ha
     except InputError as exc:
         record.update(status="failed", reason=f"input: {exc}", results=None)
     except Exception as exc:  # noqa: BLE001 - one bad star must not sink the batch
+        from ..io.faults import is_disk_fault
+
+        if is_disk_fault(exc):  # not the star's fault, and every further star would fail alike: stop the batch
+            shutil.rmtree(tmp, ignore_errors=True)
+            return {"name": row["name"], "status": "failed", "reason": f"{exc.strerror}: {final.parent}",
+                    "seed": seed, "input_hash": input_hash, "disk_errno": exc.errno}
         record.update(status="failed", reason=f"{type(exc).__name__}: {exc}", results=None)
     old = None
     try:

@@ -82,8 +82,9 @@ def output_lock(folder, where="--out"):
             break
         os.close(fd)
     try:
-        os.ftruncate(fd, 0)
-        os.write(fd, f"{os.getpid()}\n".encode())
+        with contextlib.suppress(OSError):  # the holder's id is for messages only (a full disk refuses it)
+            os.ftruncate(fd, 0)
+            os.write(fd, f"{os.getpid()}\n".encode())
         yield folder
     finally:
         with contextlib.suppress(OSError):
