@@ -68,7 +68,7 @@ import kinage.pipeline as pipeline
 from kinage.cli import main
 real = pipeline.run_stage
 def run_stage(name, *a, **k):
-    time.sleep(1.0)  # the reader has gone by now
+    time.sleep(0.5)  # the reader has gone by now
     return real(name, *a, **k)
 pipeline.run_stage = run_stage
 sys.exit(main(sys.argv[1:]))
