@@ -247,3 +247,18 @@ def test_a_folder_of_the_previous_version_keeps_the_users_files(tmp_path, capsys
     status, _, err = run_cli(["run", scn, "--out", out, "--quiet"], capsys)
     assert status == 0, err
     assert (out / "results.json").read_text() != "old\n" and not (out / "trace").exists()
+
+
+def test_demo_never_overwrites_a_users_file(tmp_path, capsys):
+    from kinage.demo import copy_case, get_case
+
+    out = tmp_path / "project"
+    out.mkdir()
+    (out / "README.md").write_text("my project\n")
+    status, _, err = run_cli(["demo", "--out", out, "--quiet"], capsys)
+    assert_one_line_error(status, err, "--out", "README.md")
+    assert files_under(out) == ["README.md"] and (out / "README.md").read_text() == "my project\n"
+    fresh = tmp_path / "fresh"
+    copy_case(get_case(None), fresh)
+    copy_case(get_case(None), fresh)  # its own copies may be copied again
+    assert (fresh / ".kinage-manifest.json").is_file()
