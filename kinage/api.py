@@ -24,6 +24,7 @@ Examples
 <Quantity 0.6271 s>
 """
 
+import threading
 from pathlib import Path
 
 from .api_scenario import (_associations, _table_input, as_scenario, load_scenario, scenario_from_dict,
@@ -73,6 +74,10 @@ def _stage(func, category, *args, **kwargs):
     return _warn(result, category, raised)
 
 
+#: held while a front door records warnings (see :func:`_catching`); re-entrant for nested front doors
+_WARNINGS_LOCK = threading.RLock()
+
+
 def _catching(func, category, *args, stacklevel=5, **kwargs):
     """``func(*args, **kwargs)`` and the texts of the warnings it raised (re-raised as described in :func:`_stage`).
 
@@ -82,7 +87,9 @@ def _catching(func, category, *args, stacklevel=5, **kwargs):
     import warnings
 
     root = str(Path(__file__).resolve().parent)
-    with warnings.catch_warnings(record=True) as caught:
+    # catch_warnings swaps the process-wide warnings.showwarning and filters: two threads inside it at once
+    # restore each other's copies in the wrong order and leave the user's warnings hidden; one at a time
+    with _WARNINGS_LOCK, warnings.catch_warnings(record=True) as caught:
         warnings.simplefilter("always")
         result = func(*args, **kwargs)
     raised = []
@@ -268,6 +275,9 @@ def trace(scenario, associations=None, *, solution=None, rng=None, samples=None,
         association_columns = parse_column_map(association_columns, REQUIRED + OPTIONAL, "association_columns")
     scn, table = _with_associations(as_scenario(scenario), associations, association_columns)
     check_resources(scn, samples=samples, n_associations=len(table), samples_name="samples")  # before any work
+    if solution is not None and not hasattr(solution, "covariance") and not hasattr(solution, "solution"):
+        raise InputError("solution", f"expected an AstrometricSolution or the result of kinage.fit (got "
+                                     f"{type(solution).__name__}); leave it out to use the [star] values")
     if solution is not None and hasattr(solution, "solution") and not hasattr(solution, "covariance"):
         solution = solution_for_trace(scn, solution)
     return _stage(_trace, TraceWarning, scn, solution=solution, rng=rng, samples=samples, potential=potential,
@@ -320,6 +330,9 @@ def compare_ages(scenario, trace_result=None, *, trace=None, kinematic_age=None,
         except (TypeError, ValueError):
             raise InputError(name, f"expected a time Quantity (scalar or array), or numbers in yr "
                              f"(got {type(kinematic_age).__name__})") from None
+        if samples.ndim > 1:  # a 2-D array would be flattened silently, mixing draws of different things
+            raise InputError(name, f"expected a scalar or a 1-D array of ages (got an array of shape "
+                                   f"{tuple(int(x) for x in samples.shape)})")
         if not np.any(np.isfinite(samples) & (samples > 0)):
             raise InputError(name, "expected at least one finite, positive age")
         label = kwargs.pop("kinematic_age_source", "given to kinage.compare_ages")
@@ -332,7 +345,8 @@ def compare_ages(scenario, trace_result=None, *, trace=None, kinematic_age=None,
                   **kwargs)
 
 
-def run(scenario, out_dir, *, seed=None, samples=None, progress=False, report=True, products=True, log=None):
+def run(scenario, out_dir, *, seed=None, samples=None, progress=False, report=True, products=True, log=None,
+        force=False):
     """Run every stage the scenario asks for and write results, figures and a report.
 
     Parameters
@@ -349,6 +363,10 @@ def run(scenario, out_dir, *, seed=None, samples=None, progress=False, report=Tr
         Write the report / each stage's tables and figures.
     log : callable, optional
         Called with one line per stage (default: the ``kinage`` logger).
+    force : bool
+        ``out_dir`` may hold files kinage did not write (notes, other results,
+        the inputs): keep them and write the results beside them.  Without it
+        such a folder is an InputError naming them.
 
     Returns
     -------
@@ -363,9 +381,10 @@ def run(scenario, out_dir, *, seed=None, samples=None, progress=False, report=Tr
 
     scn = as_scenario(scenario)
     out_dir = check_output_dir(out_dir, "out_dir")  # a file in the way is an InputError naming out_dir, not an OSError
-    check_replaceable(out_dir, "out_dir")
+    check_replaceable(out_dir, "out_dir", inputs=scn.input_files(), force=force)
     result, raised = _catching(run_pipeline, KinageWarning, scn, out_dir, stacklevel=4, seed=seed, samples=samples,
-                               progress=progress, report=report, products=products, log=log or logger.info)
+                               progress=progress, report=report, products=products, log=log or logger.info,
+                               force=force)
     for stage, res in result.stages.items():
         category = {"forecast": ForecastWarning, "fit": FitWarning, "trace": TraceWarning,
                     "ages": AgesWarning}.get(stage, KinageWarning)

@@ -145,7 +145,7 @@ def scenario_from_dict(mapping, base_dir=".", source=None, **kwargs):
             raw[table] = {}
             for name, value in content.items():
                 if table == "trace" and name == "associations" and _is_table(value):
-                    assoc = _associations(value)
+                    assoc = _associations(value, content.get("association_columns"))
                     raw[table][name] = _PLACEHOLDER
                     continue
                 base = name[:-len("_error")] if name.endswith("_error") and name not in keys else name

@@ -123,6 +123,9 @@ def build_parser():
     p = verb("run")
     p.add_argument("scenario", type=Path, help="scenario file")
     p.add_argument("--samples", type=int, metavar="N", help="Monte Carlo draws of the star for tracing")
+    p.add_argument("--force", action="store_true",
+                   help="--out may hold files kinage did not write: keep them and write the results beside them "
+                        "(only an earlier run's own files are replaced; nothing else is deleted)")
     _common(p, out_help="folder for results.json, tables, figures and the report (default: the scenario's "
                         "name + '-results' in the current folder, e.g. star-results/ for star.toml)")
 
@@ -166,12 +169,72 @@ def main(argv=None):
     set_quiet(getattr(args, "quiet", False) or not sys.stderr.isatty())
     from .interrupts import interrupt_guard
 
-    with interrupt_guard(f"kinage {args.verb}") as guard:  # SIGINT / SIGTERM: a message, complete files only
-        return _dispatch(args, guard)
+    with interrupt_guard(f"kinage {args.verb}") as guard, _closed_pipe_is_a_normal_end():
+        return _dispatch(args, guard)  # SIGINT / SIGTERM: a message, complete files only
+
+
+class _PipeSafe:
+    """Standard output that turns quiet when the reader goes away (``kinage run ... | head -1``).
+
+    A closed pipe is a normal end for the reader, not a fault of the run: the
+    run goes on writing its results, and what it would have printed is dropped.
+    """
+
+    def __init__(self, stream):
+        self._stream = stream
+        self.closed_pipe = False
+
+    def _drop(self):
+        import os
+
+        self.closed_pipe = True
+        try:  # later writes, and Python's own flush at exit, go nowhere instead of failing again
+            fd = os.open(os.devnull, os.O_WRONLY)
+            os.dup2(fd, self._stream.fileno())
+            os.close(fd)
+        except (OSError, ValueError, AttributeError):
+            pass
+
+    def write(self, text):
+        if self.closed_pipe:
+            return len(text)
+        try:
+            return self._stream.write(text)
+        except BrokenPipeError:
+            self._drop()
+            return len(text)
+
+    def flush(self):
+        if self.closed_pipe:
+            return
+        try:
+            self._stream.flush()
+        except BrokenPipeError:
+            self._drop()
+
+    def __getattr__(self, name):
+        return getattr(self._stream, name)
+
+
+class _closed_pipe_is_a_normal_end:
+    """Context manager installing :class:`_PipeSafe` as ``sys.stdout`` while a verb runs."""
+
+    def __enter__(self):
+        self._saved = sys.stdout
+        if sys.stdout is not None and not isinstance(sys.stdout, _PipeSafe):
+            sys.stdout = _PipeSafe(sys.stdout)
+        return sys.stdout
+
+    def __exit__(self, *exc):
+        current = sys.stdout
+        if isinstance(current, _PipeSafe):
+            current.flush()
+        sys.stdout = self._saved
+        return False
 
 
 def _dispatch(args, guard):
-    from .errors import ConvergenceError, InputError, KinageError, StageError
+    from .errors import ConvergenceError, InputError, KinageError, OutputError, StageError
     from .interrupts import EXIT_SIGINT, EXIT_SIGTERM, Terminated
 
     try:
@@ -184,6 +247,9 @@ def _dispatch(args, guard):
         for line in _problem_lines(exc):
             print(f"kinage {args.verb}: error: {line}", file=sys.stderr)
         return 2
+    except OutputError as exc:  # full disk, quota, read-only file system: the folder and what to do
+        print(f"kinage {args.verb}: error: {' '.join(str(exc).split())}", file=sys.stderr)
+        return 1
     except (ConvergenceError, StageError, KinageError) as exc:
         print(f"kinage {args.verb}: failed: {exc}", file=sys.stderr)
         return 1
@@ -193,12 +259,24 @@ def _dispatch(args, guard):
         print(f"kinage {args.verb}: {how}; every file written is complete (unfinished work is discarded)",
               file=sys.stderr)
         return EXIT_SIGTERM if isinstance(exc, Terminated) else EXIT_SIGINT
-    except Exception as exc:  # noqa: BLE001
-        if getattr(args, "debug", False):
-            raise
-        print(f"kinage {args.verb}: unexpected error ({type(exc).__name__}: {exc}); "
-              "rerun with --debug for the traceback and please report it", file=sys.stderr)
+    except OSError as exc:
+        from .io.faults import is_disk_fault, output_error
+
+        if getattr(args, "debug", False) or not is_disk_fault(exc):
+            return _unexpected(args, exc)
+        print(f"kinage {args.verb}: error: {' '.join(str(output_error(exc)).split())}", file=sys.stderr)
         return 1
+    except Exception as exc:  # noqa: BLE001
+        return _unexpected(args, exc)
+
+
+def _unexpected(args, exc):
+    """An error kinage did not foresee: one line asking for a report (the traceback with --debug)."""
+    if getattr(args, "debug", False):
+        raise exc
+    print(f"kinage {args.verb}: unexpected error ({type(exc).__name__}: {exc}); "
+          "rerun with --debug for the traceback and please report it", file=sys.stderr)
+    return 1
 
 
 def _problem_lines(exc):

@@ -31,7 +31,8 @@ def _finish(args, result, scenario, verb, seed=None, extra_files=()):
         from .io.rundir import output_lock, staged_files
 
         # one writer at a time per folder (the lock), and an interrupted write leaves --out as it was
-        with output_lock(args.out), staged_files(args.out) as work:
+        inputs = list(scenario.input_files()) + [Path(f) for f in extra_files if f is not None]
+        with output_lock(args.out), staged_files(args.out, verb=verb, inputs=inputs) as work:
             files = result.write_products(work)
         _say(args, f"wrote {len(files)} files to {args.out}")
     if getattr(args, "json", None):
@@ -45,12 +46,32 @@ def _finish(args, result, scenario, verb, seed=None, extra_files=()):
     return 0
 
 
+def _outputs_not_inputs(args, scenario, extra=(), skip=()):
+    """``--json`` / ``--output`` must not be any input file (the scenario's tables included, links resolved)."""
+    from .io.options import check_outputs_not_inputs
+
+    inputs = {}
+    if scenario is not None:
+        for sec, key in (("campaign", "toas"), ("trace", "associations"), ("campaign", "pulse_shape")):
+            section = getattr(scenario, sec)
+            value = section.get(key) if section is not None else None
+            if isinstance(value, Path) and f"{sec}.{key}" not in skip:
+                inputs[f"[{sec}] {key}"] = value
+        if scenario.path is not None:
+            inputs["the scenario"] = scenario.path
+    for name, f in extra:
+        if f is not None:
+            inputs[name] = f
+    check_outputs_not_inputs(args, inputs)
+
+
 def _progress(args):
     return not getattr(args, "quiet", False)
 
 
 def cmd_forecast(args):
     scenario = load_scenario(args.scenario)
+    _outputs_not_inputs(args, scenario)
     _require_table(scenario, "campaign", "forecast")
     from .timing import forecast
 
@@ -118,6 +139,7 @@ def _schedule_table(result):
 def cmd_simulate(args):
     # the scenario may name the TOA table this command is about to write
     scenario = load_scenario(args.scenario, allow_missing=("campaign.toas",))
+    _outputs_not_inputs(args, scenario, skip=("campaign.toas",))  # simulate writes [campaign] toas
     _require_table(scenario, "campaign", "simulate")
     from .pipeline import scenario_seed
     from .timing import simulate_toas
@@ -128,6 +150,10 @@ def cmd_simulate(args):
         output = Path(args.out) / "toas.ecsv"
     if output is None:
         raise InputError("--output", "say where to write the TOA table (--output TOAS or --out DIR)")
+    if args.output is None:  # toas.ecsv in --out: not an input either
+        import argparse
+
+        _outputs_not_inputs(argparse.Namespace(output=output), scenario, skip=("campaign.toas",))
     result = simulate_toas(scenario, rng=seed)
     result.write(output)
     _say(args, f"wrote {len(result.table)} TOAs to {output}")
@@ -150,6 +176,7 @@ def cmd_fit(args):
                              "(or give it: kinage fit TOAS --scenario SCENARIO)")
         args.toas = Path(toas)
     scenario = load_scenario(args.scenario)
+    _outputs_not_inputs(args, scenario, extra=[("the TOA table", args.toas)])
     from .errors import ConvergenceError
     from .timing import fit_toas
 
@@ -167,6 +194,7 @@ def cmd_fit(args):
 
 def cmd_trace(args):
     scenario = load_scenario(args.scenario)
+    _outputs_not_inputs(args, scenario)
     _require_table(scenario, "trace", "trace")
     from .orbits import trace
     from .pipeline import scenario_seed, solution_for_trace, stage_seed
@@ -175,15 +203,20 @@ def cmd_trace(args):
         raise InputError("--samples", f"must be a positive whole number (got {args.samples})")
     from .io.limits import check_resources
 
-    check_resources(scenario, samples=args.samples)
+    from .associations import read_associations
+
+    table = read_associations(scenario.trace.associations,  # read once: sizes the check and feeds the trace
+                              columns=scenario.trace.get("association_columns"))
+    check_resources(scenario, samples=args.samples, n_associations=len(table))
     seed = scenario_seed(scenario, args.seed)
     result = trace(scenario, solution=solution_for_trace(scenario), rng=stage_seed(seed, "trace"),
-                   samples=args.samples, potential=args.potential, progress=_progress(args))
+                   samples=args.samples, potential=args.potential, progress=_progress(args), associations=table)
     return _finish(args, result, scenario, "trace", seed=seed)
 
 
 def cmd_ages(args):
     scenario = load_scenario(args.scenario)
+    _outputs_not_inputs(args, scenario, extra=[("--trace-json", getattr(args, "trace_json", None))])
     import numpy as np
 
     from .ages import compare_ages
@@ -236,6 +269,7 @@ def _ages_from_trace_json(path):
 
 def cmd_run(args):
     scenario = load_scenario(args.scenario)
+    _outputs_not_inputs(args, scenario)
     out = args.out or Path(args.scenario).with_suffix("").name + "-results"
     return _run_and_report(args, scenario, Path(out))
 
@@ -245,7 +279,7 @@ def _run_and_report(args, scenario, out):
 
     t0 = time.perf_counter()
     run = run_pipeline(scenario, out, seed=args.seed, samples=getattr(args, "samples", None),
-                       progress=_progress(args), log=lambda line: _say(args, line))
+                       progress=_progress(args), log=lambda line: _say(args, line), force=getattr(args, "force", False))
     if getattr(args, "json", None):
         run.write_json(args.json)
     from .report.document import QUESTIONS

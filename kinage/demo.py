@@ -13,7 +13,6 @@ Each case is a folder of invented data (made by ``scripts/make_demo.py``;
     a table of invented stars run by ``kinage batch`` with one template.
 """
 
-import shutil
 from dataclasses import dataclass
 from pathlib import Path
 
@@ -83,14 +82,28 @@ def list_lines():
 
 
 def copy_case(case, out_dir):
-    """Copy a case's files (plus the demo README) into ``out_dir``; returns the folder."""
+    """Copy a case's files (plus the demo README) into ``out_dir``; returns the folder.
+
+    A file of the same name that kinage did not put there (``out_dir``'s
+    manifest, :mod:`kinage.io.ownership`) and that differs from the demo's is
+    never overwritten: InputError naming it, before anything is copied.
+    """
+    from .io.ownership import foreign_entries, manifest_entries, read_manifest, shown_names, write_manifest
+    from .io.results import atomic_write
+
     src = demo_folder()
     out = Path(out_dir)
+    sources = {name: src / case.folder / name for name in case.files}
+    if (src / "README.md").is_file():
+        sources["README.md"] = src / "README.md"
+    foreign = set(foreign_entries(out, "demo")) if out.is_dir() else set()
+    clash = [name for name, f in sources.items()
+             if name in foreign and (out / name).exists() and (out / name).read_bytes() != f.read_bytes()]
+    if clash:
+        raise InputError("--out", f"{out} holds files kinage did not write where the demo's go: "
+                                  f"{shown_names(clash)}; choose another folder")
     out.mkdir(parents=True, exist_ok=True)
-    for name in case.files:
-        f = src / case.folder / name
-        shutil.copy2(f, out / name)
-    readme = src / "README.md"
-    if readme.is_file():
-        shutil.copy2(readme, out / "README.md")
+    for name, f in sources.items():
+        atomic_write(out / name, f.read_bytes())
+    write_manifest(out, {**read_manifest(out), **manifest_entries(out, "demo", [out / n for n in sources])})
     return out

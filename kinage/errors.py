@@ -16,6 +16,7 @@ __all__ = [
     "ModelRangeError",
     "ConvergenceError",
     "StageError",
+    "OutputError",
 ]
 
 
@@ -100,3 +101,23 @@ class StageError(KinageError, RuntimeError):
         self.stage = stage
         self.cause = cause
         super().__init__(f"stage '{stage}' failed: {cause}")
+
+
+class OutputError(KinageError, OSError):
+    """Results could not be written: a full disk, a quota, a read-only file system, a closed stream.
+
+    Parameters
+    ----------
+    where : str
+        The folder, file or stream (``"--out /data/run1"``, ``"standard output"``).
+    problem : str
+        What happened and what to do.
+    errno : int, optional
+        The operating system's error number.
+    """
+
+    def __init__(self, where, problem, errno=None):
+        self.where = plain_text(where)
+        self.problem = plain_text(problem)
+        super().__init__(f"{self.where}: {self.problem}")
+        self.errno = errno

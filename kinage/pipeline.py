@@ -281,7 +281,7 @@ def scenario_seed(scenario, seed=None):
 
 
 def run_pipeline(scenario, out_dir, *, seed=None, samples=None, progress=False, report=True, products=True,
-                 log=None, isolate=True):
+                 log=None, isolate=True, force=False):
     """Run every stage the scenario asks for and write results, figures and a report.
 
     Parameters
@@ -307,7 +307,13 @@ def run_pipeline(scenario, out_dir, *, seed=None, samples=None, progress=False, 
         completes (a failed stage completes the run; results.json names it).
         An interrupted run leaves the previous ``out_dir`` untouched.
         ``False`` writes straight into ``out_dir`` (batch tasks, which stage
-        each star themselves).
+        each star themselves).  Only files an earlier run wrote are replaced
+        (the folder's manifest, :mod:`kinage.io.ownership`); a folder holding
+        anything else (a user's files, another verb's results, the run's own
+        inputs) is refused with an InputError naming them, unless ``force``.
+    force : bool
+        Write the results beside what kinage did not write in ``out_dir``,
+        keeping it (inputs are never deleted).
 
     Returns
     -------
@@ -326,10 +332,16 @@ def run_pipeline(scenario, out_dir, *, seed=None, samples=None, progress=False, 
         out_dir.mkdir(parents=True, exist_ok=True)
         return _run_into(scenario, out_dir, inputs, seed=seed, samples=samples, progress=progress, report=report,
                          products=products, log=log)
+    from .io.faults import check_free_space, run_output_bytes
     from .io.rundir import check_replaceable, output_lock, staged_folder
 
-    check_replaceable(out_dir)
-    with output_lock(out_dir), staged_folder(out_dir) as work:
+    trace_draws = (samples or scenario.trace.get("samples") or 2000) if scenario.trace is not None else 0
+    check_free_space(out_dir, run_output_bytes(len(plan_stages(scenario)), trace_draws,
+                                               len(inputs.get("associations") or ())))  # before any stage runs
+
+    own_inputs = scenario.input_files()
+    check_replaceable(out_dir, inputs=own_inputs, force=force)
+    with output_lock(out_dir), staged_folder(out_dir, inputs=own_inputs, force=force) as work:
         run = _run_into(scenario, work, inputs, seed=seed, samples=samples, progress=progress, report=report,
                         products=products, log=log)
     final = Path(out_dir).absolute()

@@ -14,7 +14,7 @@ import numpy as np
 
 from ..display.protocol import ResultDisplay
 from .._units import quantity_edge
-from ..errors import ModelRangeError
+from ..errors import InputError, ModelRangeError
 from ..io.results import interval
 from .cooling_age import cooling_age, cooling_assumptions
 from .display import _adapt_ages_cooling, _adapt_ages_ladder, _ages_numbers, _ages_table
@@ -252,6 +252,9 @@ def compare_ages(scenario, *, kinematic_age_samples=None, kinematic_age_source=N
         star_structure(m, s.radius_km, where_mass="[ages] masses")
 
     # kinematic age ---------------------------------------------------------
+    if kinematic_age_samples is not None and np.ndim(kinematic_age_samples) > 1:
+        raise InputError("kinematic_age_samples", f"expected a 1-D array of ages (got an array of shape "
+                                                  f"{tuple(int(x) for x in np.shape(kinematic_age_samples))})")
     kin_d, kin_method = draw_kinematic_age(kinematic_age_samples, s, n, rng)
     if kinematic_age_samples is not None:
         kin_iv = interval(np.asarray(kinematic_age_samples, float)[np.asarray(kinematic_age_samples, float) > 0])

@@ -228,7 +228,8 @@ def read_associations(path, columns=None):
     path = Path(path)
     if not path.is_file():
         raise InputError("[trace] associations", f"file not found: {path}")
-    table, sha, _ = read_table(path, f"[trace] associations ({path.name})")
+    # read once (text rows counted while reading: a huge file is refused before parsing); its hash is recorded
+    table, sha, _ = read_table(path, str(path.name), max_rows=_MAX_ROWS, what="associations")
     result = associations_from_table(table, source=path.name, columns=columns)
     return AssociationTable(result.associations, result.source, sha)
 

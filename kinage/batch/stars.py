@@ -39,8 +39,8 @@ from ..errors import InputError
 from ..io.schema import SCHEMA
 from ..io.scenario import file_sha256, scenario_from_dict
 
-__all__ = ["read_star_rows", "load_template", "star_scenario", "star_input_hash", "safe_name", "star_seed",
-           "star_columns"]
+__all__ = ["read_star_rows", "load_template", "star_scenario", "star_input_hash", "template_file_hashes", "safe_name",
+           "star_seed", "star_columns"]
 
 #: where a batch template maps a star table's columns
 STAR_MAP_KEY = "[batch.star_columns]"
@@ -52,6 +52,12 @@ def safe_name(name):
     """A file-system-safe folder name for a star."""
     s = re.sub(r"[^A-Za-z0-9._+-]+", "_", str(name)).strip("._")
     return s or "star"
+
+
+def _shown(names):
+    from ..io.readonce import shown_columns
+
+    return shown_columns(names)
 
 
 def read_star_rows(path, columns=None):
@@ -96,7 +102,8 @@ def read_star_rows(path, columns=None):
         unknown = []
     if unknown:
         raise InputError(f"stars table {path.name}",
-                         f"unknown columns {unknown}; columns are named like [star] keys (see 'kinage keys star')")
+                         f"unknown columns ({_shown(unknown)}); columns are named like [star] keys (see 'kinage "
+                         "keys star')")
     if len(tab) == 0:
         raise InputError(f"stars table {path.name}", "the table has no rows (one row per star)")
     _check_column_units(tab, path.name)
@@ -173,8 +180,11 @@ def load_template(path):
     path = Path(path)
     if not path.is_file():
         raise InputError("--scenario", f"template file not found: {path}")
+    from ..io.readonce import read_input
+
+    data = read_input(path, f"template {path.name}")  # read once; the hash of these bytes is recorded
     try:
-        raw = tomllib.loads(path.read_text(encoding="utf-8-sig"))  # a byte-order mark is dropped
+        raw = tomllib.loads(data.decode("utf-8-sig"))  # a byte-order mark is dropped
     except (tomllib.TOMLDecodeError, UnicodeDecodeError) as exc:
         raise InputError(f"template {path.name}", f"not valid TOML ({exc})") from None
     return raw, path.parent.resolve()
@@ -200,20 +210,30 @@ def star_seed(batch_seed, name):
     return int(np.random.SeedSequence([int(batch_seed), *words]).generate_state(1)[0])
 
 
-def star_input_hash(row, template_raw, base_dir, seed, samples):
-    """SHA-256 over everything a star's result depends on.
-
-    The row, the template, the files the template names (by content), the
-    seed, the sample override and the kinage version.
-    """
-    from .._version import __version__
+def template_file_hashes(template_raw, base_dir):
+    """``{value: SHA-256}`` of the files a template names (the bytes already read when there were, else read now)."""
+    from ..io.readonce import recorded_sha256
 
     files = {}
     for table in template_raw.values():
         if isinstance(table, dict):
             for v in table.values():
                 if isinstance(v, str) and (Path(base_dir) / v).is_file():
-                    files[v] = file_sha256(Path(base_dir) / v)
+                    files[v] = recorded_sha256(Path(base_dir) / v) or file_sha256(Path(base_dir) / v)
+    return files
+
+
+def star_input_hash(row, template_raw, base_dir, seed, samples, files=None):
+    """SHA-256 over everything a star's result depends on.
+
+    The row, the template, the files the template names (by content: ``files``
+    from :func:`template_file_hashes`, computed here when not given), the
+    seed, the sample override and the kinage version.
+    """
+    from .._version import __version__
+
+    if files is None:
+        files = template_file_hashes(template_raw, base_dir)
     blob = json.dumps({"row": row, "template": template_raw, "files": files, "seed": seed, "samples": samples,
                        "version": __version__}, sort_keys=True, default=str)
     return hashlib.sha256(blob.encode("utf-8")).hexdigest()

@@ -10,14 +10,23 @@ from ..io.results import atomic_path, provenance, write_json
 __all__ = ["collect_records", "summary_table", "write_summary", "plot_population", "COLUMNS"]
 
 
-def collect_records(out_dir):
-    """All per-star records found under ``out_dir/stars``, sorted by name."""
+def collect_records(out_dir, expected=None):
+    """The per-star records found under ``out_dir/stars``, sorted by name.
+
+    ``expected`` (``{name: input hash}``) keeps only the stars of one batch
+    with those inputs: a folder reused with a smaller or changed star table
+    never mixes earlier stars into the summary.
+    """
     recs = []
     for f in sorted(Path(out_dir, "stars").glob("*/star.json")):
         try:
-            recs.append(json.loads(f.read_text()))
+            rec = json.loads(f.read_text())
         except (OSError, ValueError):
             continue
+        if expected is not None and (not isinstance(rec, dict) or expected.get(rec.get("name")) is None
+                                     or expected.get(rec.get("name")) != rec.get("input_hash")):
+            continue
+        recs.append(rec)
     return sorted(recs, key=lambda r: r["name"])
 
 
@@ -181,10 +190,13 @@ def _population_figure(table, path):
         return save_figure(plot_population(table), path)
 
 
-def write_summary(out_dir, seed=None, timing=None, figures=True):
-    """Write ``summary.ecsv``, ``population.png`` (unless ``figures`` is False) and ``batch.json`` into ``out_dir``."""
+def write_summary(out_dir, seed=None, timing=None, figures=True, expected=None):
+    """Write ``summary.ecsv``, ``population.png`` (unless ``figures`` is False) and ``batch.json`` into ``out_dir``.
+
+    ``expected`` (``{name: input hash}``): list only these stars (see :func:`collect_records`).
+    """
     out_dir = Path(out_dir)
-    records = collect_records(out_dir)
+    records = collect_records(out_dir, expected)
     table = summary_table(records)
     with atomic_path(out_dir / "summary.ecsv") as tmp:
         table.write(tmp, format="ascii.ecsv", overwrite=True)

@@ -75,7 +75,7 @@ FRESH_MIN = 50
 #: source: after a collapse of the weights the updated posterior is much narrower than today's, so its kernel
 #: averages need fewer draws; this keeps a precise campaign's forecast within a few traces' time)
 FRESH_BUDGET = 8.0
-#: a hypothesis "settles" the birthplace when its probability reaches this (the issue's definition)
+#: a hypothesis "settles" the birthplace when its probability reaches this (the decisive-probability definition of the forecast's JSON)
 DECISIVE = 0.9
 
 

@@ -10,7 +10,7 @@ __all__ = ["BirthplaceForecast", "hypothesis_rows"]
 
 
 def hypothesis_rows(names, p_now, probs):
-    """One dict per hypothesis (associations, then "field") with the issue's keys."""
+    """One dict per hypothesis (associations, then "field") with the keys of forecast.birthplace.hypotheses."""
     rows = []
     for k, name in enumerate(list(names) + ["field"]):
         col = probs[:, k]

@@ -31,9 +31,11 @@ def atomic_path(path):
             os.fsync(fh.fileno())
         os.chmod(tmp, 0o666 & ~_umask())  # mkstemp makes 0600; results get the usual permissions
         os.replace(tmp, path)
-    except BaseException:
+    except BaseException as exc:
         with contextlib.suppress(FileNotFoundError):
             os.unlink(tmp)
+        if isinstance(exc, OSError) and exc.filename is None:
+            exc.filename = str(path)  # a full disk names the file (and so the folder) it hit
         raise
 
 

@@ -11,7 +11,8 @@ import os
 
 from ..errors import InputError
 
-__all__ = ["memory_limit_bytes", "trace_memory_bytes", "trace_seconds", "check_resources", "check_samples",
+__all__ = ["memory_limit_bytes", "cgroup_memory_bytes", "host_memory_bytes", "fit_memory_bytes", "max_toa_rows",
+           "trace_memory_bytes", "trace_seconds", "check_resources", "check_samples",
            "MAX_TRACE_MINUTES"]
 
 #: longest tracing run (estimated) a scenario may ask for
@@ -24,19 +25,75 @@ _S_PER_ORBIT_MYR = 1.0e-6
 _BYTES_PER_POINT = 6 * 8 * 4  # 6 phase-space floats, float64, ~4 working copies (integration, frames, search)
 
 
+#: cgroup files holding a container's memory limit (cgroup v2, then v1)
+CGROUP_MEMORY_FILES = ("/sys/fs/cgroup/memory.max", "/sys/fs/cgroup/memory/memory.limit_in_bytes")
+
+
+def cgroup_memory_bytes(files=None):
+    """The container's memory limit from its cgroup, bytes (None when there is none: 'max' or absurdly large).
+
+    ``files``: the cgroup files to read (default :data:`CGROUP_MEMORY_FILES`).
+    """
+    for f in (CGROUP_MEMORY_FILES if files is None else files):
+        try:
+            with open(f, encoding="ascii") as fh:
+                text = fh.read().strip()
+        except (OSError, UnicodeDecodeError):
+            continue
+        if text.isdigit() and 0 < int(text) < 2**60:  # cgroup v1 writes ~2**63 for "no limit"
+            return float(text)
+    return None
+
+
+def host_memory_bytes():
+    """The machine's RAM, bytes."""
+    try:
+        return float(os.sysconf("SC_PAGE_SIZE") * os.sysconf("SC_PHYS_PAGES"))
+    except (ValueError, OSError, AttributeError):  # pragma: no cover - not POSIX
+        return 8e9
+
+
 def memory_limit_bytes():
-    """Memory a run may plan to use: half the machine's RAM, at most 16 GB (``KINAGE_MAX_MEMORY_GB`` overrides)."""
+    """Memory a run may plan to use: half of the smaller of the machine's RAM and the container's cgroup limit,
+    at most 16 GB (``KINAGE_MAX_MEMORY_GB`` overrides)."""
     env = os.environ.get("KINAGE_MAX_MEMORY_GB")
     if env:
         try:
             return float(env) * 1e9
         except ValueError:
             pass
-    try:
-        ram = os.sysconf("SC_PAGE_SIZE") * os.sysconf("SC_PHYS_PAGES")
-    except (ValueError, OSError, AttributeError):  # pragma: no cover - not POSIX
-        ram = 8e9
+    ram = host_memory_bytes()
+    cgroup = cgroup_memory_bytes()
+    if cgroup is not None:
+        ram = min(ram, cgroup)
     return min(16e9, 0.5 * ram)
+
+
+def _limit_words():
+    if os.environ.get("KINAGE_MAX_MEMORY_GB"):
+        return "set by KINAGE_MAX_MEMORY_GB"
+    cgroup = cgroup_memory_bytes()
+    if cgroup is not None and cgroup < host_memory_bytes():
+        return "half this container's memory limit, at most 16 GB"
+    return "half this machine's RAM, at most 16 GB"
+
+
+#: peak memory of a timing fit per TOA, bytes: a fit of 6,000,000 TOAs peaked at 8.9 GB in the project's fault
+#: trial (2026-12), i.e. ~1.5 kB per TOA (times in double-double, observer geometry, design matrix, residuals)
+FIT_BYTES_PER_TOA = 1500
+
+
+def fit_memory_bytes(n_toas):
+    """Estimated peak memory of fitting ``n_toas`` TOAs, bytes."""
+    return int(n_toas) * FIT_BYTES_PER_TOA
+
+
+def max_toa_rows():
+    """Most TOAs a fit may read within :func:`memory_limit_bytes`; returns ``(rows, reason in words)``."""
+    limit = memory_limit_bytes()
+    rows = int(limit // FIT_BYTES_PER_TOA)
+    return rows, (f"a fit needs about {FIT_BYTES_PER_TOA / 1e3:g} kB per TOA and the memory limit is "
+                  f"{limit / 1e9:.3g} GB, {_limit_words()}")
 
 
 def trace_memory_bytes(samples, chunk_size, time_steps, n_associations, association_samples):
@@ -82,7 +139,7 @@ def check_resources(scenario, samples=None, n_associations=None, samples_name="-
                          f"the tracing would need about {mem / 1e9:.3g} GB (min(samples, chunk_size) = "
                          f"{min(n, chunk):,} star draws and {n_assoc} x {a_samples:,} association "
                          f"draws on {steps:,} time steps), above the memory limit of {limit / 1e9:.3g} GB "
-                         "(half this machine's RAM, at most 16 GB); lower time_steps, chunk_size or "
+                         f"({_limit_words()}); lower time_steps, chunk_size or "
                          "association_samples")
     orbits = n * (1 + controls) + n_assoc * a_samples
     max_age = float(t.max_age.to_value("Myr"))

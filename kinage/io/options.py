@@ -12,7 +12,7 @@ import re
 from ..errors import InputError
 from .paths import check_input_file, check_output_dir, check_output_file
 
-__all__ = ["check_arguments", "check_scheduler_address", "max_workers", "SCHEDULER_SCHEMES"]
+__all__ = ["check_arguments", "check_outputs_not_inputs", "check_scheduler_address", "max_workers", "SCHEDULER_SCHEMES"]
 
 #: address schemes dask distributed understands
 SCHEDULER_SCHEMES = ("tcp", "tls", "inproc", "ucx", "ws", "wss")
@@ -92,6 +92,24 @@ def _no_overwrite(args):
         if value is not None and os.path.realpath(value) in inputs:
             raise InputError(name, f"{value} is also the input {inputs[os.path.realpath(value)]}; writing there "
                                    "would destroy it")
+
+
+def check_outputs_not_inputs(args, inputs):
+    """``--json`` and ``--output`` must not be any of ``inputs`` (``{name: path}``), links resolved.
+
+    The files a scenario names (association table, TOA table, pulse shape) are
+    only known once it is read, so the verbs call this after reading it.
+    """
+    from .ownership import same_file
+
+    for attr, name in (("json", "--json"), ("output", "--output")):
+        value = getattr(args, attr, None)
+        if value is None:
+            continue
+        for what, path in inputs.items():
+            if path is not None and same_file(value, path):
+                raise InputError(name, f"{value} is also the input {what} ({path}); writing there would destroy "
+                                       "it: choose another file name")
 
 
 _HOST = re.compile(r"^(\[[0-9A-Fa-f:.]+\]|[A-Za-z0-9]([A-Za-z0-9.-]{0,251}[A-Za-z0-9])?)$")

@@ -82,6 +82,13 @@ def parse_quantity(value, unit, where, *, allow_array=False):
     if allow_array and isinstance(value, (list, tuple)):
         parts = [parse_quantity(v, unit, f"{where}[{i}]") for i, v in enumerate(value)]
         return u.Quantity(parts)
+    if not allow_array and getattr(value, "shape", None) is not None and getattr(value, "size", 0) == 1 \
+            and getattr(value, "ndim", 0) > 0 and not isinstance(value, str):
+        value = value.reshape(())  # a one-element array ([1.9] mas) is the single value it holds
+        value = value if isinstance(value, u.Quantity) else value[()]
+    if hasattr(value, "dtype") and not isinstance(value, u.Quantity) and getattr(value, "ndim", 1) == 0 \
+            and value.dtype.kind in "iuf":
+        value = float(value)  # numpy scalars (float32, int64, ...)
     if isinstance(value, u.Quantity):
         q = value
     elif isinstance(value, (int, float)):

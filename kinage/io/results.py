@@ -137,13 +137,20 @@ def provenance(*, scenario=None, seed=None, parameter_sets=(), input_files=(), c
         up to :data:`MAX_RECORDED_ROWS` rows, the rows themselves, so a notebook run
         can be reproduced from its outputs).
     """
+    from .readonce import recorded_sha256
     from .scenario import file_sha256
 
     files = list(scenario.input_files()) if scenario is not None else []
     files += [Path(f) for f in input_files]
     hashes = {}
-    for f in files:
-        if f is not None and Path(f).is_file():
+    for f in files:  # the hash of the bytes the run read, not of what the file holds now
+        if f is None:
+            continue
+        if scenario is not None and getattr(scenario, "sha256", None) and f == scenario.path:
+            hashes[str(f)] = scenario.sha256
+        elif recorded_sha256(f) is not None:
+            hashes[str(f)] = recorded_sha256(f)
+        elif Path(f).is_file():
             hashes[str(f)] = file_sha256(f)
     tables = {}
     if scenario is not None and hasattr(scenario, "input_tables"):

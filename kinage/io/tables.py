@@ -63,7 +63,7 @@ def sniff_format(data, name=""):
     return _EXTENSIONS.get(suffix, "csv")
 
 
-def read_table(path, where):
+def read_table(path, where, *, max_rows=None, what="rows"):
     """Read a table file once; return it with the SHA-256 of the bytes read.
 
     Parameters
@@ -71,31 +71,38 @@ def read_table(path, where):
     path : str or Path
     where : str
         Key or option that named the file, for messages.
+    max_rows : int, optional
+        Most rows accepted; a text table is refused while it is read (before parsing), a FITS or VOTable
+        file after parsing.
+    what : str
+        Word for the rows in messages.
 
     Returns
     -------
     table : astropy.table.Table
     sha256 : str
+        Of exactly the bytes parsed (also recorded for the run's provenance, :mod:`kinage.io.readonce`).
     fmt : str
         The format used (a key of :data:`FORMATS`).
 
     Raises
     ------
     InputError
-        File missing or not readable as its format (one line naming the file).
+        File missing or not readable as its format, or too many rows (one line naming the file).
     """
     from astropy.table import Table
 
+    from .readonce import parse_problem, read_input, recorded_sha256
+
     path = Path(path)
-    try:
-        data = path.read_bytes()
-    except FileNotFoundError:
-        raise InputError(where, f"file not found: {path}") from None
-    except IsADirectoryError:
-        raise InputError(where, f"expected a file, found a folder: {path}") from None
-    except OSError as exc:
-        raise InputError(where, f"cannot read {path} ({exc.strerror or exc})") from None
-    fmt = sniff_format(data, path.name)
+    if path.is_dir():
+        raise InputError(where, f"expected a file, found a folder: {path}")
+    if not path.exists():
+        raise InputError(where, f"file not found: {path}")
+    with open(path, "rb") as fh:
+        head = fh.read(2880)
+    fmt = sniff_format(head, path.name)
+    data = read_input(path, where, max_rows=max_rows if fmt in ("ecsv", "csv") else None, what=what)
     try:
         if fmt in ("fits", "votable"):
             import warnings
@@ -111,8 +118,10 @@ def read_table(path, where):
     except UnicodeDecodeError:
         raise InputError(where, f"{path.name} is not a text table (ECSV/CSV) nor FITS or VOTable") from None
     except Exception as exc:  # noqa: BLE001 - any reader failure is an input problem
-        raise InputError(where, f"could not read {path.name} as {fmt.upper()} ({_short(exc)})") from None
-    return table, hashlib.sha256(data).hexdigest(), fmt
+        raise InputError(where, f"could not read {path.name} as {fmt.upper()} ({parse_problem(exc)})") from None
+    if max_rows is not None and len(table) > max_rows:
+        raise InputError(where, f"{len(table):,} rows, above the limit of {max_rows:,} {what}")
+    return table, recorded_sha256(path) or hashlib.sha256(data).hexdigest(), fmt
 
 
 def _short(exc):
@@ -231,8 +240,9 @@ def missing_column_problem(name, colnames, synonyms=(), map_key=None):
     if guess is None:
         near = nearest_columns(name, colnames)
         guess = near[0] if near else None
-    shown = ", ".join(f"'{c}'" for c in list(colnames)[:30]) + (" ..." if len(colnames) > 30 else "")
-    text = f"missing column '{name}'; the file has {shown}"
+    from .readonce import shown_columns
+
+    text = f"missing column '{name}'; the file has columns {shown_columns(colnames, limit=30)}"
     if guess is not None:
         text += f"; nearest: '{guess}'"
         if map_key:

@@ -150,8 +150,13 @@ def run_draws(pos_all, vel_all, times, pset, assoc, adraws, *, tolerance, method
         else:
             with ThreadPoolExecutor(max_workers=cores) as pool:
                 futures = [pool.submit(_one_chunk, a, b, *args, omp_threads=1) for a, b in bounds]
-                for f in futures:  # in order, so births stay sorted by draw
-                    collect(f.result())
+                try:
+                    for f in futures:  # in order, so births stay sorted by draw
+                        collect(f.result())
+                except BaseException:  # Ctrl-C (galpy raises it in a chunk): the queued chunks never start
+                    for f in futures:
+                        f.cancel()
+                    raise
     for j in range(na):
         parts = [bd[j] for _, bd in sorted(births, key=lambda x: x[0]) if j in bd]
         if parts:

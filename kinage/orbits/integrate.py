@@ -25,7 +25,7 @@ import warnings
 
 import numpy as np
 
-from .._galpy import import_galpy
+from .._galpy import import_galpy, sigint_preserved
 from ..errors import InputError
 from .frames import KMS_TO_PCMYR
 
@@ -244,6 +244,12 @@ def set_thread_integrator_cores(n):
 
 
 def _integrate_rows(vxvv, t_nat, pot, method, ro, vo, quiet=True, **kw):
+    """galpy's integration of ``vxvv``, with the process's SIGINT handler kept (see ``_galpy.sigint_preserved``)."""
+    with sigint_preserved():
+        return _integrate_rows_galpy(vxvv, t_nat, pot, method, ro, vo, quiet=quiet, **kw)
+
+
+def _integrate_rows_galpy(vxvv, t_nat, pot, method, ro, vo, quiet=True, **kw):
     from galpy.orbit import Orbit
 
     if not quiet:  # the caller silences warnings (warning filters are not thread-safe)

@@ -73,33 +73,43 @@ def read_toas(path):
         ``mjd`` as a Time column (TDB, format mjd), ``error`` (Quantity, s),
         ``exposure`` (Quantity, s) when present; meta ``time_scale='tdb'``.
     """
+    from ..io.limits import max_toa_rows
+    from ..io.readonce import read_input, table_source
+
     path = Path(path)
     where = str(path)
     if not path.is_file():
         raise InputError(where, "TOA file not found")
+    # read once, rows counted while reading against the memory a fit of that many TOAs needs; hash recorded
+    rows_cap, why = max_toa_rows()
+    data = read_input(path, where, max_rows=rows_cap, what=f"TOAs ({why})")
     try:
         if path.suffix.lower() == ".ecsv":
-            tab = Table.read(path, format="ascii.ecsv")
+            tab = Table.read(table_source(data), format="ascii.ecsv")
         else:
             from astropy.io import ascii
 
-            tab = Table.read(path, format="ascii.csv",
+            tab = Table.read(table_source(data), format="ascii.csv",
                              converters={"mjd": [ascii.convert_numpy(str)]})
     except InputError:
         raise
     except Exception as exc:  # noqa: BLE001 - any parse failure is an input problem
         if path.suffix.lower() == ".ecsv":
-            _locate_ecsv_problem(path, where)  # a row and column when the data lines show one
-        raise InputError(where, f"could not read the TOA table ({exc})") from None
+            _locate_ecsv_problem(data, where)  # a row and column when the data lines show one
+        from ..io.readonce import parse_problem
+
+        raise InputError(where, f"could not read the TOA table ({parse_problem(exc)})") from None
     return validate_toas(tab, where)
 
 
-def _locate_ecsv_problem(path, where):
+def _locate_ecsv_problem(data, where):
     """An ECSV table astropy cannot build (e.g. an 'mjd' Time column with 'nan', text or no rows): its data
     lines read as plain text and validated, so that the InputError names the row and column; returns
     quietly when they show nothing."""
+    from ..io.readonce import table_source
+
     try:
-        plain = Table.read(path, format="ascii.basic", guess=False)
+        plain = Table.read(table_source(data), format="ascii.basic", guess=False)
     except Exception:  # noqa: BLE001 - no better message to give
         return
     plain.meta = {}
@@ -110,7 +120,9 @@ def validate_toas(tab, where="TOA table"):
     """Validate a TOA table and return it in canonical form (see :func:`read_toas`)."""
     for col in ("mjd", "error"):
         if col not in tab.colnames:
-            raise InputError(where, f"missing column '{col}' (columns found: {', '.join(tab.colnames) or 'none'})")
+            from ..io.readonce import shown_columns
+
+            raise InputError(where, f"missing column '{col}' (columns found: {shown_columns(tab.colnames)})")
     if len(tab) == 0:
         raise InputError(where, "the table has no rows")
     scale = str(tab.meta.get("time_scale", "tdb")).lower()

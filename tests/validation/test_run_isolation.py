@@ -34,6 +34,11 @@ def test_completed_run_replaces_previous_results_as_a_whole(tmp_path, capsys):
     assert status == 0, err
     (out / "forecast").mkdir()
     (out / "forecast" / "stale_from_old_run.png").write_bytes(b"old")
+    from kinage.io.ownership import manifest_entries, read_manifest, write_manifest
+
+    # as if the earlier run had written it: listed in the folder's manifest
+    stale = out / "forecast" / "stale_from_old_run.png"
+    write_manifest(out, {**read_manifest(out), **manifest_entries(out, "run", [stale])})
     status, _, err = run_cli(["run", _star_only(tmp_path), "--out", out, "--quiet"], capsys)
     assert status == 0, err
     assert not (out / "forecast").exists()
@@ -92,7 +97,7 @@ def test_foreign_folder_is_not_replaced(tmp_path, capsys):
     out.mkdir()
     (out / "notes.txt").write_text("my notes\n")
     status, _, err = run_cli(["run", _forecast_only(tmp_path), "--out", out], capsys)
-    assert_one_line_error(status, err, "--out", "not an earlier kinage run")
+    assert_one_line_error(status, err, "--out", "holds files kinage did not write: notes.txt", "--force")
     assert files_under(out) == ["notes.txt"]
 
 
