@@ -284,11 +284,11 @@ _RANGES = {
         "max_baseline": dict(upper=200, reason="a baseline search beyond two centuries"),
         "barycentred_ra": dict(upper_open=True, reason="right ascension is an angle in [0, 360) deg"),
         # bare numbers ambiguous between s and ks (exposures) or s and us (TOA errors): a unit is required
-        "exposure": dict(upper=3.15576e7, reason="an exposure per visit longer than a year", example="40 ks"),
+        "exposure": dict(upper=3.15576e7, reason="an exposure per visit longer than a year"),
         "toa_error": dict(lower=1e-9, upper=86400,
                           reason="no pulse arrival time is measured to better than ~10 ns (times are kept to "
-                                 "~1 ns), and a TOA error longer than a day cannot time a pulse", example="0.4 us"),
-        "added_error": dict(upper=86400, reason="white noise longer than a day", example="0.2 us"),
+                                 "~1 ns), and a TOA error longer than a day cannot time a pulse"),
+        "added_error": dict(upper=86400, reason="white noise longer than a day"),
     },
     "trace": {
         "samples": dict(upper=1_000_000, reason="memory and run time grow with the draws (1e6 draws peak at "

@@ -117,7 +117,8 @@ def test_sigint_after_the_integration_stops_the_run_and_keeps_previous_results(t
 @pytest.mark.slow
 def test_one_ctrl_c_during_a_long_trace_stops_it(tmp_path):
     scn = write_case(tmp_path / "in", scenario_dict(tables=("trace",), trace={
-        "samples": 4000, "control_runs": 2, "max_age": "400 Myr", "association_samples": 100}))
+        "samples": 40000, "max_samples": 40000, "control_runs": 2, "max_age": "400 Myr",
+        "association_samples": 100}))
     out = tmp_path / "out"
     proc = subprocess.Popen([sys.executable, "-m", "kinage", "run", str(scn), "--out", str(out), "--quiet"],
                             stdout=subprocess.PIPE, stderr=subprocess.PIPE, text=True,

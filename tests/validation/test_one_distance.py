@@ -78,11 +78,11 @@ def test_bad_distance_errors_stop_the_run(tmp_path, capsys, star, key):
 
 @pytest.mark.parametrize("table, key, value", [
     ("ages", "kinematic_age", 1.2), ("ages", "kinematic_age", "1.2"), ("ages", "hall_timescale", 1e4),
-    ("campaign", "exposure", 30000), ("campaign", "toa_error", 0.4),
+    ("ages", "ohmic_timescale", 3e5),
 ])
 def test_bare_numbers_for_ambiguous_durations_ask_for_a_unit(tmp_path, capsys, table, key, value):
-    # 1.2 read as 1.2 yr made a star "younger by a factor 1,900,000": a bare number for an age, timescale,
-    # exposure or TOA error is refused with an example carrying a unit
+    # 1.2 read as 1.2 yr made a star "younger by a factor 1,900,000": a bare number for an age or a timescale
+    # is refused with an example carrying a unit (exposures and TOA errors stay in SI seconds)
     extra = {"kinematic_age_error": "0.1 Myr"} if key == "kinematic_age" else {}
     raw = scenario_dict(**{table: {key: value, **extra}})
     status, err, out = _run(tmp_path, capsys, raw, verb="ages" if table == "ages" else "forecast")
@@ -117,3 +117,12 @@ def test_forecast_expects_the_motion_at_the_posterior_distance():
     median = scenario_distance_posterior(scn, AstrometricSolution.from_star(scn.star)).summary()["median"]
     assert exp.distance_pc == pytest.approx(median, rel=1e-12)
     assert exp.pm_masyr == pytest.approx(exp.transverse_velocity_kms / (4.740470463533348 * median / 1000), rel=1e-6)
+
+
+def test_bare_exposure_and_toa_error_are_seconds():
+    # the documented default unit of both is the SI second (kinage keys); a bare number keeps that meaning
+    from kinage import scenario_from_dict
+
+    raw = scenario_dict(tables=("campaign",), campaign={"exposure": 30000, "toa_error": 0.004})
+    c = scenario_from_dict(raw).campaign
+    assert c.value("exposure", "ks") == pytest.approx(30.0) and c.value("toa_error", "ms") == pytest.approx(4.0)
