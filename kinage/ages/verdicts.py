@@ -291,6 +291,32 @@ def _relation(v, name, age_text):
             f"is {format_factor(r)}× above the {name} ({age_text})")
 
 
+def _cooling_relation(v, age_yr, envelopes, model):
+    """The cooling clause of the verdict line, envelope by envelope when there are several.
+
+    The envelopes' cooling ages differ by more than their errors, so one pooled age would be predicted by
+    none of them: the line names the envelopes that reconcile the ages, or gives the range of factors.
+    """
+    envs = [e for e in envelopes or [] if e.get("median")]
+    if len(envs) < 2 or not v or v.get("consistent") is None or not age_yr:
+        return None
+    ok = v.get("reconciling_envelopes") or []
+    if ok:
+        names = " and ".join(str(n) for n in ok)
+        return f"agrees with the cooling age for the {names} envelope{'s' if len(ok) > 1 else ''}"
+    meds = [e["median"] for e in envs]
+    lo_t, hi_t = format_age(min(meds), 2), format_age(max(meds), 2)
+    if lo_t.split()[-1] == hi_t.split()[-1]:
+        lo_t = lo_t.split()[0]  # '92-160 kyr'
+    ratios = [age_yr / m for m in meds]
+    span = f"cooling ages ({lo_t}-{hi_t} by envelope{', ' + model if model else ''})"
+    if min(ratios) > 1:
+        return f"is {format_factor(min(ratios))}-{format_factor(max(ratios))}× above the {span}"
+    if max(ratios) < 1:
+        return f"is {format_factor(1 / max(ratios))}-{format_factor(1 / min(ratios))}× below the {span}"
+    return f"lies between the {span}"
+
+
 def ages_verdict(d):
     """One quotable sentence (at most ~25 words): do the ages agree, by what factor, on which model.
 
@@ -316,16 +342,19 @@ def ages_verdict(d):
         tc_name, tc_text = "characteristic age", format_age_interval(dict(unc.get("characteristic_age_yr") or {},
                                                                          median=tc), bare=True) if tc else "n/a"
     model = (d.get("cooling") or {}).get("model")
+    envelopes = (d.get("cooling") or {}).get("per_envelope")
     cool_text = format_age_interval(cool, bare=True) + (f", {model} model" if model else "")
     plane = d.get("kinematic_age_source") == PLANE_CROSSING_SOURCE
     kin_label = "time since the Galactic-plane crossing" if plane else "kinematic age"
     if kin.get("median") is not None:
         subject = f"The {kin_label} ({format_age_interval(kin, bare=True)})"
         clauses = [_relation(pairs.get("kinematic-characteristic"), tc_name, tc_text),
-                   _relation(pairs.get("kinematic-cooling"), "cooling age", cool_text)]
+                   _cooling_relation(pairs.get("kinematic-cooling"), kin.get("median"), envelopes, model)
+                   or _relation(pairs.get("kinematic-cooling"), "cooling age", cool_text)]
     elif tc is not None or lower is not None:
         subject = f"The {tc_name} ({tc_text})" if lower is None else "The characteristic age"
-        clauses = [_relation(pairs.get("characteristic-cooling"), "cooling age", cool_text)]
+        clauses = [_cooling_relation(pairs.get("characteristic-cooling"), tc, envelopes, model)
+                   or _relation(pairs.get("characteristic-cooling"), "cooling age", cool_text)]
     else:
         subject, clauses = None, []
     clauses = [c for c in clauses if c]

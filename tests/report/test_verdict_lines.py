@@ -77,3 +77,20 @@ def test_ages_line_names_what_would_explain_a_young_kinematic_age():
     assert line == ("The kinematic age (870 kyr) is 2.1× below the characteristic age (1.85 Myr); field decay or an "
                     "initial period of 0.340 s would explain it.")
     assert len(line.split()) <= 25
+
+
+def test_ages_line_compares_with_each_envelope_not_a_pooled_cooling_age():
+    # envelopes whose cooling ages differ by more than their errors are named one by one (Potekhin, Chabrier &
+    # Yakovlev 1997 relate iron and accreted envelopes; the line never quotes a pool none of them predicts)
+    from kinage.ages.verdicts import ages_verdict
+
+    env = [{"envelope": "iron", "median": 1.6e5, "lo68": 1.2e5, "hi68": 2.0e5},
+           {"envelope": "accreted", "median": 9.2e4, "lo68": 8.5e4, "hi68": 1.0e5}]
+    d = {"kinematic_age_yr": {"median": 7.6e5, "lo68": 7.1e5, "hi68": 8.0e5},
+         "cooling_age_yr": {"median": 9.5e4, "lo68": 8.8e4, "hi68": 1.4e5},
+         "cooling": {"model": "npe-SLy", "per_envelope": env},
+         "verdicts": [{"pair": "kinematic-cooling", "consistent": False, "ratio": 8.0, "reconciling_envelopes": []}]}
+    line = ages_verdict(d)
+    assert "4.8-8.3× above the cooling ages (92-160 kyr by envelope" in line and "95 kyr" not in line
+    d["verdicts"][0].update(consistent=True, reconciling_envelopes=["iron"])
+    assert "agrees with the cooling age for the iron envelope" in ages_verdict(d)
