@@ -14,7 +14,6 @@ Folders written by kinage 0.2 hold no manifest, only the marker file
 count as its own and everything else as foreign.
 """
 
-import hashlib
 import json
 import os
 from pathlib import Path
@@ -34,11 +33,9 @@ _LEGACY_RUN_NAMES = {"results.json", "report.html", "report.md", "forecast", "fi
 
 
 def _sha256(path):
-    h = hashlib.sha256()
-    with open(path, "rb") as fh:
-        for block in iter(lambda: fh.read(1 << 20), b""):
-            h.update(block)
-    return h.hexdigest()
+    from .readonce import file_sha256
+
+    return file_sha256(path)
 
 
 def read_manifest(folder):

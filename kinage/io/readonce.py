@@ -16,12 +16,21 @@ import threading
 
 from ..errors import InputError
 
-__all__ = ["read_input", "recorded_sha256", "record_sha256", "table_source", "shown_columns", "parse_problem"]
+__all__ = ["file_sha256", "read_input", "recorded_sha256", "record_sha256", "table_source", "shown_columns", "parse_problem"]
 
 _BLOCK = 1 << 20
 _LOCK = threading.Lock()
 #: real path -> SHA-256 of the bytes this process last read from it
 _HASHES = {}
+
+
+def file_sha256(path):
+    """SHA-256 hex digest of a file's bytes (read in blocks, not kept)."""
+    h = hashlib.sha256()
+    with open(path, "rb") as fh:
+        for block in iter(lambda: fh.read(_BLOCK), b""):
+            h.update(block)
+    return h.hexdigest()
 
 
 def record_sha256(path, digest):

@@ -24,6 +24,7 @@ from pathlib import Path
 import astropy.units as u
 
 from ..errors import InputError, ScenarioError
+from .readonce import file_sha256  # noqa: F401 (re-exported: kinage.io.scenario.file_sha256)
 from .quantities import format_quantity, shown
 from .checks import physical_checks as _physical_checks
 from .checks import reference_checks as _reference_checks
@@ -178,14 +179,6 @@ class Scenario:
 
         return replace(self, **changes)
 
-
-def file_sha256(path):
-    """SHA-256 hex digest of a file's bytes."""
-    h = hashlib.sha256()
-    with open(path, "rb") as fh:
-        for block in iter(lambda: fh.read(1 << 20), b""):
-            h.update(block)
-    return h.hexdigest()
 
 
 def load_scenario(path, *, allow_missing=()):
