@@ -39,7 +39,7 @@ import numpy as np
 
 from ..progress import progress_bar
 from .chunks import run_draws
-from .probability import CONTROL_HITS, kernel_sums, posterior_from_sums
+from .probability import CONTROL_HITS, add_sums, kernel_sums, posterior_from_sums
 from .statistics import encounter_mask
 
 __all__ = ["control_draws_needed", "required_control_draws", "probability_control_draws", "FIRST_ROUND",
@@ -119,14 +119,37 @@ def probability_results(ctrl, main, adraws, afailed, cfg):
     (dict, dict)
         :func:`~.probability.posterior_from_sums`'s result and the sums it was made from.
     """
+    scale = cfg.get("neighbourhood_scale", 50.0)
     per_assoc = []
     for j in range(adraws.n_assoc):
-        draws = [tuple(r[k][j].astype(float) if k != "edge" else r[k][j] for k in ("dmin", "tau", "edge"))
-                 + (usable_draws(r, adraws, afailed, j),) for r in (main, ctrl)]
-        per_assoc.append(kernel_sums(draws[0], draws[1], adraws.radius_pc[j], adraws.age_myr[j],
-                                     cfg["tolerance"], cfg.get("neighbourhood_scale", 50.0)))
+        args = (adraws.radius_pc[j], adraws.age_myr[j], cfg["tolerance"], scale)
+        per_assoc.append(add_sums(_cached_sums(main, j, adraws, afailed, args, "main"),
+                                  _cached_sums(ctrl, j, adraws, afailed, args, "control")))
     sums = {k: np.array([a[k] for a in per_assoc]) for k in per_assoc[0]}
     return posterior_from_sums(sums, cfg["field_prior"], cfg.get("neighbourhood_share", 0.0)), sums
+
+
+_NONE = (np.zeros(0), np.zeros(0), np.zeros(0, bool), np.zeros(0, bool))
+
+
+def _cached_sums(results, j, adraws, afailed, args, role):
+    """Kernel sums of association j over ``results``' draws, kept with the results between control rounds.
+
+    Sums add (:func:`~.probability.add_sums`), so draws appended since the last call are summed alone and
+    added: the star draws are summed once per batch and the control draws once each, instead of every
+    round.  ``role``: ``"main"`` (star draws) or ``"control"``.
+    """
+    cache = results.setdefault("_kernel_sums", {})
+    n = results["dmin"].shape[1]
+    done, sums = cache.get((j, args), (0, None))
+    if done < n or sums is None:
+        valid = usable_draws(results, adraws, afailed, j)[done:]
+        part = (results["dmin"][j, done:].astype(float), results["tau"][j, done:].astype(float),
+                results["edge"][j, done:], valid)
+        new = kernel_sums(part, _NONE, *args) if role == "main" else kernel_sums(_NONE, part, *args)
+        sums = new if sums is None else add_sums(sums, new)
+        cache[(j, args)] = (n, sums)
+    return sums
 
 
 def largest_probability_error(res):
@@ -223,6 +246,9 @@ def control_draws_needed(states, run, assoc, adraws, afailed, cfg, n_max, *, pro
         with progress_bar(target - done, desc="control draws", enabled=progress) as bar:
             parts.append(run_draws(cpos, cvel, assoc=assoc, adraws=adraws, bar=bar, offset=done, **run))
         done = target
-        ctrl = _merge(parts) if len(parts) > 1 else parts[0]
+        merged = _merge(parts) if len(parts) > 1 else parts[0]
+        if ctrl is not None and "_kernel_sums" in ctrl:
+            merged["_kernel_sums"] = ctrl["_kernel_sums"]  # sums of the earlier draws, which lead the merged ones
+        ctrl = merged
         target = target_after(ctrl)
     return ctrl

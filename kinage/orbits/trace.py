@@ -238,6 +238,8 @@ def _merge_main(a, b):
     """Star-draw results of two batches as one (``b``'s draws follow ``a``'s; indices are global)."""
     out = {k: np.concatenate([a[k], b[k]], axis=-1) for k in ("dmin", "tau", "edge", "plane")}
     out["failed"] = {**a["failed"], **b["failed"]}
+    if "_kernel_sums" in a:
+        out["_kernel_sums"] = a["_kernel_sums"]  # sums of a's draws, which lead the merged ones
     out["tracks"] = a["tracks"]
     out["birth"] = {}
     for j in sorted(set(a["birth"]) | set(b["birth"])):
