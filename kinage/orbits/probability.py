@@ -447,7 +447,7 @@ def posterior_from_sums(sums, field_prior, neighbourhood_share=0.0):
                 gm, gc = gm[:, :1], gc[:, :2]
                 cov_m, cov_c = cov_m[:1, :1], cov_c[:2, :2]
             var += np.einsum("ia,ab,ib->i", gm, cov_m, gm) + np.einsum("ia,ab,ib->i", gc, cov_c, gc)
-        return np.sqrt(var)
+        return np.sqrt(np.maximum(var, 0.0))  # rounding can leave a tiny negative sum
 
     def perror(x):
         """Error of a probability, never above sqrt(P (1 - P)), the largest standard deviation of a
