@@ -44,7 +44,7 @@ from .statistics import encounter_mask
 
 __all__ = ["control_draws_needed", "required_control_draws", "probability_control_draws", "FIRST_ROUND",
            "MAX_ROUNDS", "usable_draws", "MAX_CONTROL_FACTOR", "MAX_EXTRA_CONTROL_DRAWS", "RELEVANT_PROBABILITY",
-           "probability_control_cap", "probability_results", "largest_probability_error"]
+           "probability_control_cap", "probability_results", "largest_probability_error", "cached_kernel_sums"]
 
 #: control draws of the first round
 FIRST_ROUND = 2000
@@ -123,8 +123,8 @@ def probability_results(ctrl, main, adraws, afailed, cfg):
     per_assoc = []
     for j in range(adraws.n_assoc):
         args = (adraws.radius_pc[j], adraws.age_myr[j], cfg["tolerance"], scale)
-        per_assoc.append(add_sums(_cached_sums(main, j, adraws, afailed, args, "main"),
-                                  _cached_sums(ctrl, j, adraws, afailed, args, "control")))
+        per_assoc.append(add_sums(cached_kernel_sums(main, j, adraws, afailed, args, "main"),
+                                  cached_kernel_sums(ctrl, j, adraws, afailed, args, "control")))
     sums = {k: np.array([a[k] for a in per_assoc]) for k in per_assoc[0]}
     return posterior_from_sums(sums, cfg["field_prior"], cfg.get("neighbourhood_share", 0.0)), sums
 
@@ -132,7 +132,7 @@ def probability_results(ctrl, main, adraws, afailed, cfg):
 _NONE = (np.zeros(0), np.zeros(0), np.zeros(0, bool), np.zeros(0, bool))
 
 
-def _cached_sums(results, j, adraws, afailed, args, role):
+def cached_kernel_sums(results, j, adraws, afailed, args, role):
     """Kernel sums of association j over ``results``' draws, kept with the results between control rounds.
 
     Sums add (:func:`~.probability.add_sums`), so draws appended since the last call are summed alone and

@@ -54,7 +54,7 @@ def _yr(iv):
 
 def summarise_association(name, radius_pc, age_myr, dmin_pc, tau_myr, edge, valid, rv_kms, *, factor,
                           tolerance_myr, control=None, control_runs=0, distance_pc=None,
-                          neighbourhood_scale_pc=DEFAULT_NEIGHBOURHOOD_SCALE_PC):
+                          neighbourhood_scale_pc=DEFAULT_NEIGHBOURHOOD_SCALE_PC, sums=None):
     """Statistics of one association.
 
     Parameters
@@ -75,6 +75,9 @@ def summarise_association(name, radius_pc, age_myr, dmin_pc, tau_myr, edge, vali
         The star's present distance of each draw, pc (for the distance implied by this birthplace).
     neighbourhood_scale_pc : float
         Extent of the association's surroundings, pc (``[trace] neighbourhood_scale``).
+    sums : dict, optional
+        The kernel sums of these star and control draws when already made (:func:`.probability.kernel_sums`
+        of both, e.g. kept by the control rounds); made here otherwise.
 
     Returns
     -------
@@ -127,8 +130,9 @@ def summarise_association(name, radius_pc, age_myr, dmin_pc, tau_myr, edge, vali
         cd, ct, ce, cv = control
         cenc = encounter_mask(cd, ct, ce, cv, radius_pc, age_myr, factor, tolerance_myr)
         # kernel sums and moments for the probabilities (memory O(1), not O(draws))
-        out["_sums"] = kernel_sums((dmin_pc, tau_myr, edge, valid), control, radius_pc, age_myr,
-                                         tolerance_myr, neighbourhood_scale_pc)
+        out["_sums"] = sums if sums is not None else kernel_sums((dmin_pc, tau_myr, edge, valid), control,
+                                                                 radius_pc, age_myr, tolerance_myr,
+                                                                 neighbourhood_scale_pc)
         nc = int(cv.sum())
         kc = int(cenc.sum())
         out["n_control"] = nc

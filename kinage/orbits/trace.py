@@ -29,12 +29,12 @@ from ..kinematics import velocity_prior as make_velocity_prior
 from ..params.registry import galaxy_pair
 from ..progress import progress_bar
 from .chunks import chunk_rows, integrate_associations, run_draws
-from .control import (control_draws_needed, largest_probability_error, probability_control_cap,
-                      probability_results, usable_draws)
+from .control import (cached_kernel_sums, control_draws_needed, largest_probability_error,
+                      probability_control_cap, probability_results, usable_draws)
 from .frames import solar_frame
 from .integrate import integration_cores, time_grid
 from .result import TraceResult
-from .probability import CONTROL_HITS, DEFAULT_FIELD_PRIOR, check_field_prior, check_neighbourhood_share
+from .probability import CONTROL_HITS, DEFAULT_FIELD_PRIOR, add_sums, check_field_prior, check_neighbourhood_share
 from .statistics import rank_associations, summarise_association, verdict
 
 __all__ = ["trace", "CHUNK_BYTES", "DEFAULT_PRECISION", "MAX_SAMPLES_FACTOR"]
@@ -267,11 +267,16 @@ def _summaries(cfg, adraws, afailed, draws, main, ctrl, cores=1):
         if ctrl is not None:
             control = (ctrl["dmin"][j].astype(float), ctrl["tau"][j].astype(float), ctrl["edge"][j],
                        usable_draws(ctrl, adraws, afailed, j))
+        sums = None
+        if ctrl is not None:  # the sums the control rounds kept (only draws not yet summed are added)
+            args = (adraws.radius_pc[j], adraws.age_myr[j], cfg["tolerance"], cfg["neighbourhood_scale"])
+            sums = add_sums(cached_kernel_sums(main, j, adraws, afailed, args, "main"),
+                            cached_kernel_sums(ctrl, j, adraws, afailed, args, "control"))
         s = summarise_association(name, adraws.radius_pc[j], adraws.age_myr[j], main["dmin"][j].astype(float),
                                   main["tau"][j].astype(float), main["edge"][j], valid, draws.radial_velocity,
                                   factor=cfg["factor"], tolerance_myr=cfg["tolerance"], control=control,
                                   control_runs=cfg["control_runs"], distance_pc=draws.distance_pc,
-                                  neighbourhood_scale_pc=cfg["neighbourhood_scale"])
+                                  neighbourhood_scale_pc=cfg["neighbourhood_scale"], sums=sums)
         s["_index"] = j
         return s
 
